@@ -1,0 +1,3 @@
+from assess.cli import main
+
+main()

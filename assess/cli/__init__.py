@@ -1,0 +1,13 @@
+"""Command-line interface: ``assess``. Thin layer over the library.
+
+Each command lives in its own module and registers itself on `app` when
+imported here.
+"""
+
+from assess.cli.app import app  # noqa: F401
+
+# Command modules (import registers their commands).
+
+
+def main():  # console-script entry point
+    app()

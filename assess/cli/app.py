@@ -1,0 +1,75 @@
+"""The Typer application and the guard that turns errors into clean exits.
+
+Command modules import `app` from here and register with ``@app.command()``
+(or add a sub-application with ``app.add_typer``). Every command body runs
+inside `guarded`, so that:
+- `InputError` (bad input) prints a message to stderr and exits 2,
+- `AnalysisError` (analysis failed) prints a message and exits 1,
+and no traceback reaches the engineer.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import functools
+import sys
+
+import typer
+from rich.console import Console
+
+import assess
+from assess.cautions import CAUTION
+from assess.errors import AnalysisError, InputError
+
+app = typer.Typer(
+    name="assess",
+    help=("Reliability assessment of existing reinforced-concrete structures.\n\n"
+          + CAUTION),
+    no_args_is_help=True,
+    pretty_exceptions_enable=False,
+    add_completion=False,
+)
+
+err_console = Console(stderr=True)
+out_console = Console()
+
+
+def _version_callback(value: bool):
+    if value:
+        typer.echo(f"assess {assess.__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def _root(version: bool = typer.Option(False, "--version", callback=_version_callback,
+                                        is_eager=True, help="Print the version and exit.")):
+    """Reliability assessment of existing reinforced-concrete structures."""
+
+
+@contextlib.contextmanager
+def guarded():
+    """Turn known errors into a message on stderr and an exit code (2 input, 1 analysis)."""
+    try:
+        yield
+    except InputError as exc:
+        err_console.print(f"[bold red]Input error:[/] {exc}", highlight=False, soft_wrap=True)
+        raise typer.Exit(code=2)
+    except AnalysisError as exc:
+        err_console.print(f"[bold red]Analysis failed:[/] {exc}", highlight=False, soft_wrap=True)
+        raise typer.Exit(code=1)
+
+
+def guard(func):
+    """Decorator form of `guarded` for command functions."""
+
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        with guarded():
+            return func(*args, **kwargs)
+
+    return wrapper
+
+
+def print_caution():
+    """Print the standing caution to stderr (results stay clean on stdout)."""
+    err_console.print(f"[dim]{CAUTION}[/]", highlight=False, soft_wrap=True)
