@@ -1,0 +1,198 @@
+"""Priors for actions on car-park decks: self-weight, superimposed dead, imposed load."""
+
+from __future__ import annotations
+
+import math
+import warnings
+
+from assess.errors import InputError
+from assess.priors.distribution import EULER_GAMMA, Prior
+from assess.priors.geometry import dimension_deviation
+
+#: Unit weight of normal-weight reinforced concrete [kN/m3]: EN 1991-1-1 Annex A,
+#: 24 kN/m3 plain + 1 kN/m3 for normal reinforcement (from memory).
+UNIT_WEIGHT_RC = 25.0
+
+#: CoV of the weight density of normal-weight concrete [-] (JCSS PMC Part 2.1
+#: self-weight; value 0.04 from memory).
+UNIT_WEIGHT_COV = 0.04
+
+#: Imposed-load categories for traffic areas (EN 1991-1-1:2002 Table 6.8, from
+#: memory): ranges of the characteristic distributed load q_k [kN/m2] and axle/point
+#: load Q_k [kN]; the National Annex fixes the value within the range.
+IMPOSED_LOAD_CATEGORIES = {
+    "F": {"q_k_range": (1.5, 2.5), "Q_k_range": (10.0, 20.0),
+          "description": "traffic and parking areas, vehicles <= 30 kN gross weight",
+          "source": "EN 1991-1-1:2002 Table 6.8 (from memory)"},
+    "G": {"q_k_range": (5.0, 5.0), "Q_k_range": (40.0, 90.0),
+          "description": "traffic and parking areas, vehicles 30-160 kN gross weight",
+          "source": "EN 1991-1-1:2002 Table 6.8 (from memory)"},
+}
+
+#: Probabilistic imposed-load models, in terms of the characteristic value q_k.
+#: Each: Gumbel maximum over ``period_years`` with mean ``mean_ratio * q_k`` and the
+#: given CoV. Override by passing mean_ratio / cov / model_period_years.
+IMPOSED_LOAD_MODELS = {
+    "eurocode_calibration": {
+        "mean_ratio": 0.6, "cov": 0.35, "period_years": 50.0,
+        "source": ("50-year maximum imposed load used in Eurocode calibration studies: Gumbel, "
+                   "mean 0.6 q_k, CoV 0.35 (Gulvanessian, Calgaro & Holicky 2002, Designers' "
+                   "Guide to EN 1990; Holicky 2009) (from memory)"),
+    },
+}
+
+
+def self_weight_prior(thickness_mm: float, unit_weight_kn_m3: float = UNIT_WEIGHT_RC, *,
+                      unit_weight_cov: float = UNIT_WEIGHT_COV) -> Prior:
+    """Normal prior for the self-weight of a slab or deck [kN/m2].
+
+    The area load is g = gamma h with independent normal weight density gamma
+    (mean ``unit_weight_kn_m3``, CoV ``unit_weight_cov``; JCSS PMC 2.1, values from
+    memory) and thickness h (JCSS PMC 3.10 deviations, see `dimension_deviation`).
+    The mean is gamma (h_nom + mu_Y); the variance of the product of independent
+    normals is mu_g^2 s_h^2 + mu_h^2 s_g^2 + s_g^2 s_h^2.
+
+    Parameters
+    ----------
+    thickness_mm : float
+        Nominal slab thickness [mm].
+    unit_weight_kn_m3 : float
+        Mean weight density [kN/m3]; 25 for reinforced concrete (EN 1991-1-1 Annex A,
+        from memory), 24 for plain concrete.
+    """
+    if not thickness_mm > 0 or not unit_weight_kn_m3 > 0:
+        raise InputError("slab thickness [mm] and unit weight [kN/m3] must be positive, got "
+                         f"{thickness_mm!r} and {unit_weight_kn_m3!r}")
+    mean_dev, std_dev = dimension_deviation(thickness_mm)
+    mean_h = (thickness_mm + mean_dev) / 1000.0
+    std_h = std_dev / 1000.0
+    std_gamma = unit_weight_cov * unit_weight_kn_m3
+    variance = (unit_weight_kn_m3 * std_h) ** 2 + (mean_h * std_gamma) ** 2 + (std_gamma * std_h) ** 2
+    return Prior("normal", unit_weight_kn_m3 * mean_h, math.sqrt(variance), unit="kN/m2",
+                 source=("JCSS PMC Part 2.1 (self-weight = weight density x volume, both normal) "
+                         "with Part 3.10 thickness deviations"),
+                 note=f"unit weight {unit_weight_kn_m3:g} kN/m3, CoV {unit_weight_cov:g}")
+
+
+def superimposed_dead_prior(nominal_kn_m2: float, *, thickness_measured: bool = True,
+                            cov: float | None = None) -> Prior:
+    """Normal prior for superimposed dead load (screed, waterproofing, asphalt) [kN/m2].
+
+    CoV 0.10 when the layer thickness was measured on site, 0.20 when it is only
+    known from drawings: values common in calibration studies (from memory; no
+    single authoritative source). Pass ``cov`` to override.
+    """
+    if not nominal_kn_m2 >= 0:
+        raise InputError(f"superimposed dead load must be >= 0 kN/m2, got {nominal_kn_m2!r}")
+    chosen = cov if cov is not None else (0.10 if thickness_measured else 0.20)
+    return Prior("normal", nominal_kn_m2, chosen * nominal_kn_m2, unit="kN/m2",
+                 source="normal, CoV 0.10 (measured) / 0.20 (thickness unknown), calibration "
+                        "practice (from memory)",
+                 note=f"CoV {chosen:g}")
+
+
+def gumbel_period_shift(mean: float, std: float, from_years: float, to_years: float) -> float:
+    """Mean of the Gumbel maximum over ``to_years`` from that over ``from_years`` [unit].
+
+    Max of n i.i.d. Gumbel periods keeps sigma and shifts the mean:
+    mu_n = mu_1 + (sqrt(6)/pi) sigma ln n, with n = to_years/from_years
+    (textbook extreme-value result, from memory).
+    """
+    if not (from_years > 0 and to_years > 0):
+        raise InputError(f"reference periods must be positive [years], got {from_years!r}, "
+                         f"{to_years!r}")
+    return mean + math.sqrt(6.0) / math.pi * std * math.log(to_years / from_years)
+
+
+def imposed_load_prior(q_k: float, category: str = "F", reference_period_years: float = 50.0, *,
+                       model: str = "eurocode_calibration", mean_ratio: float | None = None,
+                       cov: float | None = None, model_period_years: float | None = None,
+                       max_probability_negative: float = 1e-3) -> Prior:
+    """Gumbel prior for the maximum imposed (car-park) load over the reference period [kN/m2].
+
+    Parameters
+    ----------
+    q_k : float
+        Characteristic distributed imposed load [kN/m2] (EN 1991-1-1 Table 6.8:
+        category F 1.5-2.5, G 5.0; from memory).
+    category : str
+        ``"F"`` or ``"G"``; a value of q_k outside the category's range warns.
+    reference_period_years : float
+        Period over which the maximum is taken [years].
+    model : str
+        Key of `IMPOSED_LOAD_MODELS`; default ``"eurocode_calibration"``: 50-year
+        maximum Gumbel with mean 0.6 q_k and CoV 0.35 (Eurocode calibration
+        studies, from memory).
+    mean_ratio, cov, model_period_years : float, optional
+        Override the model: mean / q_k [-], CoV [-] and the period [years] the
+        model refers to (e.g. an annual model with ``model_period_years=1``).
+    max_probability_negative : float
+        Largest accepted probability of a negative load after the period
+        conversion [-].
+
+    Returns
+    -------
+    Prior
+        Gumbel (maximum) model with std = cov * mean of the model period and the
+        mean shifted by mu_T = mu_0 + (sqrt(6)/pi) sigma ln(T/T_0) (sigma unchanged).
+
+    Raises
+    ------
+    InputError
+        If the shift to a shorter period puts more than ``max_probability_negative``
+        of the probability below zero: a 50-year model with CoV 0.35 describes the
+        upper tail only and cannot be scaled down to a few years (its implied
+        annual mean is negative). The message gives the shortest valid period; for
+        annual analyses supply an annual model (``model_period_years=1``).
+
+    Notes
+    -----
+    The JCSS PMC car-park model (vehicle weights ~N(15 kN, CoV 0.15-0.30) per
+    2.4 x 5.0 m bay, occupancy renewal process) needs influence coefficients of
+    the member and is the preferred physical model for a detailed assessment; this
+    function gives the code-calibration model derived from q_k.
+    """
+    cat = str(category).strip().upper()
+    if cat not in IMPOSED_LOAD_CATEGORIES:
+        raise InputError(f"imposed-load category must be one of {sorted(IMPOSED_LOAD_CATEGORIES)}, "
+                         f"got {category!r}")
+    if model not in IMPOSED_LOAD_MODELS:
+        raise InputError(f"imposed-load model must be one of {sorted(IMPOSED_LOAD_MODELS)}, "
+                         f"got {model!r}")
+    if not q_k > 0:
+        raise InputError(f"characteristic imposed load q_k must be positive [kN/m2], got {q_k!r}")
+    if not reference_period_years > 0:
+        raise InputError(f"reference period must be positive [years], got {reference_period_years!r}")
+    low, high = IMPOSED_LOAD_CATEGORIES[cat]["q_k_range"]
+    if not low - 1e-9 <= q_k <= high + 1e-9:
+        warnings.warn(f"q_k = {q_k:g} kN/m2 is outside the range {low:g}-{high:g} kN/m2 of "
+                      f"category {cat} ({IMPOSED_LOAD_CATEGORIES[cat]['source']})", stacklevel=2)
+    spec = IMPOSED_LOAD_MODELS[model]
+    ratio = spec["mean_ratio"] if mean_ratio is None else mean_ratio
+    v = spec["cov"] if cov is None else cov
+    period = spec["period_years"] if model_period_years is None else model_period_years
+    if not (ratio > 0 and v > 0 and period > 0):
+        raise InputError("mean_ratio, cov and model_period_years must be positive, got "
+                         f"{ratio!r}, {v!r}, {period!r}")
+    mean_0 = ratio * q_k
+    std = v * mean_0
+    mean_t = gumbel_period_shift(mean_0, std, period, reference_period_years)
+    scale = math.sqrt(6.0) * std / math.pi
+    location_t = mean_t - EULER_GAMMA * scale
+    log_p_negative = -math.exp(location_t / scale)
+    if log_p_negative > math.log(max_probability_negative):
+        location_0 = mean_0 - EULER_GAMMA * scale
+        shortest = period * math.exp((scale * math.log(-math.log(max_probability_negative))
+                                      - location_0) / scale)
+        raise InputError(
+            f"the imposed-load model (Gumbel, mean {ratio:g} q_k, CoV {v:g} over {period:g} yr) "
+            f"shifted to {reference_period_years:g} yr gives mean {mean_t:.3g} kN/m2 and a "
+            f"probability of {math.exp(log_p_negative):.2g} of a negative load; it is valid for "
+            f"reference periods >= {shortest:.3g} yr. For shorter periods give a model for that "
+            "period (mean_ratio, cov, model_period_years).")
+    source = spec["source"] if (mean_ratio, cov, model_period_years) == (None, None, None) else (
+        f"user model: Gumbel, mean {ratio:g} q_k, CoV {v:g} over {period:g} yr")
+    return Prior("gumbel", mean_t, std, unit="kN/m2",
+                 source=source + "; period shift mu_T = mu_0 + (sqrt 6/pi) sigma ln(T/T_0)",
+                 note=f"category {cat}, q_k {q_k:g} kN/m2, reference period "
+                      f"{reference_period_years:g} yr")
