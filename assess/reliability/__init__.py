@@ -6,8 +6,20 @@ Every method takes a problem object with
   g <= 0 is failure (a series system returns the minimum over its modes),
 - optionally ``to_physical(u)`` -> dict of arrays and ``names`` (variable names),
 and returns a `ReliabilityResult`.
+
+Methods: `form` (improved HL-RF), `importance_sampling` (around the design
+point(s)), `subset_simulation` (aCS or modified Metropolis), `crude_monte_carlo`;
+`run_method` dispatches by name.
 """
 
+from assess.reliability.crude import crude_monte_carlo
+from assess.reliability.dispatch import METHODS, run_method
+from assess.reliability.form import form
+from assess.reliability.importance import importance_sampling
+from assess.reliability.problem import StandardNormalProblem
 from assess.reliability.result import ReliabilityResult, beta_from_pf, pf_from_beta
+from assess.reliability.subset import subset_simulation
 
-__all__ = ["ReliabilityResult", "beta_from_pf", "pf_from_beta"]
+__all__ = ["ReliabilityResult", "beta_from_pf", "pf_from_beta", "StandardNormalProblem",
+           "form", "importance_sampling", "subset_simulation", "crude_monte_carlo",
+           "run_method", "METHODS"]

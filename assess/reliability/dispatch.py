@@ -1,0 +1,60 @@
+"""Run a reliability method chosen by name."""
+
+from __future__ import annotations
+
+import inspect
+
+from assess.errors import InputError
+from assess.reliability.crude import crude_monte_carlo
+from assess.reliability.form import form
+from assess.reliability.importance import importance_sampling
+from assess.reliability.problem import StandardNormalProblem
+from assess.reliability.result import ReliabilityResult
+from assess.reliability.subset import subset_simulation
+
+METHODS = {
+    "form": form,
+    "importance_sampling": importance_sampling,
+    "subset_simulation": subset_simulation,
+    "crude_monte_carlo": crude_monte_carlo,
+}
+"""Reliability methods by name; the keys are the valid ``method`` values of `run_method`."""
+
+
+def run_method(problem: StandardNormalProblem, method: str, *, seed=None,
+               **options) -> ReliabilityResult:
+    """Run the reliability method named ``method`` on ``problem``.
+
+    Parameters
+    ----------
+    problem : StandardNormalProblem
+        Limit state(s) in u-space; g <= 0 is failure.
+    method : str
+        One of ``"form"``, ``"importance_sampling"``, ``"subset_simulation"``,
+        ``"crude_monte_carlo"`` (see `METHODS`).
+    seed : int, numpy.random.Generator or None
+        Seed of the sampling methods; FORM is deterministic and ignores it.
+    **options
+        Keyword options of the chosen method (e.g. ``n_per_level=1000``).
+
+    Returns
+    -------
+    ReliabilityResult
+
+    Raises
+    ------
+    InputError
+        Unknown method name, or an option the method does not take.
+    """
+    if method not in METHODS:
+        raise InputError(f"{method!r} is not a reliability method; valid names are "
+                         f"{', '.join(repr(name) for name in METHODS)}")
+    function = METHODS[method]
+    accepted = [name for name in inspect.signature(function).parameters if name != "problem"]
+    unknown = sorted(set(options) - set(accepted))
+    if unknown:
+        raise InputError(f"{method} does not take the option(s) {', '.join(unknown)}; "
+                         f"its options are {', '.join(accepted)}")
+    if "seed" in accepted:
+        options["seed"] = seed
+    return function(problem, **options)

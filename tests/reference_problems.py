@@ -1,0 +1,168 @@
+"""Reference reliability problems with known answers, shared by tests and benchmarks.
+
+Each factory returns a `ReferenceCase`: a fresh `StandardNormalProblem` (its call
+counter at zero), the reference pf and beta, whether they are exact (closed form)
+or published, and the source.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+from scipy import stats
+
+from assess.reliability.problem import StandardNormalProblem
+
+
+@dataclasses.dataclass(frozen=True)
+class ReferenceCase:
+    """A limit state with a reference answer.
+
+    Attributes
+    ----------
+    name : str
+    problem : StandardNormalProblem
+    pf : float
+        Reference probability of failure [-].
+    beta : float
+        Reference reliability index -Phi^-1(pf) [-] (for FORM on a linear
+        surface: the exact Hasofer-Lind index).
+    exact : bool
+        True for a closed-form value, False for a published (simulation) value.
+    significant_digits : int or None
+        Digits to which a published pf is quoted (for the rounding tolerance).
+    source : str
+    """
+
+    name: str
+    problem: StandardNormalProblem
+    pf: float
+    beta: float
+    exact: bool
+    significant_digits: int | None
+    source: str
+
+
+def linear_normal(mean_r: float = 300.0, std_r: float = 30.0, mean_s: float = 150.0,
+                  std_s: float = 30.0) -> ReferenceCase:
+    """g = R - S with R, S independent normal [kNm]: beta = (mu_R - mu_S)/sqrt(s_R^2 + s_S^2).
+
+    Source: Cornell (1969) safety index, exact for a linear limit state in normal
+    variables (closed form).
+    """
+    def g_u(u):
+        return (mean_r + std_r * u[:, 0]) - (mean_s + std_s * u[:, 1])
+
+    def to_physical(u):
+        return {"R": mean_r + std_r * u[:, 0], "S": mean_s + std_s * u[:, 1]}
+
+    beta = (mean_r - mean_s) / math.hypot(std_r, std_s)
+    problem = StandardNormalProblem(g_u, 2, ["R", "S"], to_physical)
+    return ReferenceCase("linear normal R-S", problem,
+                         float(stats.norm.sf(beta)), beta, True, None,
+                         "closed form, Cornell (1969) safety index")
+
+
+def _lognormal_parameters(mean: float, cov: float) -> tuple[float, float]:
+    zeta = math.sqrt(math.log1p(cov * cov))
+    return math.log(mean) - 0.5 * zeta * zeta, zeta
+
+
+def lognormal_r_s(mean_r: float = 40.0, cov_r: float = 0.15, mean_s: float = 20.0,
+                  cov_s: float = 0.25) -> ReferenceCase:
+    """g = R - S with R, S independent lognormal [MPa], written in u-space.
+
+    R = exp(lambda_R + zeta_R u1), S = exp(lambda_S + zeta_S u2); the surface R = S
+    is the plane lambda_R + zeta_R u1 = lambda_S + zeta_S u2, so
+    beta = (lambda_R - lambda_S) / sqrt(zeta_R^2 + zeta_S^2) exactly, although g is
+    nonlinear in u. zeta = sqrt(ln(1 + V^2)), lambda = ln(mean) - zeta^2/2
+    (lognormal moments, closed form).
+    """
+    lam_r, zeta_r = _lognormal_parameters(mean_r, cov_r)
+    lam_s, zeta_s = _lognormal_parameters(mean_s, cov_s)
+
+    def to_physical(u):
+        return {"R": np.exp(lam_r + zeta_r * u[:, 0]), "S": np.exp(lam_s + zeta_s * u[:, 1])}
+
+    def g_u(u):
+        x = to_physical(u)
+        return x["R"] - x["S"]
+
+    beta = (lam_r - lam_s) / math.hypot(zeta_r, zeta_s)
+    return ReferenceCase("lognormal R-S", StandardNormalProblem(g_u, 2, ["R", "S"], to_physical),
+                         float(stats.norm.sf(beta)), beta, True, None,
+                         "closed form, lognormal R and S")
+
+
+def linear_standard_normal(dim: int, beta: float, name: str | None = None) -> ReferenceCase:
+    """g = beta |a| - a.u with unequal weights a_i = 1 + i/dim [-]: exact reliability index beta.
+
+    a.u is normal with standard deviation |a|, so pf = Phi(-beta) (closed form).
+    """
+    weights = 1.0 + np.arange(dim) / dim
+    norm = float(np.linalg.norm(weights))
+
+    def g_u(u):
+        return beta * norm - u @ weights
+
+    label = name or f"linear {dim}-D beta={beta:.3g}"
+    return ReferenceCase(label, StandardNormalProblem(g_u, dim), float(stats.norm.sf(beta)),
+                         beta, True, None, "closed form, linear in standard normals")
+
+
+def linear_100d() -> ReferenceCase:
+    """Linear limit state in 100 standard normal variables, beta = 4.2 exactly."""
+    return linear_standard_normal(100, 4.2, "linear 100-D beta=4.2")
+
+
+def linear_pf_1e6(dim: int) -> ReferenceCase:
+    """Linear limit state with pf = 1e-6 exactly (beta = 4.7534) in ``dim`` variables."""
+    return linear_standard_normal(dim, float(stats.norm.isf(1e-6)), f"linear {dim}-D pf=1e-6")
+
+
+def four_branch_series(k: float = 6.0) -> ReferenceCase:
+    """Four-branch series system in two standard normal variables.
+
+    g1 = 3 + 0.1 (u1 - u2)^2 - (u1 + u2)/sqrt(2)
+    g2 = 3 + 0.1 (u1 - u2)^2 + (u1 + u2)/sqrt(2)
+    g3 = (u1 - u2) + k/sqrt(2)
+    g4 = (u2 - u1) + k/sqrt(2);  g = min(g1..g4)
+
+    Reference pf = 4.46e-3 for k = 6 (from memory): Waarts (2000), PhD thesis,
+    TU Delft; reused by Schueremans & Van Gemert (2005), Struct. Saf. 27(3):246-261,
+    doi:10.1016/j.strusafe.2004.11.001. Checked by a 10^7-point crude Monte Carlo
+    run in tests/test_sampling_methods.py.
+    """
+    root2 = math.sqrt(2.0)
+
+    def g_u(u):
+        s = (u[:, 0] + u[:, 1]) / root2
+        d = u[:, 0] - u[:, 1]
+        return np.column_stack([3.0 + 0.1 * d * d - s, 3.0 + 0.1 * d * d + s,
+                                d + k / root2, -d + k / root2])
+
+    pf = 4.46e-3
+    return ReferenceCase("four-branch series", StandardNormalProblem(
+        g_u, 2, mode_names=["branch 1", "branch 2", "branch 3", "branch 4"]),
+        pf, float(stats.norm.isf(pf)), False, 3,
+        "Waarts (2000); Schueremans & Van Gemert (2005) (from memory)")
+
+
+def parabolic(b: float = 5.0, kappa: float = 0.5, e: float = 0.1) -> ReferenceCase:
+    """Parabolic limit state g = b - u2 - kappa (u1 - e)^2 with two design points.
+
+    Reference pf = 3.0e-3 for b = 5, kappa = 0.5, e = 0.1 (from memory):
+    Der Kiureghian & Dakessian (1998), "Multiple design points in first and
+    second-order reliability", Struct. Saf. 20(1):37-49,
+    doi:10.1016/S0167-4730(97)00026-X. Checked by a 10^7-point crude Monte Carlo
+    run in tests/test_sampling_methods.py.
+    """
+    def g_u(u):
+        return b - u[:, 1] - kappa * (u[:, 0] - e) ** 2
+
+    pf = 3.0e-3
+    return ReferenceCase("parabolic (two design points)", StandardNormalProblem(g_u, 2),
+                         pf, float(stats.norm.isf(pf)), False, 2,
+                         "Der Kiureghian & Dakessian (1998) (from memory)")
