@@ -1,0 +1,406 @@
+"""The invented demo site: reproducible, valid, physically plausible, consistent with its truth.
+
+The demo data are invented (the only invented data in the test suite); the checks compare them
+with the published models they were drawn from and with the file contract
+(docs/data-formats.md).
+"""
+
+from __future__ import annotations
+
+import csv
+import importlib.util
+import json
+import math
+from collections import defaultdict
+from pathlib import Path
+
+import numpy as np
+import openpyxl
+import pytest
+from scipy import special, stats
+
+from inspection_io.cores import CoreCorrections, LD_FACTORS, insitu_strength
+from inspection_io.site import MEMBER_KINDS, load_campaign, load_site
+
+REPO = Path(__file__).resolve().parents[1]
+GENERATOR = REPO / "demo_sites" / "generate_demo.py"
+SITE = REPO / "demo_sites" / "tanners-yard"
+CAMPAIGNS = sorted((SITE / "campaigns").iterdir())
+DATA_SUFFIXES = (".csv", ".xlsx")
+
+ZONE_KEYS = {"exposure", "mu_log_fc", "sigma_log_fc", "steel_mean", "steel_sd", "cover_mean",
+             "cover_sd", "Cs", "D_ref", "ageing_exponent", "t_ref", "C0", "Ccrit",
+             "initiation_time", "i_corr", "pitting_factor", "carbonation_k"}
+MEASUREMENT_KEYS = {"cover_error_sd_mm", "chloride_error_log_sd", "carbonation_local_log_sd",
+                    "carbonation_reading_sd_mm", "halfcell_active_mean_mV_CSE",
+                    "halfcell_passive_mean_mV_CSE", "halfcell_sd_mV",
+                    "section_loss_diameter_error_sd_mm", "pit_depth_local_log_sd",
+                    "pit_depth_error_sd_mm"}
+#: ASTM C876 threshold below which corrosion is likely (> 90 %) [mV CSE] (from memory).
+ASTM_C876_ACTIVE = -350.0
+
+
+def _load_generator():
+    spec = importlib.util.spec_from_file_location("generate_demo", GENERATOR)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+@pytest.fixture(scope="module")
+def generator():
+    return _load_generator()
+
+
+@pytest.fixture(scope="module")
+def regenerated(generator, tmp_path_factory):
+    out = tmp_path_factory.mktemp("demo") / "tanners-yard"
+    generator.generate(out, generator.DEFAULT_SEED)
+    return out
+
+
+@pytest.fixture(scope="module")
+def truth():
+    return json.loads((SITE / "truth.json").read_text(encoding="utf-8"))
+
+
+@pytest.fixture(scope="module")
+def site():
+    return load_site(SITE)
+
+
+# --------------------------------------------------------------------------- reading helpers
+def _header_name(header: str) -> tuple[str, str | None]:
+    name, _, unit = header.partition("[")
+    return name.strip().lower(), unit.rstrip("] ").strip() or None
+
+
+def read_rows(path: Path, kind: str) -> tuple[list[dict], dict]:
+    """Rows as {column name: text} and the unit of each column, CSV or XLSX (sheet = kind)."""
+    if path.suffix == ".xlsx":
+        book = openpyxl.load_workbook(path, read_only=True)
+        sheet = book[kind] if kind in book.sheetnames else book.worksheets[0]
+        grid = [["" if c is None else str(c) for c in row]
+                for row in sheet.iter_rows(values_only=True)]
+        book.close()
+    else:
+        with path.open(newline="", encoding="utf-8") as handle:
+            grid = list(csv.reader(handle))
+    parsed = [_header_name(h) for h in grid[0]]
+    units = {name: unit for name, unit in parsed}
+    return [{name: cell for (name, _), cell in zip(parsed, row)} for row in grid[1:]], units
+
+
+def campaign_files(kind: str) -> list[tuple[float, Path]]:
+    """(age [years], path) of every file of `kind`, oldest campaign first."""
+    truth = json.loads((SITE / "truth.json").read_text(encoding="utf-8"))
+    found = []
+    for folder in CAMPAIGNS:
+        for name, info in truth["campaigns"][folder.name]["files"].items():
+            if info["kind"] == kind:
+                found.append((truth["campaigns"][folder.name]["age"], folder / name))
+    return sorted(found)
+
+
+def chloride_binder_percent(value: float, unit: str, site) -> float:
+    # docs/data-formats.md: % concrete x concrete_density / binder_content = % binder;
+    # % cement is taken equal to % binder (CEM I binder = cement).
+    if unit == "% concrete":
+        return value * site.materials.concrete_density / site.materials.binder_content
+    assert unit in ("% binder", "% cement")
+    return value
+
+
+def potential_cse(value: float, unit: str) -> float:
+    # docs/data-formats.md: E_CSE = E_SCE - 75 mV (standard potentials vs SHE, common practice).
+    return {"mV CSE": value, "mV SCE": value - 75.0}[unit]
+
+
+# --------------------------------------------------------------------------- reproducibility
+def test_regenerating_gives_the_committed_files(regenerated):
+    committed = sorted(p.relative_to(SITE) for p in SITE.rglob("*") if p.is_file())
+    fresh = sorted(p.relative_to(regenerated) for p in regenerated.rglob("*") if p.is_file())
+    assert fresh == committed
+    for relative in committed:
+        old, new = (SITE / relative).read_bytes(), (regenerated / relative).read_bytes()
+        if relative.suffix == ".xlsx" and old != new:
+            old_book = openpyxl.load_workbook(SITE / relative)
+            new_book = openpyxl.load_workbook(regenerated / relative)
+            assert old_book.sheetnames == new_book.sheetnames, relative
+            for name in old_book.sheetnames:
+                assert (list(old_book[name].iter_rows(values_only=True))
+                        == list(new_book[name].iter_rows(values_only=True))), (relative, name)
+        else:
+            assert old == new, f"{relative} differs from a fresh run of generate_demo.py"
+
+
+def test_another_seed_gives_other_numbers(generator, tmp_path):
+    record = generator.generate(tmp_path / "other", seed=generator.DEFAULT_SEED + 1)
+    committed = json.loads((SITE / "truth.json").read_text(encoding="utf-8"))
+    assert record["zones"]["L3"]["Cs"] != committed["zones"]["L3"]["Cs"]
+    assert record["generator"]["seed"] == generator.DEFAULT_SEED + 1
+
+
+# --------------------------------------------------------------------------- site and campaigns
+def test_site_file_is_valid_and_realistic(site):
+    assert site.site.year_built == 1974
+    assert site.loads.imposed_category == "F"
+    assert set(MEMBER_KINDS) == {m.kind for m in site.members.values()}
+    assert 8 <= len(site.members) <= 12
+    assert len(site.zones) == 4
+    assert {z.exposure for z in site.zones.values()} >= {"exposed deck", "internal"}
+    for member in site.members.values():
+        assert 25 <= member.cover <= 40, member.member_id
+        if member.kind == "one-way slab":
+            assert 150 <= member.depth <= 250 and 4.0 <= member.span <= 6.0
+        elif member.kind == "beam":
+            assert member.steel_area is not None and 7.0 <= member.span <= 8.0
+        else:
+            assert member.tension_face == "top" and member.column_size is not None
+
+
+def test_three_campaigns_with_mixed_files():
+    assert len(CAMPAIGNS) == 3
+    years = [load_campaign(folder).date.year for folder in CAMPAIGNS]
+    assert len(set(years)) == 3
+    xlsx = [p for folder in CAMPAIGNS for p in folder.glob("*.xlsx")]
+    assert xlsx and all(len(openpyxl.load_workbook(p, read_only=True).sheetnames) >= 2
+                        for p in xlsx)
+    for folder in CAMPAIGNS:
+        assert len([p for p in folder.iterdir() if p.suffix in DATA_SUFFIXES]) >= 5
+
+
+def test_truth_has_every_key(truth):
+    assert truth["generator"]["seed"] == 20261202 and truth["generator"]["version"]
+    assert set(truth["zones"]) == {"L1", "L2", "L3", "L4"}
+    for zone_id, zone in truth["zones"].items():
+        assert ZONE_KEYS <= set(zone), f"{zone_id} lacks {ZONE_KEYS - set(zone)}"
+    assert MEASUREMENT_KEYS <= set(truth["measurement_error"])
+    assert {c.name for c in CAMPAIGNS} == set(truth["campaigns"])
+    for record in truth["campaigns"].values():
+        assert set(record["active_fraction"]) == set(truth["zones"])
+
+
+def test_truth_initiation_times_satisfy_the_models(truth):
+    for zone in truth["zones"].values():
+        # carbonation square-root law x = k sqrt(t) (fib Bulletin 34 inspection form)
+        t_carbonation = zone["initiation_time_carbonation"]
+        assert zone["carbonation_k"] * math.sqrt(t_carbonation) == pytest.approx(
+            zone["cover_mean"], rel=1e-3)
+        t_chloride = zone["initiation_time_chloride"]
+        if t_chloride is not None and t_chloride < 200:
+            # Fick's second law, erfc solution with D_app(t) = D_ref (t_ref/t)^a (fib 34 form):
+            # the chloride at the mean cover equals Ccrit at the initiation time
+            d_app = zone["D_ref"] * (zone["t_ref"] / t_chloride) ** zone["ageing_exponent"]
+            c = zone["C0"] + (zone["Cs"] - zone["C0"]) * special.erfc(
+                zone["cover_mean"] / (2.0 * math.sqrt(d_app * t_chloride)))
+            assert c == pytest.approx(zone["Ccrit"], rel=2e-3)
+        assert zone["initiation_time"] == min(t for t in (t_chloride, t_carbonation)
+                                              if t is not None)
+
+
+# --------------------------------------------------------------------------- cores
+def test_core_conversion_is_the_one_the_readers_use(generator, truth):
+    assert tuple(generator.CORE_LD_FACTORS) == tuple(LD_FACTORS["ASTM C42"])
+    # ASTM C42/C42M l/d factors (from memory): 1.75 -> 0.98, 1.50 -> 0.96, 1.25 -> 0.93,
+    # 1.00 -> 0.87
+    assert truth["core_conversion"]["factor_l_d"] == [0.87, 0.93, 0.96, 0.98, 1.0]
+
+
+@pytest.mark.parametrize("campaign_index", [0, 1, 2])
+def test_correcting_a_generated_core_returns_the_true_insitu_strength(generator, truth,
+                                                                      campaign_index):
+    # With no scatter (sigma_log_fc = 0) every clean core must correct back to exp(mu_zone)
+    # through the readers' own conversion chain (inspection_io.cores), whatever its l/d.
+    still = {"site": truth["site"],
+             "zones": {z: dict(v, sigma_log_fc=0.0) for z, v in truth["zones"].items()}}
+    campaign = generator.CAMPAIGNS[campaign_index]
+    options = next(o for _, kind, o in campaign["files"] if kind == "cores")
+    header, rows, extra = generator.make_cores(np.random.default_rng(1), still, campaign, options)
+    names = [_header_name(h)[0] for h in header]
+    checked = 0
+    for row in rows:
+        cells = dict(zip(names, row))
+        if cells["core_id"] in extra["flagged_cores"]:
+            continue
+        diameter, length = float(cells["diameter"]), float(cells["length"])
+        strength = (4000.0 * float(cells["failure_load"]) / (math.pi * diameter ** 2)
+                    if "failure_load" in cells else float(cells["strength"]))
+        value, _ = insitu_strength(strength, diameter, length, cells.get("moisture")
+                                   or "as-received", CoreCorrections())
+        expected = math.exp(truth["zones"][cells["zone"]]["mu_log_fc"])
+        # rounding: half of 0.1 MPa on strength (0.1 kN on load is 0.013 MPa on a 100 mm core)
+        # times the largest correction product 1.06
+        assert value == pytest.approx(expected, abs=0.05 * 1.06 + 1e-9), cells["core_id"]
+        checked += 1
+    assert checked >= 8
+
+
+def _insitu_cores(truth):
+    """Clean (unflagged) cores corrected with inspection_io.cores: {zone: [f_is]}."""
+    flagged = truth["core_conversion"]["flagged_cores"]
+    corrected = defaultdict(list)
+    for _, path in campaign_files("cores"):
+        rows, units = read_rows(path, "cores")
+        for row in rows:
+            if row["core_id"] in flagged:
+                continue
+            assert units["diameter"] == units["length"] == "mm"
+            diameter, length = float(row["diameter"]), float(row["length"])
+            assert 1.0 <= length / diameter <= 2.0
+            if "failure_load" in row:
+                assert units["failure_load"] == "kN"
+                strength = 4000.0 * float(row["failure_load"]) / (math.pi * diameter ** 2)
+            else:
+                assert units["strength"] in ("MPa", "N/mm2")
+                strength = float(row["strength"])
+            value, _ = insitu_strength(strength, diameter, length,
+                                       row.get("moisture") or "as-received", CoreCorrections())
+            corrected[row["zone"]].append(value)
+    return corrected
+
+
+def test_core_strength_scatter_is_plausible(truth):
+    corrected = _insitu_cores(truth)
+    pooled = np.concatenate([np.asarray(v) for v in corrected.values()])
+    cov = pooled.std(ddof=1) / pooled.mean()
+    # concrete in-situ CoV 0.10-0.15 typical (JCSS PMC 3.1 priors s' 0.09-0.14, common practice)
+    assert 0.08 <= cov <= 0.20
+
+
+def test_corrected_cores_recover_the_zone_log_means(truth):
+    corrected = _insitu_cores(truth)
+    for zone_id, values in corrected.items():
+        zone = truth["zones"][zone_id]
+        logs = np.log(values)
+        # mean of n lognormal log-values ~ N(mu, sigma^2/n): 3 standard errors
+        tolerance = 3.0 * zone["sigma_log_fc"] / math.sqrt(len(logs))
+        assert abs(logs.mean() - zone["mu_log_fc"]) < tolerance, zone_id
+    residuals = np.concatenate([np.log(v) - truth["zones"][z]["mu_log_fc"]
+                                for z, v in corrected.items()])
+    sigma = truth["site"]["sigma_log_fc"]
+    assert abs(residuals.mean()) < 3.0 * sigma / math.sqrt(len(residuals))
+    # sample log-std against its chi-square 99.7 % band (normal theory)
+    n = len(residuals)
+    low, high = stats.chi2.ppf([0.0015, 0.9985], n - 1)
+    assert low / (n - 1) < residuals.var(ddof=1) / sigma ** 2 < high / (n - 1)
+
+
+def test_flagged_cores_are_flagged_in_their_files(truth):
+    flagged = truth["core_conversion"]["flagged_cores"]
+    assert set(flagged.values()) == {"bar_in_core", "damaged"}
+    seen = {}
+    for _, path in campaign_files("cores"):
+        rows, _ = read_rows(path, "cores")
+        for row in rows:
+            for column in ("bar_in_core", "damaged"):
+                if row.get(column) == "yes":
+                    seen[row["core_id"]] = column
+    assert seen == flagged
+
+
+# --------------------------------------------------------------------------- deterioration
+def _chloride_by_zone(path: Path, site, min_depth: float = 0.0, max_depth: float = 1e9):
+    rows, units = read_rows(path, "chloride")
+    by_zone = defaultdict(list)
+    for row in rows:
+        if min_depth <= float(row["depth_from"]) < max_depth:
+            by_zone[row["zone"]].append(
+                chloride_binder_percent(float(row["chloride"]), units["chloride"], site))
+    return {zone: float(np.mean(v)) for zone, v in by_zone.items()}
+
+
+def test_chloride_rises_with_time_in_exposed_zones(site):
+    exposed = [z for z, spec in site.zones.items() if spec.exposure == "exposed deck"]
+    deep = [_chloride_by_zone(path, site, min_depth=20.0) for _, path in campaign_files("chloride")]
+    for zone_id in exposed:
+        series = [campaign[zone_id] for campaign in deep]
+        assert all(a < b for a, b in zip(series, series[1:])), (zone_id, series)
+
+
+def test_exposed_decks_carry_far_more_chloride_than_the_internal_zone(site):
+    internal = [z for z, spec in site.zones.items() if spec.exposure == "internal"]
+    exposed = [z for z, spec in site.zones.items() if spec.exposure == "exposed deck"]
+    for _, path in campaign_files("chloride"):
+        surface = _chloride_by_zone(path, site, max_depth=10.0)
+        assert min(surface[z] for z in exposed) > 3.0 * max(surface[z] for z in internal)
+
+
+def test_section_loss_grows_between_campaigns():
+    pit, area_loss = defaultdict(list), defaultdict(list)
+    for _, path in campaign_files("section_loss"):
+        rows, _ = read_rows(path, "section_loss")
+        by_zone = defaultdict(list)
+        for row in rows:
+            d0 = float(row["bar_diameter"])
+            by_zone[row["zone"]].append((float(row["max_pit_depth"]),
+                                         1.0 - (float(row["residual_diameter"]) / d0) ** 2))
+        for zone_id, values in by_zone.items():
+            pit[zone_id].append(np.mean([v[0] for v in values]))
+            area_loss[zone_id].append(np.mean([v[1] for v in values]))
+    repeated = [z for z in pit if len(pit[z]) >= 2]
+    assert len(repeated) >= 2
+    for zone_id in repeated:
+        assert all(a < b for a, b in zip(pit[zone_id], pit[zone_id][1:])), zone_id
+        assert all(a < b for a, b in zip(area_loss[zone_id], area_loss[zone_id][1:])), zone_id
+
+
+def test_halfcell_active_share_matches_truth_and_grows(truth):
+    m = truth["measurement_error"]
+    sd = m["halfcell_sd_mV"]
+    # probability that a reading lies below the ASTM C876 threshold for each state
+    p_active = stats.norm.cdf(ASTM_C876_ACTIVE, m["halfcell_active_mean_mV_CSE"], sd)
+    p_passive = stats.norm.cdf(ASTM_C876_ACTIVE, m["halfcell_passive_mean_mV_CSE"], sd)
+    pooled = []
+    for _, path in campaign_files("halfcell"):
+        rows, units = read_rows(path, "halfcell")
+        record = truth["campaigns"][path.parent.name]
+        below = defaultdict(list)
+        for row in rows:
+            below[row["zone"]].append(
+                potential_cse(float(row["potential"]), units["potential"]) < ASTM_C876_ACTIVE)
+        for zone_id, flags in below.items():
+            f = record["active_fraction"][zone_id]
+            expected = f * p_active + (1.0 - f) * p_passive
+            # binomial share: 3 standard errors (plus one reading of slack for tiny shares)
+            tolerance = 3.0 * math.sqrt(expected * (1.0 - expected) / len(flags)) + 1 / len(flags)
+            assert abs(np.mean(flags) - expected) < tolerance, (path.parent.name, zone_id)
+        pooled.append(np.mean([flag for z in ("L2", "L3", "L4") for flag in below[z]]))
+    assert all(a < b for a, b in zip(pooled, pooled[1:])), pooled
+
+
+def test_cover_and_carbonation_surveys_match_truth(truth):
+    for _, path in campaign_files("cover"):
+        rows, _ = read_rows(path, "cover")
+        by_zone = defaultdict(list)
+        for row in rows:
+            by_zone[row["zone"]].append(float(row["cover"]))
+        for zone_id, values in by_zone.items():
+            zone = truth["zones"][zone_id]
+            spread = math.hypot(zone["cover_sd"], truth["measurement_error"]["cover_error_sd_mm"])
+            assert abs(np.mean(values) - zone["cover_mean"]) < 3.0 * spread / math.sqrt(len(values))
+    for age, path in campaign_files("carbonation"):
+        rows, _ = read_rows(path, "carbonation")
+        by_zone = defaultdict(list)
+        for row in rows:
+            by_zone[row["zone"]].append(float(row["carbonation_depth"]))
+        for zone_id, values in by_zone.items():
+            zone = truth["zones"][zone_id]
+            s = truth["measurement_error"]["carbonation_local_log_sd"]
+            mean = zone["carbonation_k"] * math.sqrt(age) * math.exp(s * s / 2.0)
+            spread = math.hypot(mean * s, truth["measurement_error"]["carbonation_reading_sd_mm"],
+                                0.5)   # + rounding to whole mm
+            assert abs(np.mean(values) - mean) < 3.0 * spread / math.sqrt(len(values)), zone_id
+
+
+# --------------------------------------------------------------------------- readers
+def test_every_demo_file_reads_without_error(site):
+    from inspection_io.readers import read_campaign_file
+
+    members = {member_id: m.zone for member_id, m in site.members.items()}
+    for folder in CAMPAIGNS:
+        for path in sorted(p for p in folder.iterdir() if p.suffix in DATA_SUFFIXES):
+            result = read_campaign_file(path, binder_content=site.materials.binder_content,
+                                        concrete_density=site.materials.concrete_density,
+                                        known_zones=list(site.zones), known_members=members)
+            assert len(result.observations) > 0, path
