@@ -196,3 +196,91 @@ def imposed_load_prior(q_k: float, category: str = "F", reference_period_years: 
                  source=source + "; period shift mu_T = mu_0 + (sqrt 6/pi) sigma ln(T/T_0)",
                  note=f"category {cat}, q_k {q_k:g} kN/m2, reference period "
                       f"{reference_period_years:g} yr")
+
+
+#: JCSS PMC Part 2 "Loads in car parks" (CIB W81 Report 116, 1989): light-vehicle
+#: weight and use parameters. Vehicle weight normal, mean 15 kN, CoV 0.15-0.30 by
+#: use (0.25 taken here); parking bay 2.4 x 5.0 m; vehicles per bay per busy day
+#: and busy days per year by type of car park.
+CAR_PARK_VEHICLES = {
+    "vehicle_weight_mean_kn": 15.0,
+    "vehicle_weight_cov": 0.25,
+    "bay_area_m2": 2.4 * 5.0,
+    "use": {
+        "commercial": {"busy_days": 312.0, "vehicles_per_bay_day": 3.2},
+        "rail or airport": {"busy_days": 30.0, "vehicles_per_bay_day": 1.3},
+        "offices or factories": {"busy_days": 260.0, "vehicles_per_bay_day": 1.0},
+        "residential": {"busy_days": 360.0, "vehicles_per_bay_day": 2.1},
+    },
+    "source": ("JCSS PMC Part 2 'Loads in car parks' after CIB W81 Report 116 (1989): vehicle "
+               "weight N(15 kN, CoV 0.15-0.30), bay 2.4 x 5.0 m, use parameters by car-park type"),
+}
+
+
+def car_park_vehicle_load_prior(loaded_area_m2: float, reference_period_years: float = 1.0, *,
+                                use: str = "commercial", vehicle_weight_mean_kn: float | None = None,
+                                vehicle_weight_cov: float | None = None) -> Prior:
+    """Gumbel model of the maximum vehicle area load on a car-park member [kN/m2].
+
+    The member's loaded (influence) area A holds N = max(1, A / a_bay) parked
+    vehicles at full occupancy (JCSS PMC car-park model). The equivalent uniform
+    load of one full-occupancy state is the sum of N independent normal vehicle
+    weights over A: mean mu_L / a_bay, standard deviation sigma_L sqrt(N) / A. The
+    states renew with every change of vehicle, n = (vehicles per bay and busy day)
+    x (busy days per year) x T independent states in T years, and the maximum of n
+    normal values is Gumbel with the classical normal-extremes constants
+    (Gumbel 1958, *Statistics of Extremes*; from memory):
+    a_n = sqrt(2 ln n) - (ln ln n + ln 4 pi) / (2 sqrt(2 ln n)), b_n = 1/sqrt(2 ln n),
+    location = mean + a_n sigma, scale = b_n sigma.
+
+    Parameters
+    ----------
+    loaded_area_m2 : float
+        Influence area of the load effect [m2] (e.g. span x strip of one span width
+        for a one-way slab, span x tributary width for a beam, the tributary area
+        of a column for punching).
+    reference_period_years : float
+        Period of the maximum [years]; 1 for an annual target.
+    use : str
+        Key of ``CAR_PARK_VEHICLES["use"]``.
+
+    Returns
+    -------
+    Prior
+        Gumbel (maximum) with its mean and standard deviation [kN/m2].
+
+    Notes
+    -----
+    Full occupancy on busy days is assumed (on the safe side for lightly used car
+    parks). Heavy vehicles (category G) are outside this model.
+    """
+    if not loaded_area_m2 > 0:
+        raise InputError(f"loaded area must be positive [m2], got {loaded_area_m2!r}")
+    if not reference_period_years > 0:
+        raise InputError(f"reference period must be positive [years], got {reference_period_years!r}")
+    uses = CAR_PARK_VEHICLES["use"]
+    if use not in uses:
+        raise InputError(f"car-park use must be one of {sorted(uses)}, got {use!r}")
+    mean_l = vehicle_weight_mean_kn or CAR_PARK_VEHICLES["vehicle_weight_mean_kn"]
+    cov_l = vehicle_weight_cov or CAR_PARK_VEHICLES["vehicle_weight_cov"]
+    bay = CAR_PARK_VEHICLES["bay_area_m2"]
+    n_vehicles = max(1.0, loaded_area_m2 / bay)
+    area = max(loaded_area_m2, bay)
+    state_mean = mean_l / bay
+    state_std = cov_l * mean_l * math.sqrt(n_vehicles) / area
+    n_states = uses[use]["vehicles_per_bay_day"] * uses[use]["busy_days"] * reference_period_years
+    if n_states < 10:
+        raise InputError(f"only {n_states:.3g} independent load states in the reference period; "
+                         "the extreme-value approximation needs at least 10")
+    root = math.sqrt(2.0 * math.log(n_states))
+    a_n = root - (math.log(math.log(n_states)) + math.log(4.0 * math.pi)) / (2.0 * root)
+    scale = state_std / root
+    location = state_mean + a_n * state_std
+    mean = location + EULER_GAMMA * scale
+    std = math.pi * scale / math.sqrt(6.0)
+    return Prior("gumbel", mean, std, unit="kN/m2",
+                 source=CAR_PARK_VEHICLES["source"] + "; maximum of normal states by Gumbel's "
+                        "normal-extremes constants (from memory)",
+                 note=f"{use} car park, loaded area {loaded_area_m2:.3g} m2 "
+                      f"({n_vehicles:.3g} vehicles), {n_states:.3g} states in "
+                      f"{reference_period_years:g} yr")

@@ -101,26 +101,27 @@ class NormalGamma:
         p = self.jcss
         return stats.t(df=p["nu"], loc=p["m"], scale=p["s"] * np.sqrt(1.0 + 1.0 / p["n"]))
 
+    @classmethod
+    def from_prior(cls, prior) -> "NormalGamma":
+        """From a `assess.priors.NormalGammaPrior` (JCSS m, n, s, nu) with n, nu > 0."""
+        return cls.from_jcss(prior.m, prior.n, prior.s, prior.nu, source=prior.source)
+
+    def to_prior(self, log_scale: bool = True):
+        """As a `assess.priors.NormalGammaPrior` (valid for rho = 0 and z_mean = 0)."""
+        from assess.priors import NormalGammaPrior
+
+        p = self.jcss
+        return NormalGammaPrior(m=p["m"], n=p["n"], s=p["s"], nu=p["nu"], source=self.source,
+                                log_scale=log_scale)
+
     def update(self, values) -> "NormalGamma":
         """Conjugate update with observations of Y (JCSS PMC Part 3.0 Annex A).
 
-        n'' = n' + n,  nu'' = nu' + n,  n'' m'' = n' m' + n m,
-        nu'' s''^2 + n'' m''^2 = nu' s'^2 + n' m'^2 + (n-1) s^2 + n m^2.
-        (nu'' = nu' + nu + 1 with nu = n - 1, the delta(n') = 1 of Annex A for a proper prior.)
-        Valid only for rho = 0.
+        Delegates to `assess.priors.update_normal_gamma`; valid only for rho = 0
+        and z_mean = 0 (a proper normal-gamma prior).
         """
+        from assess.priors import update_normal_gamma
+
         if abs(self.rho) > 1e-12 or abs(self.z_mean) > 1e-12:
             raise ValueError("the conjugate update needs rho = 0 and z_mean = 0")
-        y = np.asarray(values, dtype=float).ravel()
-        p = self.jcss
-        n = y.size
-        if n == 0:
-            return self
-        mean = float(np.mean(y))
-        ss = float(np.sum((y - mean) ** 2))
-        n2 = p["n"] + n
-        m2 = (p["n"] * p["m"] + n * mean) / n2
-        nu2 = p["nu"] + n
-        s2sq = (p["nu"] * p["s"] ** 2 + p["n"] * p["m"] ** 2 + ss + n * mean**2 - n2 * m2**2) / nu2
-        return NormalGamma.from_jcss(m2, n2, float(np.sqrt(s2sq)), nu2,
-                                     source=f"{self.source} updated with {n} tests (conjugate)")
+        return NormalGamma.from_prior(update_normal_gamma(self.to_prior(), values))
