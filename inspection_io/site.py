@@ -1,0 +1,603 @@
+"""The site file (``site.toml``) and the campaign file (``campaign.toml``).
+
+`load_site` reads a site file, checks every key against the schema in
+``docs/data-formats.md`` and returns frozen dataclasses. Any problem raises
+`InputError` naming the file and the dotted key path (``members.S1-03.span``);
+unknown keys are an error, so a typo is never silently ignored.
+
+Units follow the file contract: lengths [mm], spans [m], loads [kN/m2],
+unit weights [kN/m3], densities and binder content [kg/m3].
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import difflib
+import re
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+from types import MappingProxyType
+from typing import Any, Callable, Mapping
+
+from inspection_io.errors import InputError
+
+CONSEQUENCE_CLASSES = ("CC1", "CC2", "CC3")
+COST_OF_SAFETY = ("high", "normal", "low")
+PRODUCTION = ("ready-mixed", "precast")
+CEMENT_TYPES = ("CEM I", "fly ash", "CEM III")
+IMPOSED_CATEGORIES = ("F", "G")
+EXPOSURES = ("exposed deck", "sheltered soffit", "internal")
+MEMBER_KINDS = ("one-way slab", "beam", "flat-slab column connection")
+TENSION_FACES = ("bottom", "top")
+COLUMN_POSITIONS = ("interior", "edge", "corner")
+
+_CONCRETE_CLASS = re.compile(r"^C(\d{1,3})(?:/(\d{1,3}))?$")
+_STEEL_GRADE = re.compile(r"^[A-Za-z]{1,3}(\d{3})[A-Za-z]?$")
+
+
+# --------------------------------------------------------------------------- dataclasses
+@dataclass(frozen=True)
+class SiteInfo:
+    """The ``[site]`` table."""
+
+    name: str
+    """Name of the structure."""
+    year_built: int
+    """Year of construction [-]."""
+    assessment_date: dt.date
+    """Date the assessment refers to."""
+    structure: str | None = None
+    """Kind of structure, free text (e.g. "multi-storey car park")."""
+
+
+@dataclass(frozen=True)
+class Target:
+    """The ``[target]`` table: settings that choose the target reliability."""
+
+    consequence_class: str
+    """EN 1990 consequence class: "CC1", "CC2" or "CC3"."""
+    reference_period: float
+    """Reference period [years]: 1 (annual) or the remaining working life."""
+    cost_of_safety: str
+    """Relative cost of safety measures: "high", "normal" or "low"."""
+
+
+@dataclass(frozen=True)
+class Materials:
+    """The ``[materials]`` table: materials as specified at design."""
+
+    concrete_class: str
+    """EN 206 class, e.g. "C30" or "C30/37"."""
+    steel_grade: str
+    """Reinforcement grade with its characteristic yield in the name, e.g. "B500"."""
+    production: str = "ready-mixed"
+    """"ready-mixed" or "precast"."""
+    cement_type: str | None = None
+    """"CEM I", "fly ash" or "CEM III" (sets the chloride ageing exponent)."""
+    binder_content: float | None = None
+    """Binder content [kg/m3]."""
+    concrete_density: float | None = None
+    """Concrete density [kg/m3]."""
+    water_cement_ratio: float | None = None
+    """Water/cement ratio [-]."""
+
+    @property
+    def f_ck(self) -> float:
+        """Specified characteristic cylinder strength [MPa] (the number after "C")."""
+        return float(_CONCRETE_CLASS.match(self.concrete_class).group(1))
+
+    @property
+    def f_yk(self) -> float:
+        """Specified characteristic yield strength of the reinforcement [MPa]."""
+        return float(_STEEL_GRADE.match(self.steel_grade).group(1))
+
+
+@dataclass(frozen=True)
+class Loads:
+    """The ``[loads]`` table."""
+
+    superimposed_dead: float
+    """Superimposed dead load: screed, waterproofing, surfacing [kN/m2]."""
+    imposed_category: str
+    """EN 1991-1-1 parking category: "F" (vehicles <= 30 kN) or "G"."""
+    imposed_characteristic: float
+    """Characteristic imposed load q_k [kN/m2]."""
+    concrete_unit_weight: float
+    """Unit weight of reinforced concrete for self-weight [kN/m3]."""
+
+
+@dataclass(frozen=True)
+class Zone:
+    """One ``[zones.<id>]`` table: a level, a pour, a deck area."""
+
+    zone_id: str
+    description: str
+    exposure: str
+    """"exposed deck", "sheltered soffit" or "internal"."""
+    mean_annual_temperature: float | None = None
+    """Mean annual temperature [degC]."""
+
+
+@dataclass(frozen=True)
+class Member:
+    """One ``[members.<id>]`` table."""
+
+    member_id: str
+    zone: str
+    """Zone id the member belongs to."""
+    kind: str
+    """"one-way slab", "beam" or "flat-slab column connection"."""
+    depth: float
+    """Overall depth h [mm]."""
+    cover: float
+    """Nominal cover to the main (tension) bars [mm]."""
+    bar_diameter: float
+    """Main bar diameter [mm]."""
+    width: float
+    """Width b [mm] (1000 for slabs per metre strip)."""
+    span: float | None = None
+    """Simply supported equivalent span [m] (slabs and beams)."""
+    bar_spacing: float | None = None
+    """Main bar spacing [mm] (give this or `steel_area`)."""
+    steel_area: float | None = None
+    """Tension steel area in the width b [mm2] (give this or `bar_spacing`)."""
+    shear_reinforcement: bool = False
+    tension_face: str = "bottom"
+    """Face the main bars are on: "bottom" or "top"."""
+    column_size: tuple[float, float] | None = None
+    """Column dimensions c1, c2 [mm] (flat-slab column connections)."""
+    position: str | None = None
+    """"interior", "edge" or "corner" (flat-slab column connections)."""
+    span_x: float | None = None
+    """Span in x around the column [m] (flat-slab column connections)."""
+    span_y: float | None = None
+    """Span in y around the column [m] (flat-slab column connections)."""
+
+    @property
+    def effective_depth(self) -> float:
+        """Effective depth d = h - cover - bar_diameter / 2 [mm]."""
+        return self.depth - self.cover - self.bar_diameter / 2.0
+
+    @property
+    def tension_steel_area(self) -> float:
+        """Tension steel area in the width b [mm2] (from `bar_spacing` if not given)."""
+        if self.steel_area is not None:
+            return self.steel_area
+        bar_area = 3.141592653589793 * self.bar_diameter ** 2 / 4.0
+        return bar_area * self.width / self.bar_spacing
+
+
+@dataclass(frozen=True)
+class Site:
+    """A checked site file."""
+
+    path: Path
+    """The site file it was read from."""
+    site: SiteInfo
+    target: Target
+    materials: Materials
+    loads: Loads
+    zones: Mapping[str, Zone]
+    """Zones by id, in file order (read-only mapping)."""
+    members: Mapping[str, Member]
+    """Members by id, in file order (read-only mapping)."""
+
+    @property
+    def folder(self) -> Path:
+        """The site folder (the directory holding the site file)."""
+        return self.path.parent
+
+    @property
+    def zone_ids(self) -> tuple[str, ...]:
+        return tuple(self.zones)
+
+    @property
+    def member_ids(self) -> tuple[str, ...]:
+        return tuple(self.members)
+
+
+@dataclass(frozen=True)
+class CampaignInfo:
+    """A checked ``campaign.toml``."""
+
+    name: str
+    """Campaign name, unique within the site."""
+    date: dt.date
+    """When the campaign's samples were taken."""
+    description: str = ""
+
+
+# --------------------------------------------------------------------------- checkers
+class _Schema:
+    """Key checks for one TOML file: every error names the file and the key path."""
+
+    def __init__(self, file: Path):
+        self.file = file
+
+    def error(self, path: str, message: str) -> InputError:
+        return InputError(message, file=self.file, column=path)
+
+    def table(self, value: Any, path: str) -> dict:
+        if not isinstance(value, dict):
+            raise self.error(path, f"expected a table [{path}], got {_describe(value)}")
+        return value
+
+    def keys(self, table: dict, path: str, required: tuple[str, ...],
+             optional: tuple[str, ...] = ()) -> None:
+        allowed = required + optional
+        for key in table:
+            if key not in allowed:
+                near = difflib.get_close_matches(key, allowed, n=1)
+                hint = f"; did you mean '{near[0]}'?" if near else "."
+                raise self.error(_join(path, key),
+                                 f"unknown key '{key}'{hint} Accepted keys in "
+                                 f"[{path}]: {', '.join(allowed)}"
+                                 if path else
+                                 f"unknown table '{key}'{hint} Accepted tables: "
+                                 f"{', '.join(allowed)}")
+        for key in required:
+            if key not in table:
+                where = f"[{path}]" if path else "the file"
+                raise self.error(_join(path, key), f"missing required key '{key}' in {where}")
+
+    def text(self, value: Any, path: str, choices: tuple[str, ...] | None = None) -> str:
+        if not isinstance(value, str):
+            raise self.error(path, f"expected a text string, got {_describe(value)}")
+        if choices is not None and value not in choices:
+            options = " | ".join(f'"{c}"' for c in choices)
+            raise self.error(path, f"expected one of {options}, got \"{value}\"")
+        if choices is None and not value.strip():
+            raise self.error(path, "expected a non-empty text string")
+        return value
+
+    def number(self, value: Any, path: str, low: float, high: float, unit: str,
+               low_inclusive: bool = False, hint: str = "") -> float:
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            raise self.error(path, f"expected a number [{unit}], got {_describe(value)}")
+        value = float(value)
+        too_low = value < low if low_inclusive else value <= low
+        if too_low or value > high or value != value:
+            bracket = "[" if low_inclusive else "("
+            raise self.error(path, f"expected a number in {bracket}{low:g}, {high:g}] [{unit}], "
+                                   f"got {value:g}{hint}")
+        return value
+
+    def integer(self, value: Any, path: str, low: int, high: int) -> int:
+        if isinstance(value, bool) or not isinstance(value, int):
+            raise self.error(path, f"expected a whole number, got {_describe(value)}")
+        if not low <= value <= high:
+            raise self.error(path, f"expected a whole number in [{low}, {high}], got {value}")
+        return value
+
+    def boolean(self, value: Any, path: str) -> bool:
+        if not isinstance(value, bool):
+            raise self.error(path, f"expected true or false, got {_describe(value)}")
+        return value
+
+    def date(self, value: Any, path: str) -> dt.date:
+        if isinstance(value, dt.datetime) or not isinstance(value, dt.date):
+            raise self.error(path, "expected a TOML date such as 2026-11-30 (no quotes, no time), "
+                                   f"got {_describe(value)}")
+        return value
+
+
+def _optional_text(s: _Schema, value: Any, path: str) -> str:
+    if not isinstance(value, str):
+        raise s.error(path, f"expected a text string, got {_describe(value)}")
+    return value
+
+
+def _join(path: str, key: str) -> str:
+    return f"{path}.{key}" if path else key
+
+
+def _describe(value: Any) -> str:
+    if isinstance(value, bool):
+        return f"the boolean {str(value).lower()}"
+    if isinstance(value, str):
+        return f'the text "{value}"'
+    if isinstance(value, dict):
+        return "a table"
+    if isinstance(value, list):
+        return "an array"
+    if isinstance(value, dt.datetime):
+        return f"the date-time {value.isoformat()}"
+    if isinstance(value, dt.date):
+        return f"the date {value.isoformat()}"
+    return f"{type(value).__name__} {value!r}"
+
+
+def _read_toml(path: Path) -> dict:
+    try:
+        raw = path.read_bytes()
+    except FileNotFoundError:
+        raise InputError("file not found", file=path) from None
+    except IsADirectoryError:
+        raise InputError("expected a file, found a folder", file=path) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the file: {exc.strerror}", file=path) from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise InputError(f"the file is not UTF-8 text (byte {exc.start})", file=path) from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        found = re.search(r"\(at line (\d+), column (\d+)\)", str(exc))
+        line = int(found.group(1)) if found else None
+        reason = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(exc))
+        position = f" at line {found.group(1)}, column {found.group(2)}" if found else ""
+        raise InputError(f"malformed TOML{position}: {reason}", file=path, row=line) from None
+
+
+# --------------------------------------------------------------------------- sections
+def _site_info(s: _Schema, table: dict) -> SiteInfo:
+    s.keys(table, "site", ("name", "year_built", "assessment_date"), ("structure",))
+    assessment_date = s.date(table["assessment_date"], "site.assessment_date")
+    year_built = s.integer(table["year_built"], "site.year_built", 1800, assessment_date.year)
+    structure = table.get("structure")
+    return SiteInfo(
+        name=s.text(table["name"], "site.name"),
+        year_built=year_built,
+        assessment_date=assessment_date,
+        structure=None if structure is None else s.text(structure, "site.structure"),
+    )
+
+
+def _target(s: _Schema, table: dict) -> Target:
+    s.keys(table, "target", ("consequence_class", "reference_period", "cost_of_safety"))
+    return Target(
+        consequence_class=s.text(table["consequence_class"], "target.consequence_class",
+                                 CONSEQUENCE_CLASSES),
+        reference_period=s.number(table["reference_period"], "target.reference_period",
+                                  0.0, 200.0, "years"),
+        cost_of_safety=s.text(table["cost_of_safety"], "target.cost_of_safety", COST_OF_SAFETY),
+    )
+
+
+def _materials(s: _Schema, table: dict) -> Materials:
+    s.keys(table, "materials", ("concrete_class", "steel_grade"),
+           ("production", "cement_type", "binder_content", "concrete_density",
+            "water_cement_ratio"))
+    concrete_class = s.text(table["concrete_class"], "materials.concrete_class")
+    found = _CONCRETE_CLASS.match(concrete_class)
+    if not found or not 8 <= int(found.group(1)) <= 100:
+        raise s.error("materials.concrete_class",
+                      f'expected an EN 206 cylinder class such as "C30" or "C30/37" '
+                      f'(C8 to C100), got "{concrete_class}"')
+    steel_grade = s.text(table["steel_grade"], "materials.steel_grade")
+    found = _STEEL_GRADE.match(steel_grade)
+    if not found or not 200 <= int(found.group(1)) <= 700:
+        raise s.error("materials.steel_grade",
+                      f'expected a grade with the characteristic yield in MPa in its name, such '
+                      f'as "B500", "S410" or "Gr460" (200 to 700 MPa), got "{steel_grade}"')
+
+    def optional(key: str, check: Callable[[Any, str], Any]):
+        return None if key not in table else check(table[key], f"materials.{key}")
+
+    return Materials(
+        concrete_class=concrete_class,
+        steel_grade=steel_grade,
+        production=s.text(table.get("production", "ready-mixed"), "materials.production",
+                          PRODUCTION),
+        cement_type=optional("cement_type", lambda v, p: s.text(v, p, CEMENT_TYPES)),
+        binder_content=optional("binder_content",
+                                lambda v, p: s.number(v, p, 150.0, 800.0, "kg/m3", True)),
+        concrete_density=optional("concrete_density",
+                                  lambda v, p: s.number(v, p, 1500.0, 3000.0, "kg/m3", True)),
+        water_cement_ratio=optional("water_cement_ratio",
+                                    lambda v, p: s.number(v, p, 0.2, 1.0, "-", True)),
+    )
+
+
+def _loads(s: _Schema, table: dict) -> Loads:
+    s.keys(table, "loads", ("superimposed_dead", "imposed_category", "imposed_characteristic",
+                            "concrete_unit_weight"))
+    return Loads(
+        superimposed_dead=s.number(table["superimposed_dead"], "loads.superimposed_dead",
+                                   0.0, 50.0, "kN/m2", True),
+        imposed_category=s.text(table["imposed_category"], "loads.imposed_category",
+                                IMPOSED_CATEGORIES),
+        imposed_characteristic=s.number(table["imposed_characteristic"],
+                                        "loads.imposed_characteristic", 0.0, 50.0, "kN/m2"),
+        concrete_unit_weight=s.number(table["concrete_unit_weight"], "loads.concrete_unit_weight",
+                                      15.0, 30.0, "kN/m3", True),
+    )
+
+
+def _check_id(s: _Schema, key: str, path: str) -> str:
+    if not key.strip() or key != key.strip():
+        raise s.error(path, f"an id must be non-empty text without surrounding spaces, "
+                            f"got '{key}'")
+    return key
+
+
+def _zones(s: _Schema, table: dict) -> dict[str, Zone]:
+    if not table:
+        raise s.error("zones", "expected at least one zone, e.g. [zones.L1]")
+    zones = {}
+    for zone_id, body in table.items():
+        path = f"zones.{zone_id}"
+        _check_id(s, zone_id, path)
+        body = s.table(body, path)
+        s.keys(body, path, ("description", "exposure"), ("mean_annual_temperature",))
+        temperature = body.get("mean_annual_temperature")
+        zones[zone_id] = Zone(
+            zone_id=zone_id,
+            description=s.text(body["description"], f"{path}.description"),
+            exposure=s.text(body["exposure"], f"{path}.exposure", EXPOSURES),
+            mean_annual_temperature=None if temperature is None else s.number(
+                temperature, f"{path}.mean_annual_temperature", -30.0, 40.0, "degC", True),
+        )
+    return zones
+
+
+_MEMBER_COMMON = ("zone", "kind", "depth", "cover", "bar_diameter")
+_MEMBER_OPTIONAL = ("bar_spacing", "steel_area", "shear_reinforcement", "tension_face")
+_MEMBER_KEYS = {
+    "one-way slab": (_MEMBER_COMMON + ("span",), _MEMBER_OPTIONAL + ("width",)),
+    "beam": (_MEMBER_COMMON + ("span", "width"), _MEMBER_OPTIONAL),
+    "flat-slab column connection": (
+        _MEMBER_COMMON + ("column_size", "position", "span_x", "span_y"),
+        _MEMBER_OPTIONAL + ("width",)),
+}
+
+
+def _span(s: _Schema, value: Any, path: str) -> float:
+    hint = ""
+    if isinstance(value, (int, float)) and not isinstance(value, bool) and value > 50:
+        hint = " (spans are in m; this looks like mm)"
+    return s.number(value, path, 0.0, 50.0, "m", hint=hint)
+
+
+def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -> Member:
+    path = f"members.{member_id}"
+    _check_id(s, member_id, path)
+    if "kind" not in body:
+        raise s.error(f"{path}.kind", f"missing required key 'kind' in [{path}]; expected one "
+                                      f"of " + " | ".join(f'"{k}"' for k in MEMBER_KINDS))
+    kind = s.text(body["kind"], f"{path}.kind", MEMBER_KINDS)
+    required, optional = _MEMBER_KEYS[kind]
+    s.keys(body, path, required, optional)
+
+    zone = s.text(body["zone"], f"{path}.zone")
+    if zone not in zones:
+        raise s.error(f"{path}.zone", f'unknown zone "{zone}"; the zones defined under [zones] '
+                                      f"are: {', '.join(zones)}")
+    depth = s.number(body["depth"], f"{path}.depth", 50.0, 3000.0, "mm", True,
+                     hint=" (depths are in mm)")
+    cover = s.number(body["cover"], f"{path}.cover", 0.0, 200.0, "mm")
+    bar_diameter = s.number(body["bar_diameter"], f"{path}.bar_diameter", 3.0, 50.0, "mm", True)
+    if cover >= depth:
+        raise s.error(f"{path}.cover", f"cover ({cover:g} mm) must be smaller than the depth "
+                                       f"({depth:g} mm)")
+    if cover + bar_diameter >= depth:
+        raise s.error(f"{path}.bar_diameter",
+                      f"cover + bar diameter ({cover + bar_diameter:g} mm) must be smaller than "
+                      f"the depth ({depth:g} mm)")
+    width = s.number(body.get("width", 1000.0), f"{path}.width", 0.0, 10000.0, "mm")
+
+    has_spacing, has_area = "bar_spacing" in body, "steel_area" in body
+    if has_spacing == has_area:
+        which = "both" if has_spacing else "neither"
+        raise s.error(f"{path}.bar_spacing",
+                      f"give exactly one of 'bar_spacing' [mm] or 'steel_area' [mm2]; "
+                      f"found {which}")
+    bar_spacing = steel_area = None
+    if has_spacing:
+        bar_spacing = s.number(body["bar_spacing"], f"{path}.bar_spacing", bar_diameter, 1000.0,
+                               "mm", hint=" (must exceed the bar diameter)")
+    else:
+        steel_area = s.number(body["steel_area"], f"{path}.steel_area", 0.0, 1.0e6, "mm2")
+
+    span = None
+    if "span" in body:
+        span = _span(s, body["span"], f"{path}.span")
+
+    column_size = position = span_x = span_y = None
+    if kind == "flat-slab column connection":
+        raw = body["column_size"]
+        if not isinstance(raw, list) or len(raw) != 2:
+            raise s.error(f"{path}.column_size",
+                          f"expected two numbers [c1, c2] in mm, got {_describe(raw)}")
+        column_size = tuple(s.number(v, f"{path}.column_size[{i}]", 100.0, 3000.0, "mm", True)
+                            for i, v in enumerate(raw))
+        position = s.text(body["position"], f"{path}.position", COLUMN_POSITIONS)
+        span_x = _span(s, body["span_x"], f"{path}.span_x")
+        span_y = _span(s, body["span_y"], f"{path}.span_y")
+
+    return Member(
+        member_id=member_id,
+        zone=zone,
+        kind=kind,
+        depth=depth,
+        cover=cover,
+        bar_diameter=bar_diameter,
+        width=width,
+        span=span,
+        bar_spacing=bar_spacing,
+        steel_area=steel_area,
+        shear_reinforcement=s.boolean(body.get("shear_reinforcement", False),
+                                      f"{path}.shear_reinforcement"),
+        tension_face=s.text(body.get("tension_face", "bottom"), f"{path}.tension_face",
+                            TENSION_FACES),
+        column_size=column_size,
+        position=position,
+        span_x=span_x,
+        span_y=span_y,
+    )
+
+
+# --------------------------------------------------------------------------- public
+def load_site(path: str | Path) -> Site:
+    """Read and check a site file.
+
+    Parameters
+    ----------
+    path : str or Path
+        The ``site.toml`` file, or the site folder holding it.
+
+    Returns
+    -------
+    Site
+        Frozen dataclasses for ``[site]``, ``[target]``, ``[materials]``, ``[loads]``,
+        ``[zones.*]`` and ``[members.*]``.
+
+    Raises
+    ------
+    InputError
+        Malformed TOML (with the parser's line and column), a missing or unknown key, a value
+        of the wrong type or out of range, a member referring to an undefined zone. The error
+        names the file and the dotted key path (``members.S1-03.span``).
+    """
+    path = Path(path)
+    if path.is_dir():
+        path = path / "site.toml"
+    data = _read_toml(path)
+    s = _Schema(path)
+    s.keys(data, "", ("site", "target", "materials", "loads", "zones"), ("members",))
+    sections = {name: s.table(data[name], name) for name in data}
+    zones = _zones(s, sections["zones"])
+    members = {}
+    for member_id, body in sections.get("members", {}).items():
+        members[member_id] = _member(s, member_id, s.table(body, f"members.{member_id}"), zones)
+    return Site(
+        path=path,
+        site=_site_info(s, sections["site"]),
+        target=_target(s, sections["target"]),
+        materials=_materials(s, sections["materials"]),
+        loads=_loads(s, sections["loads"]),
+        zones=MappingProxyType(zones),
+        members=MappingProxyType(members),
+    )
+
+
+def load_campaign(path: str | Path) -> CampaignInfo:
+    """Read and check a ``campaign.toml`` (keys ``name``, ``date``, ``description``).
+
+    Parameters
+    ----------
+    path : str or Path
+        The ``campaign.toml`` file, or the campaign folder holding it.
+
+    Raises
+    ------
+    InputError
+        Malformed TOML, a missing or unknown key, or a value of the wrong type.
+    """
+    path = Path(path)
+    if path.is_dir():
+        path = path / "campaign.toml"
+    data = _read_toml(path)
+    s = _Schema(path)
+    s.keys(data, "", ("name", "date"), ("description",))
+    return CampaignInfo(
+        name=s.text(data["name"], "name"),
+        date=s.date(data["date"], "date"),
+        description=_optional_text(s, data.get("description", ""), "description"),
+    )
+
+
+__all__ = ["Site", "SiteInfo", "Target", "Materials", "Loads", "Zone", "Member", "CampaignInfo",
+           "load_site", "load_campaign", "MEMBER_KINDS", "EXPOSURES"]

@@ -1,0 +1,188 @@
+"""Ledger: schema, foreign keys, append-only triggers, results API."""
+
+import datetime as dt
+import json
+import sqlite3
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from inspection_io.errors import InputError
+from inspection_io.ledger import (APPEND_ONLY_TABLES, LEDGER_NAME, SCHEMA_VERSION, Ledger,
+                                  NewFile)
+
+
+def new_file(sha="a" * 64, name="cores.csv", rows=2):
+    return NewFile(name=name, sha256=sha, size_bytes=123, kind="cores", row_count=rows,
+                   metadata={"raw_headers": ["zone", "core_id"]})
+
+
+def observations(rows=(2, 3), date=None):
+    return pd.DataFrame({
+        "kind": "cores", "source_row": list(rows), "item_id": [f"C{r}" for r in rows],
+        "zone": "L1", "member": [None] * len(rows), "date": [date] * len(rows),
+        "quantity": "core_strength", "value": [30.0 + r for r in rows], "unit": "MPa",
+        "flags": ["", "bar_in_core;damaged"][:len(rows)], "extra": ['{"diameter": 100.0}'] * len(rows),
+    })
+
+
+def write_one(ledger, sha="a" * 64, campaign="2009 first survey", date=dt.date(2009, 6, 15),
+              rows=(2, 3), obs_date=None):
+    raw = [(r, {"zone": "L1", "core_id": f"C{r}"}) for r in rows]
+    return ledger.write_import(campaign_name=campaign, campaign_date=date,
+                               campaign_description="Cores", file=new_file(sha, rows=len(rows)),
+                               raw_rows=raw, observations=observations(rows, obs_date))
+
+
+@pytest.fixture
+def ledger(tmp_path):
+    with Ledger(tmp_path) as opened:
+        yield opened
+
+
+def test_schema_tables_version_and_pragmas(ledger, tmp_path):
+    assert ledger.path == tmp_path / LEDGER_NAME and ledger.path.is_file()
+    conn = ledger.connection()
+    tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type='table'")}
+    assert {"schema_version", "campaigns", "files", "raw_rows", "observations",
+            "results"} <= tables
+    assert conn.execute("SELECT version FROM schema_version").fetchall() == [(SCHEMA_VERSION,)]
+    assert conn.execute("PRAGMA foreign_keys").fetchone() == (1,)
+    assert conn.execute("PRAGMA journal_mode").fetchone() == ("delete",)
+    observation_columns = [r[1] for r in conn.execute("PRAGMA table_info(observations)")]
+    # data-formats.md, "Canonical observation"
+    for column in ("campaign_id", "file_id", "source_row", "kind", "zone", "member", "item_id",
+                   "date", "quantity", "value", "unit", "flags"):
+        assert column in observation_columns
+
+
+def test_reopening_keeps_the_schema_and_rows(tmp_path):
+    with Ledger(tmp_path) as ledger:
+        write_one(ledger)
+    with Ledger(tmp_path) as ledger:
+        assert [c.name for c in ledger.campaigns()] == ["2009 first survey"]
+        assert ledger.connection().execute("SELECT count(*) FROM schema_version").fetchone() == (1,)
+
+
+def test_foreign_keys_are_enforced(ledger):
+    conn = ledger.connection()
+    with pytest.raises(sqlite3.IntegrityError, match="FOREIGN KEY"):
+        conn.execute("INSERT INTO files (campaign_id, name, sha256, size_bytes, kind, row_count, "
+                     "imported_at) VALUES (99, 'x.csv', ?, 1, 'cores', 0, 'now')", ("b" * 64,))
+    write_one(ledger)
+    with pytest.raises(sqlite3.IntegrityError, match="FOREIGN KEY"):
+        # an observation must point at a raw row of its file
+        conn.execute("INSERT INTO observations (campaign_id, file_id, source_row, kind, zone, "
+                     "item_id, date, quantity, value, unit) VALUES "
+                     "(1, 1, 99, 'cores', 'L1', 'C9', '2009-06-15', 'core_strength', 1, 'MPa')")
+
+
+@pytest.mark.parametrize("table", APPEND_ONLY_TABLES)
+def test_update_and_delete_are_refused_by_triggers(ledger, table):
+    write_one(ledger)
+    ledger.append_result("reliability", {"beta": 3.1})
+    conn = ledger.connection()
+    before = conn.execute(f"SELECT * FROM {table}").fetchall()
+    assert before
+    with pytest.raises(sqlite3.IntegrityError, match="append-only"):
+        conn.execute(f"UPDATE {table} SET rowid = rowid")
+    with pytest.raises(sqlite3.IntegrityError, match="append-only"):
+        conn.execute(f"DELETE FROM {table}")
+    assert conn.execute(f"SELECT * FROM {table}").fetchall() == before
+
+
+def test_ledger_api_has_no_update_or_delete():
+    public = [name for name in dir(Ledger) if not name.startswith("_")]
+    assert not [n for n in public if any(w in n for w in ("update", "delete", "remove", "drop"))]
+
+
+def test_write_import_and_observation_query(ledger):
+    record, written = write_one(ledger)
+    assert written and record.sha256 == "a" * 64 and record.campaign == "2009 first survey"
+    frame = ledger.observations()
+    assert list(frame["source_row"]) == [2, 3]
+    # an empty observation date takes the campaign date
+    assert set(frame["date"]) == {dt.date(2009, 6, 15)}
+    assert list(frame["flags"]) == ["", "bar_in_core;damaged"]
+    assert json.loads(frame["extra"].iloc[0]) == {"diameter": 100.0}
+    assert frame["campaign"].iloc[0] == "2009 first survey"
+    assert ledger.raw_rows(record.id)[0] == (2, {"zone": "L1", "core_id": "C2"})
+    assert ledger.files()[0].metadata == {"raw_headers": ["zone", "core_id"]}
+
+
+def test_same_hash_twice_writes_nothing(ledger):
+    write_one(ledger)
+    record, written = write_one(ledger, campaign="another")
+    assert not written and record.campaign == "2009 first survey"
+    assert len(ledger.observations()) == 2 and len(ledger.campaigns()) == 1
+
+
+def test_campaign_date_conflict_is_an_input_error_and_writes_nothing(ledger):
+    write_one(ledger)
+    with pytest.raises(InputError, match="2009-06-15"):
+        write_one(ledger, sha="b" * 64, date=dt.date(2010, 1, 1))
+    assert len(ledger.files()) == 1
+
+
+def test_failure_inside_the_transaction_rolls_back_everything(ledger):
+    bad = observations()
+    bad.loc[1, "source_row"] = 7  # no raw row 7: foreign key fails on the last insert
+    with pytest.raises(sqlite3.IntegrityError):
+        ledger.write_import(campaign_name="c", campaign_date=dt.date(2020, 1, 1),
+                            campaign_description="", file=new_file(),
+                            raw_rows=[(2, {}), (3, {})], observations=bad)
+    conn = ledger.connection()
+    for table in APPEND_ONLY_TABLES:
+        assert conn.execute(f"SELECT count(*) FROM {table}").fetchone() == (0,)
+
+
+def test_observation_filters(ledger):
+    write_one(ledger, sha="a" * 64, campaign="one", date=dt.date(2009, 6, 15))
+    write_one(ledger, sha="b" * 64, campaign="two", date=dt.date(2015, 6, 15), rows=(2,))
+    assert len(ledger.observations(kind="cores")) == 3
+    assert len(ledger.observations(kind="cover")) == 0
+    assert len(ledger.observations(zone="L2")) == 0
+    two = ledger.campaign("two").id
+    assert list(ledger.observations(campaign_ids=[two])["campaign"]) == ["two"]
+    assert len(ledger.observations(campaign_ids=[])) == 0
+    assert len(ledger.observations(until_date=dt.date(2010, 1, 1))) == 2
+    assert len(ledger.observations(until_date=dt.date(2015, 6, 15))) == 3
+
+
+def test_results_are_appended_and_queried(ledger):
+    first = ledger.append_result("reliability", {"beta": np.float64(3.2), "alpha": np.array([0.6, 0.8])},
+                                 member="S1-03", mode="flexure", seed=np.int64(42),
+                                 settings={"method": "FORM"}, code_version="9.9")
+    second = ledger.append_result("reliability", {"beta": 3.0}, member="S1-03", mode="shear")
+    assert second > first
+    flexure = ledger.results(member="S1-03", mode="flexure")
+    assert len(flexure) == 1
+    assert flexure[0].payload == {"beta": 3.2, "alpha": [0.6, 0.8]}
+    assert (flexure[0].seed, flexure[0].code_version) == (42, "9.9")
+    assert flexure[0].settings == {"method": "FORM"}
+    assert [r.mode for r in ledger.results(kind="reliability")] == ["flexure", "shear"]
+    assert ledger.results(kind="remaining_life") == []
+
+
+@pytest.mark.parametrize("kwargs", [{"seed": -1}, {"seed": 2 ** 63}, {"seed": 1.5},
+                                    {"payload": {"x": object()}}, {"kind": ""}])
+def test_bad_results_are_input_errors(ledger, kwargs):
+    arguments = {"kind": "reliability", "payload": {"beta": 1.0}, **kwargs}
+    with pytest.raises(InputError):
+        ledger.append_result(arguments.pop("kind"), arguments.pop("payload"), **arguments)
+    assert ledger.results() == []
+
+
+def test_a_file_that_is_not_a_ledger_is_an_input_error(tmp_path):
+    path = tmp_path / LEDGER_NAME
+    path.write_bytes(b"this is not sqlite" * 100)
+    with pytest.raises(InputError, match="not a readable ledger"):
+        Ledger(path).connection()
+
+
+def test_newer_schema_version_is_refused(tmp_path):
+    with Ledger(tmp_path) as ledger:
+        ledger.connection().execute("INSERT INTO schema_version VALUES (2)")
+    with pytest.raises(InputError, match="schema version 2"):
+        Ledger(tmp_path).connection()
