@@ -160,11 +160,19 @@ class Distribution:
         self.kind = kind
         self.params = params
         self.name = name
-        self._frozen = frozen
+        # The scipy object is built on first use: conditional variables are rebuilt
+        # on every limit-state call and mostly need only the fast maps below.
+        self._frozen_or_factory = frozen
+
+    @property
+    def _frozen(self):
+        if callable(self._frozen_or_factory) and not hasattr(self._frozen_or_factory, "ppf"):
+            self._frozen_or_factory = self._frozen_or_factory()
+        return self._frozen_or_factory
 
     def renamed(self, name: str | None) -> "Distribution":
         """The same distribution under another variable name (for messages)."""
-        return Distribution(self.kind, self.params, self._frozen, name)
+        return Distribution(self.kind, self.params, self._frozen_or_factory, name)
 
     # -- moments -------------------------------------------------------------
     @property
@@ -244,6 +252,9 @@ class Distribution:
         u = np.asarray(u, dtype=float)
         if self.kind == "deterministic":
             return np.broadcast_arrays(np.asarray(self.params["value"], dtype=float), u)[0].copy()
+        fast = _fast_x_from_u(self.kind, self.params, u)
+        if fast is not None:
+            return fast
         lower = self._frozen.ppf(special.ndtr(np.minimum(u, 0.0)))
         upper = self._frozen.isf(special.ndtr(-np.maximum(u, 0.0)))
         return np.where(u < 0.0, lower, upper)
@@ -258,6 +269,9 @@ class Distribution:
             raise InputError(f"{_where(self.name)}a deterministic value has no "
                              "standard normal coordinate")
         x = np.asarray(x, dtype=float)
+        fast = _fast_u_from_x(self.kind, self.params, x)
+        if fast is not None:
+            return fast
         cdf = self._frozen.cdf(x)
         sf = self._frozen.sf(x)
         return np.where(cdf <= 0.5, special.ndtri(cdf), -special.ndtri(sf))
@@ -483,6 +497,47 @@ def _native_from_moments(kind, mean, std, native, name):
     return {"nu": nu, "loc": mean, "scale": std * np.sqrt((nu - 2) / nu)}
 
 
+def _fast_x_from_u(kind, p, u):
+    """Closed-form x = F^-1(Phi(u)) for the common kinds (same tail rules), else None.
+
+    normal: mu + sigma u; lognormal: exp(mu_ln + sigma_ln u); Gumbel (max):
+    loc - scale ln(-ln Phi(u)) with ln Phi(u) from ``log_ndtr`` (accurate in both
+    tails); gamma: regularised incomplete-gamma inverses on the lower/upper side.
+    """
+    if kind == "normal":
+        return p["mu"] + p["sigma"] * u
+    if kind == "lognormal":
+        return np.exp(p["mu_ln"] + p["sigma_ln"] * u)
+    if kind == "gumbel":
+        return p["loc"] - p["scale"] * np.log(-special.log_ndtr(u))
+    if kind == "gamma":
+        shape, scale = np.broadcast_arrays(p["shape"], p["scale"], u)[:2]
+        x = np.empty(np.broadcast(shape, u).shape)
+        u_b = np.broadcast_to(u, x.shape)
+        low = u_b < 0.0
+        x[low] = special.gammaincinv(shape[low] if shape.ndim else shape,
+                                     special.ndtr(u_b[low]))
+        x[~low] = special.gammainccinv(shape[~low] if shape.ndim else shape,
+                                       special.ndtr(-u_b[~low]))
+        return np.broadcast_to(scale, x.shape) * x
+    return None
+
+
+def _fast_u_from_x(kind, p, x):
+    """Closed-form u = Phi^-1(F(x)) for the kinds of `_fast_x_from_u`, else None."""
+    if kind == "normal":
+        return (x - p["mu"]) / p["sigma"]
+    if kind == "lognormal":
+        with np.errstate(divide="ignore"):
+            return (np.log(x) - p["mu_ln"]) / p["sigma_ln"]
+    if kind == "gamma":
+        z = np.maximum(x, 0.0) / p["scale"]
+        cdf = special.gammainc(p["shape"], z)
+        sf = special.gammaincc(p["shape"], z)
+        return np.where(cdf <= 0.5, special.ndtri(cdf), -special.ndtri(sf))
+    return None
+
+
 def _build(kind, params, name):
     """Validate native parameters and freeze the scipy distribution."""
     infinite_ok = {"lower", "upper"} if kind == "truncated_normal" else set()
@@ -493,6 +548,17 @@ def _build(kind, params, name):
                 "student_t": ("nu", "scale"), "uniform": ()}[kind]
     for key in positive:
         _require(p[key] > 0, f"{kind} {key} must be > 0", p[key], name)
+
+    def freeze():
+        return _freeze(kind, p, name)
+
+    if kind in ("uniform", "beta", "truncated_normal"):
+        _freeze(kind, p, name, check_only=True)
+    return Distribution(kind, {k: _scalar_or_array(v) for k, v in p.items()}, freeze, name)
+
+
+def _freeze(kind, p, name, check_only=False):
+    """The scipy distribution (or, with ``check_only``, only the bound checks)."""
     if kind == "normal":
         frozen = stats.norm(loc=p["mu"], scale=p["sigma"])
     elif kind == "lognormal":
@@ -517,7 +583,7 @@ def _build(kind, params, name):
         frozen = _TruncatedNormal(p["mu"], p["sigma"], p["lower"], p["upper"])
     else:
         frozen = stats.t(df=p["nu"], loc=p["loc"], scale=p["scale"])
-    return Distribution(kind, {k: _scalar_or_array(v) for k, v in p.items()}, frozen, name)
+    return None if check_only else frozen
 
 
 __all__ = ["Distribution", "make_distribution", "weibull_shape_from_cov", "KINDS", "EULER_GAMMA"]
