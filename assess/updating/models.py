@@ -31,7 +31,8 @@ POOLING = ("none", "partial", "complete")
 
 
 def hierarchical_normal_model(values, group_index, groups, prior: NormalGamma | None, *,
-                              pooling: str = "partial", tau_scale: float = 0.1):
+                              pooling: str = "partial", tau_scale: float = 0.1,
+                              name: str | None = None):
     """Build the PyMC model (not sampled).
 
     Parameters
@@ -49,6 +50,10 @@ def hierarchical_normal_model(values, group_index, groups, prior: NormalGamma | 
     tau_scale : float
         Scale of the half-normal prior on the between-group spread of the mean
         [units of Y]; 0.1 on ln f_c allows about 10 % between zones.
+    name : str, optional
+        Build a named sub-model (variables ``<name>::mu`` ...) inside the model
+        whose context is open; the enclosing model must define the ``group``
+        coordinate. Several quantities then compile and sample as one model.
 
     Returns
     -------
@@ -66,8 +71,8 @@ def hierarchical_normal_model(values, group_index, groups, prior: NormalGamma | 
         raise ValueError("values and group_index must be 1-D arrays of the same length")
     if prior is None and pooling == "partial":
         raise ValueError("partial pooling needs a proper prior")
-    coords = {"group": groups}
-    with pm.Model(coords=coords) as model:
+    model_kwargs = {"name": name} if name else {"coords": {"group": groups}}
+    with pm.Model(**model_kwargs) as model:
         if pooling == "none":
             mu, sigma = _group_parameters(pm, prior, dims="group", shape=len(groups))
             pm.Normal("y", mu=mu[idx], sigma=sigma[idx], observed=y)
@@ -137,25 +142,35 @@ def sample_posterior(model, *, draws: int = 1000, tune: int = 1000, chains: int 
                          compute_convergence_checks=False)
 
 
-def group_draws(idata, group: str):
+def group_draws(idata, group: str, name: str | None = None):
     """Flattened posterior draws of (mu, sigma) for one group.
+
+    Parameters
+    ----------
+    name : str, optional
+        Sub-model name used when building (variables ``<name>::mu``).
 
     Returns
     -------
     mu, sigma : ndarray (chains * draws,) [units of Y]
     """
     post = idata.posterior
-    mu = post["mu"].sel(group=group).values.ravel()
-    sigma = post["sigma"]
+    prefix = f"{name}::" if name else ""
+    mu = post[prefix + "mu"].sel(group=group)
+    sigma = post[prefix + "sigma"]
     if "group" in sigma.dims:
         sigma = sigma.sel(group=group)
-    return mu, np.broadcast_to(sigma.values, post["mu"].sel(group=group).shape).ravel()
+    return mu.values.ravel(), np.broadcast_to(sigma.values, mu.shape).ravel()
 
 
 def free_parameter_names(model) -> list[str]:
-    """Names of the variables the convergence gate should check."""
+    """Names of the variables the convergence gate should check.
+
+    The free variables plus every ``mu`` and ``sigma`` (also inside sub-models),
+    which are what the reliability analysis uses.
+    """
     names = [v.name for v in model.free_RVs]
-    for extra in ("mu", "sigma"):
-        if extra in model.named_vars and extra not in names:
-            names.append(extra)
+    for var in model.named_vars:
+        if var.split("::")[-1] in ("mu", "sigma") and var not in names:
+            names.append(var)
     return names

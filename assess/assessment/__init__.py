@@ -1,0 +1,1 @@
+"""Site assessment: design knowledge, site updating and member reliability, before and after."""
