@@ -153,6 +153,10 @@ class Member:
     """Span in x around the column [m] (flat-slab column connections)."""
     span_y: float | None = None
     """Span in y around the column [m] (flat-slab column connections)."""
+    tributary_width: float | None = None
+    """Width of deck carried by a beam [m] (beams; default: the beam's own width)."""
+    slab_depth: float | None = None
+    """Depth of the slab a beam carries [mm] (beams; default: no slab above the web)."""
 
     @property
     def effective_depth(self) -> float:
@@ -437,7 +441,8 @@ _MEMBER_COMMON = ("zone", "kind", "depth", "cover", "bar_diameter")
 _MEMBER_OPTIONAL = ("bar_spacing", "steel_area", "shear_reinforcement", "tension_face")
 _MEMBER_KEYS = {
     "one-way slab": (_MEMBER_COMMON + ("span",), _MEMBER_OPTIONAL + ("width",)),
-    "beam": (_MEMBER_COMMON + ("span", "width"), _MEMBER_OPTIONAL),
+    "beam": (_MEMBER_COMMON + ("span", "width"),
+             _MEMBER_OPTIONAL + ("tributary_width", "slab_depth")),
     "flat-slab column connection": (
         _MEMBER_COMMON + ("column_size", "position", "span_x", "span_y"),
         _MEMBER_OPTIONAL + ("width",)),
@@ -507,6 +512,13 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
         span_x = _span(s, body["span_x"], f"{path}.span_x")
         span_y = _span(s, body["span_y"], f"{path}.span_y")
 
+    tributary_width = slab_depth = None
+    if "tributary_width" in body:
+        tributary_width = _span(s, body["tributary_width"], f"{path}.tributary_width")
+    if "slab_depth" in body:
+        slab_depth = s.number(body["slab_depth"], f"{path}.slab_depth", 50.0, depth, "mm", True,
+                              hint=" (the slab depth is in mm and at most the beam depth)")
+
     return Member(
         member_id=member_id,
         zone=zone,
@@ -526,6 +538,8 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
         position=position,
         span_x=span_x,
         span_y=span_y,
+        tributary_width=tributary_width,
+        slab_depth=slab_depth,
     )
 
 

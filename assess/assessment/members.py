@@ -77,12 +77,18 @@ def _add_prior(model, sources, name, prior):
 def loaded_area(member) -> float:
     """Influence area of the member's governing load effect [m2] (common practice).
 
-    One-way slab: span x span; beam: span x tributary width (taken as the span
-    when not given); column connection: tributary share of span_x x span_y.
+    One-way slab: span x span; beam: span x tributary width (its own width when
+    not given); column connection: tributary share of span_x x span_y.
     """
     if member.kind == CONNECTION:
         return TRIBUTARY_SHARE[member.position] * member.span_x * member.span_y
+    if member.kind == BEAM:
+        return member.span * _beam_tributary_width(member)
     return member.span * member.span
+
+
+def _beam_tributary_width(member) -> float:
+    return member.tributary_width if member.tributary_width else member.width / 1000.0
 
 
 def build_member_model(site, member, knowledge: dict, *, reference_period_years: float,
@@ -108,8 +114,13 @@ def build_member_model(site, member, knowledge: dict, *, reference_period_years:
         add_uncertain_quantity(model, name, knowledge[key], kind=kind)
         sources[name] = knowledge[key].source
 
-    _add_prior(model, sources, "self_weight",
-               self_weight_prior(member.depth, site.loads.concrete_unit_weight))
+    unit_weight = site.loads.concrete_unit_weight
+    slab_depth = member.depth
+    web_line_load = 0.0  # [kN/m] beam web below the slab, deterministic
+    if member.kind == BEAM and member.slab_depth:
+        slab_depth = member.slab_depth
+        web_line_load = unit_weight * member.width / 1000.0 * (member.depth - slab_depth) / 1000.0
+    _add_prior(model, sources, "self_weight", self_weight_prior(slab_depth, unit_weight))
     _add_prior(model, sources, "superimposed_dead",
                superimposed_dead_prior(site.loads.superimposed_dead))
     _add_prior(model, sources, "imposed",
@@ -141,13 +152,14 @@ def build_member_model(site, member, knowledge: dict, *, reference_period_years:
     if member.kind in (SLAB, BEAM):
         span = member.span
         effect_member = "beam" if member.kind == BEAM else "one_way_slab"
-        width_m = b / 1000.0
+        # width of deck whose area loads the member carries [m]
+        width_m = _beam_tributary_width(member) if member.kind == BEAM else b / 1000.0
         theta_m = load_effect_model_uncertainty(effect_member, "moment")
         _add_prior(model, sources, "theta_E_moment", theta_m)
         _add_prior(model, sources, "theta_flexure", resistance_model_uncertainty("flexure"))
 
         def flexure(x):
-            line = total_area_load(x) * width_m
+            line = total_area_load(x) * width_m + web_line_load
             moment = x["theta_E_moment"] * line * span**2 / 8.0
             capacity = flexural_capacity(steel_area(x), yield_strength(x), x["fc"], b,
                                          np.clip(effective_depth(x), 1.0, None))
@@ -160,7 +172,7 @@ def build_member_model(site, member, knowledge: dict, *, reference_period_years:
             _add_prior(model, sources, "theta_shear", resistance_model_uncertainty("shear", "mean"))
 
             def shear(x):
-                force = x["theta_E_shear"] * total_area_load(x) * width_m * span / 2.0
+                force = x["theta_E_shear"] * (total_area_load(x) * width_m + web_line_load) * span / 2.0
                 capacity = shear_capacity(steel_area(x), x["fc"], b,
                                           np.clip(effective_depth(x), 1.0, None))
                 return x["theta_shear"] * capacity - force
@@ -169,9 +181,9 @@ def build_member_model(site, member, knowledge: dict, *, reference_period_years:
         else:
             notes.append(f"{member.member_id}: has shear reinforcement; shear with stirrups "
                          "(EN 1992-1-1 6.2.3) is not modelled and must be checked separately")
-        if member.kind == BEAM:
-            notes.append(f"{member.member_id}: beam loads taken on a tributary width equal to "
-                         f"its own width ({b:g} mm) with the area loads of the site file")
+        if member.kind == BEAM and not member.tributary_width:
+            notes.append(f"{member.member_id}: no tributary_width given; the beam carries only "
+                         f"its own width ({b:g} mm) of deck load")
     elif member.kind == CONNECTION:
         theta_e = load_effect_model_uncertainty("flat_slab", "reaction")
         _add_prior(model, sources, "theta_E_reaction", theta_e)

@@ -1,0 +1,141 @@
+"""Reliability of every member, mode and member system, before and after updating.
+
+"Before" uses the design-stage priors of `knowledge.design_knowledge`; "after"
+uses the posteriors of `site_update.update_site`. Both use the same loads,
+model uncertainties and seeds (common random numbers), so the change in beta
+is due to the site's evidence. The target is chosen from the site file's
+settings (`assess.targets.target_beta`) for the same reference period as the
+loads.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import zlib
+from typing import Callable
+
+import numpy as np
+
+from assess.assessment.members import build_member_model
+from assess.reliability.dispatch import run_method
+from assess.targets import target_beta, verdict
+
+DEFAULT_METHOD = "subset_simulation"
+
+
+@dataclasses.dataclass
+class MemberResult:
+    """Before/after reliability of one member and mode (``mode="system"`` for the series system)."""
+
+    member: str
+    zone: str
+    kind: str
+    mode: str
+    before: object
+    after: object
+    form_after: object | None
+    target: float
+    verdict: str
+
+    def drivers(self, count: int = 3) -> list[tuple[str, float]]:
+        """Largest FORM importance factors alpha^2 (after updating), physical names merged."""
+        if self.form_after is None or not self.form_after.importance_factors:
+            return []
+        merged: dict[str, float] = {}
+        for name, value in self.form_after.importance_factors.items():
+            base = name.split(".")[0]
+            merged[base] = merged.get(base, 0.0) + float(value)
+        return sorted(merged.items(), key=lambda kv: -kv[1])[:count]
+
+    def to_dict(self) -> dict:
+        return {
+            "member": self.member, "zone": self.zone, "kind": self.kind, "mode": self.mode,
+            "beta_before": self.before.beta, "pf_before": self.before.pf, "cov_before": self.before.cov,
+            "beta_after": self.after.beta, "pf_after": self.after.pf, "cov_after": self.after.cov,
+            "n_calls": self.before.n_calls + self.after.n_calls, "method": self.after.method,
+            "seed": self.after.seed, "target": self.target, "verdict": self.verdict,
+            "drivers": [{"variable": n, "alpha2": a} for n, a in self.drivers()],
+            "form_converged": None if self.form_after is None else bool(self.form_after.converged),
+            "warnings": list(self.before.warnings) + list(self.after.warnings),
+        }
+
+
+@dataclasses.dataclass
+class Assessment:
+    """The before/after table of a site and what it rests on."""
+
+    results: list
+    target: object
+    reference_period_years: float
+    notes: list
+    method: str
+    seed: int
+
+    def to_dict(self) -> dict:
+        return {
+            "target": {"beta": self.target.beta, "reference_period_years": self.target.reference_period_years,
+                       "source": self.target.source, "note": self.target.note},
+            "reference_period_years": self.reference_period_years,
+            "method": self.method, "seed": self.seed,
+            "results": [r.to_dict() for r in self.results],
+            "notes": list(self.notes),
+        }
+
+
+def _analysis_seed(seed: int, member: str, mode: str) -> int:
+    return (int(seed) + zlib.crc32(f"{member}/{mode}".encode())) % (2**32)
+
+
+def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = 20261202,
+                   options: dict | None = None, importance: bool = True, members=None,
+                   progress: Callable[[str], None] | None = None) -> Assessment:
+    """Beta before and after updating for every member, mode and member system.
+
+    Parameters
+    ----------
+    site : inspection_io.site.Site
+    update : SiteUpdate
+        From `assess.assessment.site_update.update_site` (its ``before`` and ``after``).
+    method : str
+        Reliability method for the betas (default subset simulation).
+    seed : int
+        Base seed; each member and mode gets its own, the same before and after.
+    importance : bool
+        Also run FORM on the updated model for importance factors.
+    members : iterable of str, optional
+        Only these members.
+    progress : callable, optional
+        Called with a short text after each member.
+    """
+    options = dict(options or {})
+    period = float(site.target.reference_period)
+    target = target_beta(site.target.consequence_class, period, site.target.cost_of_safety)
+    chosen = list(members) if members is not None else list(site.members)
+    results, notes = [], []
+    for member_id in chosen:
+        member = site.members[member_id]
+        models = {state: build_member_model(site, member, knowledge[member.zone],
+                                            reference_period_years=period)
+                  for state, knowledge in (("before", update.before), ("after", update.after))}
+        notes.extend(n for n in models["after"].notes if n not in notes)
+        modes = list(models["after"].modes)
+        groups = [[m] for m in modes] + ([modes] if len(modes) > 1 else [])
+        for group in groups:
+            label = group[0] if len(group) == 1 else "system"
+            run_seed = _analysis_seed(seed, member_id, label)
+            outcome = {state: run_method(models[state].problem(group), method, seed=run_seed,
+                                         **options)
+                       for state in ("before", "after")}
+            form_after = None
+            if importance and label != "system":
+                form_after = run_method(models["after"].problem(group), "form")
+            beta_after = outcome["after"].beta
+            results.append(MemberResult(
+                member=member_id, zone=member.zone, kind=member.kind, mode=label,
+                before=outcome["before"], after=outcome["after"], form_after=form_after,
+                target=target.beta,
+                verdict=verdict(beta_after, target) if np.isfinite(beta_after) or beta_after > 0
+                else "below target"))
+        if progress:
+            progress(member_id)
+    return Assessment(results, target, period, notes, method, seed)
