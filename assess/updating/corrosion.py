@@ -1,0 +1,420 @@
+"""Bayesian updating of corrosion initiation time and corrosion rate per zone.
+
+Per zone z the free parameters are the median initiation time t_i,z [yr] and
+the corrosion current density after initiation i_corr,z [uA/cm2], both with
+lognormal priors (i_corr by exposure class from
+`assess.deterioration.defaults.CORROSION_RATE`; t_i from the chloride or
+carbonation posterior, or from judgement). Two kinds of evidence update them:
+
+Section loss at break-outs. Uniform corrosion by Faraday's law,
+
+    P = 0.0116 i_corr max(t - t_i, 0)  [mm],   A/A0 = max(1 - 2 P / D0, 0)^2,
+
+the same expressions as `assess.deterioration.corrosion` (`penetration_depth`,
+`residual_area_ratio` with ``rule="uniform"``), with a normal measurement error
+of the ratio (sd known or half-normal). Two ages identify both the rate (the
+slope) and the initiation time (the intercept).
+
+Half-cell potentials. Initiation is not simultaneous over a zone: cover,
+concrete and exposure vary from point to point. This is represented by a
+lognormal scatter of the local initiation time about the zone median,
+ln t_i,local = ln t_i,z + s eps, eps ~ N(0, 1), so that a reading location at
+age t is active with probability
+
+    p_active(t) = P(t_i,local < t) = Phi((ln t - ln t_i,z) / s).
+
+A reading E is then drawn from the mixture
+p_active f(E | active) + (1 - p_active) f(E | passive), with the normal densities
+of `assess.deterioration.halfcell` (illustrative defaults after Faber & Sorensen
+2002, from memory). Readings are taken as independent given t_i,z; readings on
+a close grid are spatially correlated, so this overstates their weight unless
+the grid is thinned to about the correlation length (judgement; Faber &
+Sorensen 2002 discuss it).
+
+Section loss uses the zone median t_i,z (a break-out is taken at a typical
+location of the zone).
+
+References
+----------
+.. [1] M. Faraday (1834), law of electrolysis; 1 uA/cm2 = 11.6 um/yr of iron.
+.. [2] M. H. Faber and J. D. Sorensen, "Indicators for inspection and maintenance
+   planning of concrete structures," *Struct. Saf.*, vol. 24, pp. 377-396, 2002
+   (from memory).
+.. [3] C. Andrade and C. Alonso, "Corrosion rate monitoring in the laboratory and
+   on-site," *Constr. Build. Mater.*, vol. 10, no. 5, pp. 315-328, 1996.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import numpy as np
+from scipy import stats
+
+from assess.deterioration.corrosion import FARADAY_MM_PER_YEAR_PER_UA_CM2
+from assess.deterioration.defaults import CORROSION_RATE, HALF_CELL_LIKELIHOOD, lookup
+from assess.deterioration.halfcell import potential_log_likelihood
+from assess.errors import InputError
+from assess.updating.chloride import (check_observation_vector, check_zone_index,
+                                      check_zone_names, sampler_seed)
+from assess.updating.gate import GateReport, require_convergence
+from assess.updating.models import sample_posterior
+
+SPATIAL_LOG_SD = 0.7
+"""Default scatter s of ln(local initiation time) within a zone [-].
+
+Judgement from the chloride model: t_i grows as cover^(2/(1-a)), so a cover
+CoV of about 0.25 (JCSS PMC Part 3.10, from memory) with a = 0.3 alone gives
+a ln t_i scatter of about 2 x 0.25 / 0.7 = 0.7."""
+
+RATIO_SD_SCALE = 0.05
+"""Scale of the half-normal prior of the measurement sd of A/A0 [-] (judgement:
+caliper readings of a cleaned bar at a break-out)."""
+
+PARAMETER_NAMES = ("initiation_time", "corrosion_rate", "ratio_measurement_sd")
+
+
+@dataclasses.dataclass(frozen=True)
+class ZoneCorrosionPrior:
+    """Lognormal priors of one zone's initiation time and corrosion rate.
+
+    Parameters
+    ----------
+    rate_median : float
+        Median of i_corr [uA/cm2].
+    rate_log_sd : float
+        Standard deviation of ln i_corr [-].
+    initiation_median_years : float
+        Median of the zone's initiation time t_i since construction [yr].
+    initiation_log_sd : float
+        Standard deviation of ln t_i [-].
+    source : str
+    """
+
+    rate_median: float
+    rate_log_sd: float
+    initiation_median_years: float
+    initiation_log_sd: float
+    source: str = ""
+
+    def __post_init__(self):
+        for name in ("rate_median", "rate_log_sd", "initiation_median_years",
+                     "initiation_log_sd"):
+            value = getattr(self, name)
+            if not (isinstance(value, (int, float, np.integer, np.floating))
+                    and np.isfinite(value) and value > 0):
+                raise InputError(f"The {name!r} parameter of ZoneCorrosionPrior must be a "
+                                 f"number > 0. Got {value!r} instead.", column=name)
+
+    @classmethod
+    def from_exposure(cls, exposure, initiation_median_years, initiation_log_sd):
+        """Rate prior from `CORROSION_RATE[exposure]`, initiation prior as given.
+
+        Parameters
+        ----------
+        exposure : str
+            ``"exposed deck"``, ``"sheltered soffit"`` or ``"internal"``.
+        initiation_median_years : float
+            Median t_i [yr].
+        initiation_log_sd : float
+            Standard deviation of ln t_i [-].
+        """
+        spec = lookup(CORROSION_RATE, exposure, "CORROSION_RATE")
+        dist = spec.to_scipy()
+        return cls(rate_median=float(dist.kwds["scale"]), rate_log_sd=float(dist.kwds["s"]),
+                   initiation_median_years=float(initiation_median_years),
+                   initiation_log_sd=float(initiation_log_sd),
+                   source=f"i_corr: CORROSION_RATE[{exposure!r}] ({spec.source})")
+
+    @classmethod
+    def from_initiation_draws(cls, exposure, initiation_draws_years):
+        """Rate prior from the exposure class, t_i prior fitted to draws of t_i.
+
+        The lognormal is matched to the 16th, 50th and 84th percentiles of the
+        draws (e.g. `ChlorideFit.initiation_time_draws`), which tolerates a
+        minority of +inf draws (never initiating); if the 84th percentile is
+        infinite, the lower half alone gives the log-sd.
+
+        Parameters
+        ----------
+        exposure : str
+        initiation_draws_years : array_like
+            Initiation times [yr], > 0; +inf allowed for fewer than half.
+        """
+        t = np.asarray(initiation_draws_years, dtype=float).ravel()
+        if t.size < 10 or np.isnan(t).any() or (t <= 0).any():
+            raise InputError("from_initiation_draws needs at least 10 initiation times > 0 "
+                             "without NaN.", column="initiation_draws_years")
+        q16, q50, q84 = np.quantile(t, [0.15865, 0.5, 0.84135])
+        if not np.isfinite(q50):
+            raise InputError("More than half of the initiation-time draws are infinite "
+                             "(corrosion never starts): a lognormal prior cannot represent "
+                             "that; give the prior directly.", column="initiation_draws_years")
+        log_sd = (0.5 * (math.log(q84) - math.log(q16)) if np.isfinite(q84)
+                  else math.log(q50) - math.log(q16))
+        base = cls.from_exposure(exposure, q50, max(log_sd, 1e-3))
+        return dataclasses.replace(base, source=base.source + "; t_i: fitted to posterior draws")
+
+    def probability_active(self, age_years, spatial_log_sd=SPATIAL_LOG_SD):
+        """Prior probability that a location is active at an age [-].
+
+        P = Phi((ln t - m) / sqrt(s_ti^2 + s^2)), the closed form of
+        E[Phi((ln t - ln t_i) / s)] with ln t_i ~ N(m, s_ti).
+        """
+        t = np.asarray(age_years, dtype=float)
+        spread = math.hypot(self.initiation_log_sd, spatial_log_sd)
+        return stats.norm.cdf((np.log(t) - math.log(self.initiation_median_years)) / spread)
+
+
+@dataclasses.dataclass(frozen=True)
+class SectionLossData:
+    """Residual-area ratios measured at break-outs.
+
+    Attributes
+    ----------
+    age_years : array_like (n,)
+        Age at measurement [yr], > 0.
+    residual_area_ratio : array_like (n,)
+        A_res / A0 [-], in [0, 1.2] (above 1 only by measurement error).
+    bar_diameter_mm : array_like (n,)
+        Original (nominal) bar diameter D0 [mm], > 0.
+    zone_index : array_like of int (n,)
+        Position in ``zones`` [-].
+    """
+
+    age_years: object
+    residual_area_ratio: object
+    bar_diameter_mm: object
+    zone_index: object
+
+
+@dataclasses.dataclass(frozen=True)
+class HalfCellData:
+    """Half-cell potential readings.
+
+    Attributes
+    ----------
+    age_years : array_like (n,)
+        Age at the survey [yr], > 0.
+    potential_mv_cse : array_like (n,)
+        Reading vs Cu/CuSO4 [mV].
+    zone_index : array_like of int (n,)
+        Position in ``zones`` [-].
+    """
+
+    age_years: object
+    potential_mv_cse: object
+    zone_index: object
+
+
+def residual_area_ratio_tensor(bar_diameter_mm, corrosion_rate_ua_cm2, age_years,
+                               initiation_time_years):
+    """Pytensor A/A0 under uniform Faraday corrosion [-].
+
+    max(1 - 2 P / D0, 0)^2 with P = 0.0116 i_corr max(t - t_i, 0): the same as
+    ``residual_area_ratio(D0, penetration_depth(i_corr, time_since_initiation(t,
+    t_i)), rule="uniform")`` of `assess.deterioration.corrosion` for finite t_i.
+    """
+    import pytensor.tensor as pt
+
+    propagation = pt.maximum(age_years - initiation_time_years, 0.0)
+    penetration = FARADAY_MM_PER_YEAR_PER_UA_CM2 * corrosion_rate_ua_cm2 * propagation
+    return pt.maximum(1.0 - 2.0 * penetration / bar_diameter_mm, 0.0) ** 2
+
+
+def _check_priors(priors, names, caller):
+    if not hasattr(priors, "keys"):
+        raise InputError(f"The 'priors' parameter of {caller} must map each zone name to a "
+                         f"ZoneCorrosionPrior. Got {type(priors).__name__}.", column="priors")
+    missing = [z for z in names if z not in priors]
+    if missing:
+        raise InputError(f"The 'priors' parameter of {caller} has no entry for zone(s) "
+                         f"{missing}.", column="priors")
+    for z in names:
+        if not isinstance(priors[z], ZoneCorrosionPrior):
+            raise InputError(f"priors[{z!r}] of {caller} must be a ZoneCorrosionPrior. Got "
+                             f"{type(priors[z]).__name__}.", column=f"priors.{z}")
+    return [priors[z] for z in names]
+
+
+def corrosion_model(zones, *, priors, section_loss=None, half_cell=None,
+                    spatial_log_sd=SPATIAL_LOG_SD, ratio_sd=None,
+                    ratio_sd_scale=RATIO_SD_SCALE, half_cell_params=None):
+    """PyMC model of initiation time and corrosion rate per zone (not sampled).
+
+    Parameters
+    ----------
+    zones : sequence of str
+    priors : mapping str -> ZoneCorrosionPrior
+        One prior per zone.
+    section_loss : SectionLossData, optional
+    half_cell : HalfCellData, optional
+    spatial_log_sd : float, default `SPATIAL_LOG_SD`
+        Scatter s of ln(local t_i) about the zone median [-].
+    ratio_sd : float, optional
+        Known measurement sd of A/A0 [-]; None estimates it (half-normal).
+    ratio_sd_scale : float, default `RATIO_SD_SCALE`
+        Scale of that half-normal prior [-].
+    half_cell_params : mapping, optional
+        f(E | state) parameters, default `HALF_CELL_LIKELIHOOD` [mV].
+
+    Returns
+    -------
+    pymc.Model
+        Free ``log_initiation_time`` and ``log_corrosion_rate`` (dims zone),
+        ``ratio_measurement_sd`` when estimated; derived ``initiation_time``
+        [yr] and ``corrosion_rate`` [uA/cm2].
+    """
+    import pymc as pm
+
+    caller = "corrosion_model"
+    names = check_zone_names(zones, caller)
+    zone_priors = _check_priors(priors, names, caller)
+    if not (np.isfinite(spatial_log_sd) and spatial_log_sd > 0):
+        raise InputError(f"The 'spatial_log_sd' parameter of {caller} must be > 0. Got "
+                         f"{spatial_log_sd!r}.", column="spatial_log_sd")
+    if section_loss is not None and not isinstance(section_loss, SectionLossData):
+        raise InputError(f"The 'section_loss' parameter of {caller} must be a SectionLossData.",
+                         column="section_loss")
+    if half_cell is not None and not isinstance(half_cell, HalfCellData):
+        raise InputError(f"The 'half_cell' parameter of {caller} must be a HalfCellData.",
+                         column="half_cell")
+
+    with pm.Model(coords={"zone": names}) as model:
+        log_ti = pm.Normal("log_initiation_time",
+                           mu=np.log([p.initiation_median_years for p in zone_priors]),
+                           sigma=[p.initiation_log_sd for p in zone_priors], dims="zone")
+        log_rate = pm.Normal("log_corrosion_rate",
+                             mu=np.log([p.rate_median for p in zone_priors]),
+                             sigma=[p.rate_log_sd for p in zone_priors], dims="zone")
+        t_i = pm.Deterministic("initiation_time", pm.math.exp(log_ti), dims="zone")
+        rate = pm.Deterministic("corrosion_rate", pm.math.exp(log_rate), dims="zone")
+        if section_loss is not None:
+            _add_section_loss(pm, section_loss, names, t_i, rate, ratio_sd, ratio_sd_scale)
+        if half_cell is not None:
+            _add_half_cell(pm, half_cell, names, log_ti, spatial_log_sd, half_cell_params)
+    return model
+
+
+def _add_section_loss(pm, data, names, t_i, rate, ratio_sd, ratio_sd_scale):
+    caller = "corrosion_model (section_loss)"
+    ratio = check_observation_vector(data.residual_area_ratio, "residual_area_ratio", caller,
+                                     low=0.0)
+    if (ratio > 1.2).any():
+        i = int(np.flatnonzero(ratio > 1.2)[0])
+        raise InputError(f"A residual area ratio above 1.2 is not a plausible measurement of "
+                         f"A_res / A0. Position {i} holds {ratio[i]!r}.",
+                         column="residual_area_ratio")
+    t = check_observation_vector(data.age_years, "age_years", caller, low=0.0, low_open=True,
+                                 size=ratio.size)
+    d0 = check_observation_vector(data.bar_diameter_mm, "bar_diameter_mm", caller, low=0.0,
+                                  low_open=True, size=ratio.size)
+    _, idx = check_zone_index(data.zone_index, names, ratio.size, caller)
+    if ratio_sd is None:
+        sd = pm.HalfNormal("ratio_measurement_sd", sigma=ratio_sd_scale)
+    elif np.isfinite(ratio_sd) and ratio_sd > 0:
+        sd = float(ratio_sd)
+    else:
+        raise InputError(f"The 'ratio_sd' parameter of corrosion_model must be > 0. Got "
+                         f"{ratio_sd!r}.", column="ratio_sd")
+    predicted = residual_area_ratio_tensor(d0, rate[idx], t, t_i[idx])
+    pm.Normal("residual_area_ratio", mu=predicted, sigma=sd, observed=ratio)
+
+
+def _add_half_cell(pm, data, names, log_ti, spatial_log_sd, params):
+    caller = "corrosion_model (half_cell)"
+    e = check_observation_vector(data.potential_mv_cse, "potential_mv_cse", caller)
+    t = check_observation_vector(data.age_years, "age_years", caller, low=0.0, low_open=True,
+                                 size=e.size)
+    _, idx = check_zone_index(data.zone_index, names, e.size, caller)
+    params = HALF_CELL_LIKELIHOOD if params is None else params
+    log_f_active = potential_log_likelihood(e, "active", params)
+    log_f_passive = potential_log_likelihood(e, "passive", params)
+    z = (np.log(t) - log_ti[idx]) / spatial_log_sd
+    standard = pm.Normal.dist(0.0, 1.0)
+    log_mix = pm.math.logaddexp(pm.logcdf(standard, z) + log_f_active,
+                                pm.logcdf(standard, -z) + log_f_passive)
+    pm.Potential("half_cell", pm.math.sum(log_mix))
+
+
+@dataclasses.dataclass(frozen=True)
+class CorrosionFit:
+    """Posterior of initiation time and corrosion rate per zone.
+
+    Attributes
+    ----------
+    idata : arviz.InferenceData
+        Draws of ``initiation_time`` [yr] and ``corrosion_rate`` [uA/cm2] by zone.
+    gate : GateReport
+    zones : tuple of str
+    priors : dict of ZoneCorrosionPrior
+    spatial_log_sd : float
+        Scatter s of ln(local t_i) used in the model [-].
+    seed : int
+    """
+
+    idata: object
+    gate: GateReport
+    zones: tuple
+    priors: dict
+    spatial_log_sd: float
+    seed: int
+
+    def zone_draws(self, zone):
+        """Flattened draws of ``initiation_time`` [yr] and ``corrosion_rate`` [uA/cm2]."""
+        if zone not in self.zones:
+            raise InputError(f"Zone {zone!r} is not in this corrosion fit. Valid zones: "
+                             f"{list(self.zones)}.", column="zone")
+        post = self.idata.posterior
+        return {"initiation_time": post["initiation_time"].sel(zone=zone).values.ravel(),
+                "corrosion_rate": post["corrosion_rate"].sel(zone=zone).values.ravel()}
+
+    def probability_active(self, zone, age_years):
+        """Posterior probability that a location of the zone is active [-].
+
+        Mean over the draws of Phi((ln t - ln t_i) / s), for each age.
+        """
+        t_i = self.zone_draws(zone)["initiation_time"]
+        t = np.asarray(age_years, dtype=float)
+        z = (np.log(t)[..., None] - np.log(t_i)) / self.spatial_log_sd
+        return stats.norm.cdf(z).mean(axis=-1)
+
+
+def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
+                  spatial_log_sd=SPATIAL_LOG_SD, ratio_sd=None, ratio_sd_scale=RATIO_SD_SCALE,
+                  half_cell_params=None, draws=1000, tune=1000, chains=4, target_accept=0.95):
+    """Sample the corrosion model and pass the convergence gate.
+
+    Parameters
+    ----------
+    zones, priors, section_loss, half_cell, spatial_log_sd, ratio_sd, ratio_sd_scale,
+    half_cell_params
+        See `corrosion_model`.
+    seed : int or numpy.random.Generator
+        Pass an int for reproducible output across calls.
+    draws, tune, chains : int
+    target_accept : float, default 0.95
+
+    Returns
+    -------
+    CorrosionFit
+
+    Raises
+    ------
+    ConvergenceError
+        When the run fails the gate; the message names the variable.
+    """
+    seed = sampler_seed(seed, "fit_corrosion")
+    model = corrosion_model(zones, priors=priors, section_loss=section_loss,
+                            half_cell=half_cell, spatial_log_sd=spatial_log_sd,
+                            ratio_sd=ratio_sd, ratio_sd_scale=ratio_sd_scale,
+                            half_cell_params=half_cell_params)
+    idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
+                             target_accept=target_accept)
+    names = [n for n in PARAMETER_NAMES if n in idata.posterior]
+    gate = require_convergence(idata, names, what="corrosion initiation and rate")
+    zone_names = tuple(str(z) for z in zones)
+    return CorrosionFit(idata=idata, gate=gate, zones=zone_names,
+                        priors={z: priors[z] for z in zone_names},
+                        spatial_log_sd=float(spatial_log_sd), seed=seed)
