@@ -13,6 +13,7 @@ from __future__ import annotations
 import contextlib
 import functools
 import sys
+import warnings
 
 import typer
 from rich.console import Console
@@ -44,6 +45,33 @@ def _version_callback(value: bool):
 def _root(version: bool = typer.Option(False, "--version", callback=_version_callback,
                                         is_eager=True, help="Print the version and exit.")):
     """Reliability assessment of existing reinforced-concrete structures."""
+    quiet_libraries()
+
+
+_shown_warnings: set = set()
+
+
+def _show_warning(message, category, filename, lineno, file=None, line=None):
+    text = str(message)
+    if text not in _shown_warnings:
+        _shown_warnings.add(text)
+        err_console.print(f"[yellow]Warning:[/] {text}", highlight=False, soft_wrap=True)
+
+
+def quiet_libraries() -> None:
+    """Show our warnings once each as plain lines; silence library chatter.
+
+    PyTensor's note about a missing optimised BLAS and PyMC's progress logging
+    say nothing about the structure; they are dropped from the engineer's screen.
+    """
+    import logging
+
+    warnings.showwarning = _show_warning
+    warnings.filterwarnings("ignore", message=".*could not link to a BLAS.*")
+    warnings.filterwarnings("ignore", category=DeprecationWarning)
+    warnings.filterwarnings("ignore", category=FutureWarning)
+    for name in ("pymc", "pytensor", "arviz"):
+        logging.getLogger(name).setLevel(logging.ERROR)
 
 
 @contextlib.contextmanager

@@ -19,7 +19,8 @@ JsonFlag = Annotated[bool, typer.Option("--json", help="Print only JSON on stdou
 SeedOption = Annotated[int, typer.Option("--seed", help="Seed of MCMC and reliability runs.")]
 DrawsOption = Annotated[int, typer.Option("--draws", help="MCMC draws per chain (4 chains).")]
 QuickFlag = Annotated[bool, typer.Option("--quick", help="Smaller runs for a first look: "
-                                         "500 draws per chain, 500 samples per subset level.")]
+                                         "500 tuning steps per chain, 500 samples per subset "
+                                         "level (the convergence gate still applies).")]
 
 
 METHOD_NAMES = ("subset_simulation", "form", "importance_sampling", "crude_monte_carlo")
@@ -37,7 +38,7 @@ def run_update(site, *, seed: int, draws: int, quick: bool, until_date=None, rec
     """Update the site with a progress message; returns a SiteUpdate."""
     from assess.assessment.site_update import UpdateSettings, update_site
 
-    settings = UpdateSettings(draws=500 if quick else draws, tune=500 if quick else 1000, seed=seed)
+    settings = UpdateSettings(draws=draws, tune=500 if quick else 1000, seed=seed)
     with err_console.status("Updating zone knowledge with the site's tests (MCMC) ..."):
         return update_site(site, settings=settings, until_date=until_date, record=record)
 

@@ -127,9 +127,23 @@ def sample_posterior(model, *, draws: int = 1000, tune: int = 1000, chains: int 
     sampler : {"pymc", "nutpie"}
         PyMC's own NUTS or nutpie's (if installed).
     """
+    import logging
+
     import pymc as pm
 
     cores = max(1, min(chains, os.cpu_count() or 1))
+    logger = logging.getLogger("pymc")
+    previous = logger.level
+    if not progressbar:  # PyMC logs its progress at INFO level
+        logger.setLevel(logging.WARNING)
+    try:
+        return _sample(pm, model, draws, tune, chains, cores, seed, target_accept, sampler,
+                       progressbar)
+    finally:
+        logger.setLevel(previous)
+
+
+def _sample(pm, model, draws, tune, chains, cores, seed, target_accept, sampler, progressbar):
     with model:
         if sampler == "nutpie":
             return pm.sample(draws=draws, tune=tune, chains=chains, cores=cores, random_seed=seed,

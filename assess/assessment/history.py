@@ -1,0 +1,95 @@
+"""Reliability campaign by campaign: re-assess the site as it was known after each campaign.
+
+For every inspection campaign (in date order) the site is updated with the
+data of that campaign and all earlier ones only, and the before/after table is
+recomputed. The "before" column is the same design-stage belief every time;
+the "after" column moves as evidence accumulates. Each re-assessment is
+appended to the ledger (kind ``"history"``) with the code version, seed and
+settings.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as dt
+
+from assess.assessment.before_after import assess_members
+from assess.assessment.site_update import UpdateSettings, update_site
+from inspection_io.ledger import Ledger
+
+
+@dataclasses.dataclass
+class CampaignAssessment:
+    """The site as known after one campaign."""
+
+    campaign: str
+    date: dt.date
+    data_until: dt.date
+    counts: dict
+    assessment: object
+
+    def rows(self) -> list[dict]:
+        """One row per member and mode: campaign, date, betas, verdict."""
+        return [{"campaign": self.campaign, "date": self.date.isoformat(),
+                 "data_until": self.data_until.isoformat(), **r.to_dict()}
+                for r in self.assessment.results]
+
+
+def campaign_cutoffs(ledger: Ledger) -> list[tuple[str, dt.date, dt.date]]:
+    """(campaign name, campaign date, last observation date up to and with it), in date order.
+
+    A campaign's survey can span several days; the cut-off is the latest
+    observation of that campaign or any earlier one, so no later campaign's data
+    are used.
+    """
+    campaigns = sorted(ledger.campaigns(), key=lambda c: (c.date, c.id))
+    observations = ledger.observations()
+    cutoffs = []
+    for index, campaign in enumerate(campaigns):
+        names = {c.name for c in campaigns[:index + 1]}
+        dates = observations.loc[observations["campaign"].isin(names), "date"]
+        last = max(dates) if len(dates) else campaign.date
+        cutoffs.append((campaign.name, campaign.date, max(last, campaign.date)))
+    return cutoffs
+
+
+def reassess_history(site, *, settings: UpdateSettings | None = None,
+                     method: str = "subset_simulation", seed: int = 20261202,
+                     options: dict | None = None, record: bool = True,
+                     progress=None) -> list[CampaignAssessment]:
+    """Re-assess the site as of each campaign; append each result to the ledger."""
+    settings = settings or UpdateSettings(seed=seed)
+    with Ledger(site.folder / "ledger.sqlite") as ledger:
+        cutoffs = campaign_cutoffs(ledger)
+    history = []
+    for name, date, until in cutoffs:
+        update = update_site(site, settings=settings, until_date=until, record=record)
+        assessment = assess_members(site, update, method=method, seed=seed, options=options,
+                                    importance=False)
+        entry = CampaignAssessment(name, date, until, update.counts(), assessment)
+        history.append(entry)
+        if record:
+            with Ledger(site.folder / "ledger.sqlite") as ledger:
+                for row in entry.rows():
+                    ledger.append_result("history", row, member=row["member"], mode=row["mode"],
+                                         seed=row["seed"],
+                                         settings={"method": method, "options": options or {},
+                                                   "posterior_hash": update.data_hash,
+                                                   "data_until": until.isoformat(),
+                                                   "update": dataclasses.asdict(settings)})
+        if progress:
+            progress(name)
+    return history
+
+
+def governing_rows(history: list[CampaignAssessment]) -> dict[str, list[float]]:
+    """beta after updating of each member's system (or single mode) per campaign."""
+    series: dict[str, list[float]] = {}
+    for entry in history:
+        by_member: dict[str, float] = {}
+        for r in entry.assessment.results:
+            if r.mode == "system" or r.member not in by_member:
+                by_member[r.member] = r.after.beta
+        for member, beta in by_member.items():
+            series.setdefault(member, []).append(beta)
+    return series
