@@ -1,0 +1,263 @@
+"""Assemble the assessment report (HTML + JSON of all numbers) from the results of a run.
+
+Headings and layout are our own. Every number shown is also in the JSON; the
+JSON additionally holds the full member results, diagnostics and sources.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+import assess
+from assess.assessment.figures import (LABELS, before_after_figure, predictive_draws,
+                                       prior_posterior_figures)
+from assess.assessment.knowledge import QUANTITIES
+from assess.report.document import ReportDocument
+
+KIND_TITLES = {"cores": "Cores (in-situ strength)", "tensile": "Rebar tensile tests",
+               "cover": "Cover survey", "carbonation": "Carbonation depths",
+               "chloride": "Chloride profiles", "halfcell": "Half-cell potentials",
+               "section_loss": "Section loss at break-outs"}
+
+
+@dataclasses.dataclass
+class RunResults:
+    """Everything one run of the main job produced (optional parts may be None)."""
+
+    site: object
+    update: object
+    assessment: object
+    data_summaries: dict
+    flagged: list
+    life: object = None
+    worth: object = None
+    history: object = None
+    settings: dict = dataclasses.field(default_factory=dict)
+    warnings: list = dataclasses.field(default_factory=list)
+
+
+def _fmt_beta(beta) -> str:
+    if beta is None or (isinstance(beta, float) and math.isnan(beta)):
+        return "-"
+    if math.isinf(beta):
+        return "> 8" if beta > 0 else "-"
+    return f"{beta:.2f}"
+
+
+def build_report(run: RunResults) -> tuple[ReportDocument, dict]:
+    """The report document and the dictionary of all its numbers."""
+    site = run.site
+    target = run.assessment.target
+    doc = ReportDocument(
+        f"Reliability assessment: {site.site.name}",
+        subtitle=f"{site.site.structure or 'structure'} built {site.site.year_built}, "
+                 f"assessed {site.site.assessment_date.isoformat()}",
+        metadata={"tool version": assess.__version__, "seed": run.settings.get("seed"),
+                  "mode": "quick" if run.settings.get("quick") else "full"})
+    for warning in run.warnings:
+        doc.add_warning(warning)
+    numbers: dict = {"site": _site_numbers(site), "settings": run.settings}
+
+    _section_structure(doc, site, target)
+    numbers["data"] = _section_data(doc, run)
+    numbers["knowledge"] = _section_knowledge(doc, run)
+    numbers["members"] = _section_members(doc, run)
+    if run.life is not None:
+        numbers["remaining_life"] = _section_life(doc, run)
+    if run.worth is not None:
+        numbers["value_of_information"] = _section_worth(doc, run)
+    if run.history is not None:
+        numbers["history"] = _section_history(doc, run)
+    numbers["sources"] = _section_sources(doc, run)
+    return doc, numbers
+
+
+def _site_numbers(site) -> dict:
+    return {"name": site.site.name, "year_built": site.site.year_built,
+            "assessment_date": site.site.assessment_date.isoformat(),
+            "target_settings": dataclasses.asdict(site.target),
+            "materials": dataclasses.asdict(site.materials), "loads": dataclasses.asdict(site.loads),
+            "zones": {z: dataclasses.asdict(v) for z, v in site.zones.items()},
+            "members": {m: dataclasses.asdict(v) for m, v in site.members.items()}}
+
+
+def _section_structure(doc, site, target) -> None:
+    sec = doc.add_section("The structure and the question asked")
+    sec.add_paragraph(
+        f"This report estimates, member by member, how reliable the {site.site.structure or 'structure'} "
+        f"is believed to be from its design information alone, and how reliable the site's "
+        f"test results now show it to be. Each reliability index beta is compared with a target "
+        f"for an existing structure over a reference period of "
+        f"{target.reference_period_years:g} year(s).")
+    sec.add_key_values({"Consequence class": site.target.consequence_class,
+                        "Relative cost of safety measures": site.target.cost_of_safety,
+                        "Target reliability index": f"{target.beta:.2f}",
+                        "Reference period [years]": target.reference_period_years,
+                        "Source of the target": target.source,
+                        "Concrete as specified": f"{site.materials.concrete_class} "
+                                                 f"({site.materials.production})",
+                        "Reinforcement as specified": site.materials.steel_grade},
+                       caption="Settings that decide the target")
+    sec.add_table([{"member": m.member_id, "zone": m.zone, "kind": m.kind,
+                    "span [m]": m.span if m.span else f"{m.span_x} x {m.span_y}",
+                    "depth [mm]": m.depth, "cover [mm]": m.cover,
+                    "bars": f"{m.bar_diameter:g} mm" + (f" @ {m.bar_spacing:g}" if m.bar_spacing
+                                                       else f", {m.steel_area:g} mm2")}
+                   for m in site.members.values()], caption="Members assessed")
+    sec.add_table([{"zone": z.zone_id, "exposure": z.exposure, "description": z.description}
+                   for z in site.zones.values()], caption="Zones")
+
+
+def _section_data(doc, run) -> dict:
+    sec = doc.add_section("What the inspection campaigns measured")
+    sec.add_paragraph("Test results per zone after unit conversion and, for cores, conversion "
+                      "to in-situ strength. Flagged results are kept in the ledger but left out "
+                      "of the updating unless included explicitly.")
+    out = {}
+    for kind, table in run.data_summaries.items():
+        if table is None or len(table) == 0:
+            continue
+        sec.add_table(table, caption=KIND_TITLES.get(kind, kind))
+        out[kind] = table.to_dict("records") if hasattr(table, "to_dict") else table
+    if run.flagged:
+        sec.add_notice([f"{f['file']} row {f['row']}: {f['item']} flagged ({f['flags']})"
+                        for f in run.flagged], title="Flagged results (kept, not used)")
+    out["flagged"] = run.flagged
+    return out
+
+
+def _section_knowledge(doc, run) -> dict:
+    update = run.update
+    sec = doc.add_section("From design information to site evidence")
+    sec.add_paragraph(
+        "Each zone's concrete strength, reinforcement yield strength, cover and residual bar "
+        "area are uncertain populations. The design information gives their prior; the site's "
+        "tests update them by Markov chain Monte Carlo (PyMC, NUTS). No result is reported from "
+        "a run that fails the convergence gate (R-hat <= 1.01, bulk and tail effective sample "
+        "size >= 400, no divergences).")
+    rows = []
+    for zone in run.site.zones:
+        for name, spec in QUANTITIES.items():
+            prior = predictive_draws(update.before[zone][name], spec.log)
+            post = predictive_draws(update.after[zone][name], spec.log)
+            n = 0 if update.data[name].empty else int((update.data[name]["zone"] == zone).sum())
+            rows.append({"zone": zone, "quantity": LABELS[name][0], "unit": spec.unit, "tests": n,
+                         "prior mean": float(prior.mean()), "prior std": float(prior.std()),
+                         "posterior mean": float(post.mean()), "posterior std": float(post.std())})
+    sec.add_table(rows, caption="Predictive mean and standard deviation, design prior and after tests",
+                  formats={"prior mean": ".4g", "prior std": ".3g", "posterior mean": ".4g",
+                           "posterior std": ".3g"})
+    gate = update.gate.to_dict() if update.gate else None
+    if gate:
+        sec.add_key_values({"max R-hat": gate["max_rhat"], "min bulk ESS": gate["min_ess_bulk"],
+                            "min tail ESS": gate["min_ess_tail"], "divergences": gate["divergences"],
+                            "chains x draws": f"{gate['chains']} x {gate['draws']}",
+                            "posterior file": str(update.posterior_path)},
+                           caption="Convergence diagnostics (gate passed)")
+    for (name, zone), fig in prior_posterior_figures(update).items():
+        if name in ("concrete", "area_ratio"):
+            sec.add_figure(fig, caption=f"{LABELS[name][0]}, zone {zone}: design prior and "
+                                        "posterior predictive, with the test results as ticks")
+        else:
+            import matplotlib.pyplot as plt
+
+            plt.close(fig)
+    return {"rows": rows, "gate": gate, "hash": update.data_hash}
+
+
+def _section_members(doc, run) -> list:
+    a = run.assessment
+    sec = doc.add_section("Reliability of each member now")
+    sec.add_paragraph(
+        f"Beta before uses the design information only; beta after uses the site's evidence. "
+        f"Both use the same loads, model uncertainties and random numbers. Method: "
+        f"{a.method.replace('_', ' ')}; CoV is the coefficient of variation of the pf estimate. "
+        f"A member system fails when any of its modes fails.")
+    rows = []
+    for r in a.results:
+        rows.append({"member": r.member, "mode": r.mode, "beta before": _fmt_beta(r.before.beta),
+                     "beta after": _fmt_beta(r.after.beta),
+                     "CoV after": r.after.cov if math.isfinite(r.after.cov) else None,
+                     "target": r.target, "verdict": r.verdict,
+                     "main drivers": ", ".join(f"{n} ({v:.2f})" for n, v in r.drivers())})
+    sec.add_table(rows, caption=f"Reliability index per member and mode, "
+                                f"{a.reference_period_years:g}-year reference period",
+                  formats={"CoV after": ".2f", "target": ".2f"})
+    sec.add_figure(before_after_figure(a), caption="Beta before and after updating, with the target")
+    if a.notes:
+        sec.add_notice(a.notes, title="Modes not covered and assumptions")
+    return [r.to_dict() for r in a.results]
+
+
+def _section_life(doc, run) -> object:
+    life = run.life
+    sec = doc.add_section("How long the members last")
+    rows = life.table_rows() if hasattr(life, "table_rows") else life.get("rows", [])
+    sec.add_paragraph(getattr(life, "explanation", "Beta per year with corrosion progressing; "
+                                                    "annual reference period."))
+    if rows:
+        sec.add_table(rows, caption="Remaining life per member (first year beta falls below the target)")
+    figure = life.figure() if hasattr(life, "figure") else None
+    if figure is not None:
+        sec.add_figure(figure, caption="Beta per year against the target")
+    return life.to_dict() if hasattr(life, "to_dict") else life
+
+
+def _section_worth(doc, run) -> object:
+    worth = run.worth
+    sec = doc.add_section("Is more testing worth it")
+    rows = worth.table_rows() if hasattr(worth, "table_rows") else worth.get("rows", [])
+    if rows:
+        sec.add_table(rows, caption="Candidate test programmes ranked by net value")
+    text = getattr(worth, "recommendation", None)
+    if text:
+        sec.add_paragraph(text)
+    figure = worth.figure() if hasattr(worth, "figure") else None
+    if figure is not None:
+        sec.add_figure(figure, caption="Posterior beta each programme could lead to")
+    return worth.to_dict() if hasattr(worth, "to_dict") else worth
+
+
+def _section_history(doc, run) -> list:
+    from assess.assessment.history import governing_rows
+    from assess.report.plots import plot_beta_history
+
+    history = run.history
+    sec = doc.add_section("Reliability campaign by campaign")
+    sec.add_paragraph("The site re-assessed as it was known after each campaign, using only the "
+                      "data available then (member system, beta after updating).")
+    series = governing_rows(history)
+    rows = []
+    for member, values in series.items():
+        row = {"member": member}
+        for entry, beta in zip(history, values):
+            row[f"{entry.campaign} ({entry.date.isoformat()})"] = _fmt_beta(beta)
+        rows.append(row)
+    sec.add_table(rows, caption="Beta after updating per campaign")
+    target = history[-1].assessment.target.beta
+    sec.add_figure(plot_beta_history([h.date for h in history], series, target),
+                   caption="Beta per member at each campaign, with the target")
+    return [row for h in history for row in h.rows()]
+
+
+def _section_sources(doc, run) -> dict:
+    from assess.assessment.members import build_member_model
+
+    sec = doc.add_section("Models, assumptions and their sources")
+    sources: dict[str, str] = {}
+    site = run.site
+    for member in site.members.values():
+        model = build_member_model(site, member, run.update.before[member.zone],
+                                   reference_period_years=run.assessment.reference_period_years)
+        for name, source in model.sources.items():
+            sources.setdefault(name.split(".")[0], source)
+    sources["target reliability"] = run.assessment.target.source
+    sources["convergence gate"] = ("Vehtari et al. 2021, Bayesian Analysis 16(2): rank-normalised "
+                                   "R-hat <= 1.01, ESS >= 400; no divergences")
+    sources["posterior into reliability"] = (
+        "posterior draws fitted by a gamma precision and normal standardised location with a "
+        "Gaussian copula; physical values keep their analytic conditional distribution")
+    sec.add_table([{"item": k, "model and source": v} for k, v in sources.items()],
+                  caption="Every model and default value with its published source")
+    return sources
