@@ -7,7 +7,7 @@ imported here.
 from assess.cli.app import app  # noqa: F401
 
 # Command modules (import registers their commands).
-from assess.cli import history, members, run, site, solve  # noqa: F401,E402
+from assess.cli import history, life, members, run, site, solve, worth  # noqa: F401,E402
 
 
 def main():  # console-script entry point

@@ -1,0 +1,133 @@
+"""``assess worth``: is more testing worth its cost for one member?"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+from rich.table import Table
+
+from assess.cli.app import app, err_console, guard, out_console
+from assess.cli.members import (DrawsOption, JsonFlag, QuickFlag, SeedOption, SiteFolder,
+                                load_checked_site, run_update)
+from assess.errors import InputError
+
+def _money(currency: str, value: float) -> str:
+    return f"{currency} {value:,.0f}"
+
+
+def _share(value: float) -> str:
+    return "-" if value is None or not math.isfinite(value) else f"{value:.0%}"
+
+
+@app.command("worth")
+@guard
+def worth_command(
+        folder: SiteFolder,
+        member: Annotated[Optional[str], typer.Option(
+            "--member", help="Member id; default the decision file's member, else the member "
+                             "with the lowest system beta after updating.")] = None,
+        decisions: Annotated[Optional[Path], typer.Option(
+            "--decisions", help="Decision set-up file (TOML); default decisions.toml in the "
+                                "site folder.")] = None,
+        outcomes: Annotated[int, typer.Option(
+            "--outcomes", help="Simulated test outcomes per programme [-].")] = 500,
+        seed: SeedOption = 20261202, draws: DrawsOption = 1000, quick: QuickFlag = False,
+        plots: Annotated[bool, typer.Option("--plots/--no-plots",
+                                            help="Write a PNG plot to results/plots/.")] = True,
+        json_output: JsonFlag = False):
+    """Is more testing worth it? Value of information of candidate test programmes.
+
+    For one member, compares the expected cost of each alternative (keep, repair,
+    strengthen, restrict load, replace) on present knowledge with the expected
+    cost after each candidate test programme, using the decision set-up file
+    (costs [currency], horizon [years], discount rate [-], programmes). Prints the
+    expected value of the test information, its Monte Carlo error, the net value
+    and the chance that the test shows the member adequate; rows are appended to
+    the ledger.
+    """
+    from assess.report.files import save_figure
+    from assess.worth.decision_file import DEFAULT_FILE_NAME, read_decision_setup
+    from assess.worth.site_summary import DESIGN_POINTS, compute_site_worth
+    from inspection_io.ledger import Ledger
+
+    if outcomes < 2:
+        raise InputError(f"--outcomes must be a whole number >= 2, got {outcomes}",
+                         column="--outcomes")
+    site = load_checked_site(folder)
+    decision_path = decisions if decisions is not None else site.folder / DEFAULT_FILE_NAME
+    if not decision_path.is_file():
+        raise InputError("decision file not found; write one (see docs/decision-file.md) or "
+                         "give it with --decisions", file=decision_path)
+    setup = read_decision_setup(decision_path)
+    update = run_update(site, seed=seed, draws=draws, quick=quick)
+    with err_console.status("Value of information ...") as status:
+        worth = compute_site_worth(site, update, setup, member=member, outcomes=outcomes,
+                                   seed=seed, progress=lambda text: status.update(text + " ..."))
+    decision, ranking = worth.decision, worth.ranking
+    ranking_warnings = [w for r in ranking.results for w in r.warnings]
+
+    plot_path = None
+    if plots:
+        import matplotlib.pyplot as plt
+
+        figure = worth.figure()
+        plot_path = save_figure(figure, site.folder / "results" / "plots",
+                                f"worth-{decision.member}")
+        plt.close(figure)
+
+    problem = decision.problem
+    settings = {"outcomes": outcomes, "theta_draws": problem.n_draws,
+                "design_points": DESIGN_POINTS, "quick": quick,
+                "posterior_hash": update.data_hash, "horizon_years": decision.horizon_years,
+                "discount_rate": setup.discount_rate,
+                "decision_file": str(decision_path)}
+    summaries = worth.summaries()
+    with Ledger(site.folder / "ledger.sqlite") as ledger:
+        for summary in summaries:
+            ledger.append_result("worth", summary, member=decision.member,
+                                 mode=summary["programme"], seed=summary["seed"],
+                                 settings=settings)
+    first = ranking.results[0]
+    payload = worth.to_dict()
+    payload["plot"] = str(plot_path) if plot_path else None
+    payload["posterior"] = {"hash": update.data_hash, "reused": update.reused}
+    if json_output:
+        typer.echo(json.dumps(payload, indent=2, default=str))
+        return
+
+    money = lambda value: _money(problem.currency, value)  # noqa: E731
+    alt_table = Table(title=f"Member {decision.member} (zone {decision.zone}): alternatives "
+                            f"over {decision.horizon_years} years on present knowledge")
+    for col in ("alternative", "cost", "assumed effect", "expected total cost"):
+        alt_table.add_column(col, justify="right" if "cost" in col else "left")
+    for a in problem.alternatives:
+        alt_table.add_row(a.name, money(a.cost), a.description,
+                          money(first.prior_expected_costs[a.name]))
+    out_console.print(alt_table)
+    table = Table(title="Is more testing worth it? (expected values over simulated outcomes)")
+    for col in ("programme", "cost", "value of information", "MC std. error", "net value",
+                "P(beta >= target)"):
+        table.add_column(col, justify="left" if col == "programme" else "right")
+    for r in ranking.results:
+        table.add_row(r.description, money(r.programme_cost), money(r.evsi),
+                      money(r.evsi_standard_error), money(r.net_value),
+                      _share(r.probability_adequate))
+    out_console.print(table)
+    out_console.print(f"Upper bound (value of perfect information): {money(first.evpi)} "
+                      f"(MC std. error {money(first.evpi_standard_error)}). Best alternative "
+                      f"on present knowledge: '{first.prior_decision}'.", highlight=False)
+    out_console.print(ranking.recommendation, highlight=False, soft_wrap=True)
+    err_console.print(f"Target over the horizon: {decision.horizon_target_beta:.2f} (annual "
+                      f"{decision.target.beta:g}; {decision.target.source})", highlight=False)
+    worst = worth.largest_surrogate_error()
+    err_console.print(f"Beta surrogate: {DESIGN_POINTS} FORM design points per alternative, "
+                      f"largest leave-one-out error {worst:.3f} in beta.", highlight=False)
+    for note in decision.notes:
+        if note not in ranking_warnings:
+            err_console.print(f"Note: {note}", highlight=False, soft_wrap=True)
+    if plot_path:
+        err_console.print(f"Plot: {plot_path}", highlight=False)

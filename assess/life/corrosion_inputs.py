@@ -1,0 +1,433 @@
+"""Per-zone distributions of corrosion initiation time t_i and corrosion rate i_corr.
+
+The remaining-life projection (`assess.life.projection`) needs, for each zone,
+the joint distribution of the zone's corrosion initiation time t_i [yr of age]
+and corrosion current density after initiation i_corr [uA/cm2]. Two sources:
+
+- **Posterior** (zones with break-out or half-cell data): MCMC draws of
+  (t_i, i_corr) from `assess.updating.corrosion.fit_corrosion`, run on the
+  site's section-loss and half-cell records by `update_corrosion`. Following
+  decision 4 of the design notes the draws enter the reliability model through
+  smooth marginals and a Gaussian copula, not as a histogram: each marginal is
+  a lognormal fitted by maximum likelihood (mean and standard deviation of the
+  log draws) and the copula correlation is the correlation of the log draws
+  (for lognormal marginals the normal scores are the standardised logs).
+- **Prior** (zones without such data, or no ledger): t_i from the fib Bulletin
+  34 initiation models with default parameters (chloride ingress with the
+  priors of `assess.updating.chloride.ChloridePriors.from_site`, carbonation
+  with `assess.updating.carbonation.CARBONATION_RATE_PRIOR`; the earlier of
+  the two), sampled by Monte Carlo and matched to a lognormal by its 16/50/84 %
+  quantiles (`ZoneCorrosionPrior.from_initiation_draws`); i_corr from
+  `assess.deterioration.defaults.CORROSION_RATE` by the zone's exposure class.
+  The two are independent a priori.
+
+Ages are counted from 1 July of the year of construction (the site file gives
+the year only; common practice), in Julian years.
+
+References
+----------
+.. [1] fib, *Model Code for Service Life Design*, fib Bulletin 34, Lausanne, 2006,
+   Annex B (from memory).
+.. [2] P.-L. Liu and A. Der Kiureghian, "Multivariate distribution models with
+   prescribed marginals and covariances," *Probabilistic Engineering Mechanics*
+   1(2), 105-112, 1986 (Gaussian copula).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as dt
+import hashlib
+import json
+import math
+
+import numpy as np
+
+from assess.deterioration import carbonation as carbonation_forward
+from assess.deterioration import chloride as chloride_forward
+from assess.deterioration.defaults import CRITICAL_CHLORIDE
+from assess.distributions import make_distribution
+from assess.errors import InputError
+from assess.reliability.crude import resolve_seed
+
+DAYS_PER_YEAR = 365.25
+"""Julian year [days]."""
+
+INITIATION_NAME = "initiation_time"
+RATE_NAME = "corrosion_rate"
+
+
+def construction_date(site) -> dt.date:
+    """Start of exposure: 1 July of the year of construction (common practice)."""
+    return dt.date(int(site.site.year_built), 7, 1)
+
+
+def age_at(site, date) -> float:
+    """Age of the structure at a date [yr] (Julian years from `construction_date`)."""
+    if isinstance(date, str):
+        date = dt.date.fromisoformat(date)
+    return (date - construction_date(site)).days / DAYS_PER_YEAR
+
+
+@dataclasses.dataclass(frozen=True)
+class CorrosionInputs:
+    """Joint distribution of one zone's t_i and i_corr: lognormal marginals, Gaussian copula.
+
+    Attributes
+    ----------
+    zone : str
+    initiation_log_mean, initiation_log_sd : float
+        Mean [ln yr] and standard deviation [-] of ln t_i.
+    rate_log_mean, rate_log_sd : float
+        Mean [ln(uA/cm2)] and standard deviation [-] of ln i_corr.
+    log_correlation : float
+        Correlation of (ln t_i, ln i_corr), the Gaussian-copula parameter [-].
+    origin : str
+        ``"posterior"`` or ``"prior"``.
+    source : str
+        Where the numbers come from.
+    n_draws : int
+        Number of MCMC draws fitted (0 for a prior) [-].
+    """
+
+    zone: str
+    initiation_log_mean: float
+    initiation_log_sd: float
+    rate_log_mean: float
+    rate_log_sd: float
+    log_correlation: float
+    origin: str
+    source: str
+    n_draws: int = 0
+
+    def __post_init__(self):
+        for name in ("initiation_log_sd", "rate_log_sd"):
+            value = getattr(self, name)
+            if not (math.isfinite(value) and value > 0):
+                raise InputError(f"The {name!r} of CorrosionInputs for zone {self.zone!r} must "
+                                 f"be > 0. Got {value!r}.", column=name)
+        for name in ("initiation_log_mean", "rate_log_mean"):
+            if not math.isfinite(getattr(self, name)):
+                raise InputError(f"The {name!r} of CorrosionInputs for zone {self.zone!r} must "
+                                 "be finite.", column=name)
+        if not -1.0 < self.log_correlation < 1.0:
+            raise InputError(f"The copula correlation of zone {self.zone!r} must lie in (-1, 1). "
+                             f"Got {self.log_correlation!r}.", column="log_correlation")
+
+    @classmethod
+    def from_draws(cls, zone, initiation_draws, rate_draws, source="posterior draws"):
+        """Fit lognormal marginals and the Gaussian copula to paired draws.
+
+        Parameters
+        ----------
+        zone : str
+        initiation_draws : array_like
+            t_i [yr], finite and > 0.
+        rate_draws : array_like
+            i_corr [uA/cm2], > 0, paired with ``initiation_draws``.
+        source : str
+        """
+        t_i = np.asarray(initiation_draws, dtype=float).ravel()
+        rate = np.asarray(rate_draws, dtype=float).ravel()
+        if t_i.shape != rate.shape or t_i.size < 50:
+            raise InputError(f"zone {zone!r}: need at least 50 paired draws of t_i and i_corr, "
+                             f"got {t_i.size} and {rate.size}.", column="draws")
+        if not (np.all(np.isfinite(t_i)) and np.all(t_i > 0) and np.all(np.isfinite(rate))
+                and np.all(rate > 0)):
+            raise InputError(f"zone {zone!r}: draws of t_i and i_corr must be finite and > 0.",
+                             column="draws")
+        log_t, log_r = np.log(t_i), np.log(rate)
+        rho = float(np.corrcoef(log_t, log_r)[0, 1])
+        return cls(zone=str(zone), initiation_log_mean=float(log_t.mean()),
+                   initiation_log_sd=float(log_t.std(ddof=1)),
+                   rate_log_mean=float(log_r.mean()), rate_log_sd=float(log_r.std(ddof=1)),
+                   log_correlation=float(np.clip(rho, -0.999, 0.999)), origin="posterior",
+                   source=source, n_draws=int(t_i.size))
+
+    @classmethod
+    def from_prior(cls, zone, prior):
+        """From an `assess.updating.corrosion.ZoneCorrosionPrior` (independent t_i, i_corr)."""
+        return cls(zone=str(zone), initiation_log_mean=math.log(prior.initiation_median_years),
+                   initiation_log_sd=float(prior.initiation_log_sd),
+                   rate_log_mean=math.log(prior.rate_median), rate_log_sd=float(prior.rate_log_sd),
+                   log_correlation=0.0, origin="prior", source=prior.source)
+
+    @property
+    def initiation_median(self) -> float:
+        """Median of t_i [yr]."""
+        return math.exp(self.initiation_log_mean)
+
+    @property
+    def rate_median(self) -> float:
+        """Median of i_corr [uA/cm2]."""
+        return math.exp(self.rate_log_mean)
+
+    def add_to_model(self, model, initiation_name=INITIATION_NAME, rate_name=RATE_NAME) -> None:
+        """Add t_i (lognormal root) and i_corr (lognormal given t_i) to a `ProbabilisticModel`.
+
+        The Gaussian copula is written in Rosenblatt form:
+        ln i_corr | t_i ~ N(m_r + rho s_r (ln t_i - m_t) / s_t, s_r^2 (1 - rho^2)),
+        which gives exactly the lognormal marginals and the copula correlation rho.
+        """
+        model.add(initiation_name, make_distribution(
+            "lognormal", mu_ln=self.initiation_log_mean, sigma_ln=self.initiation_log_sd,
+            name=initiation_name))
+        rho = self.log_correlation
+        conditional_sd = self.rate_log_sd * math.sqrt(1.0 - rho * rho)
+
+        def rate_params(values):
+            score = (np.log(values[initiation_name]) - self.initiation_log_mean) \
+                / self.initiation_log_sd
+            return {"mu_ln": self.rate_log_mean + rho * self.rate_log_sd * score,
+                    "sigma_ln": np.full_like(score, conditional_sd)}
+
+        model.add_conditional(rate_name, "lognormal", [initiation_name], rate_params)
+
+    def sample(self, n: int, seed=None) -> dict:
+        """Draw n pairs {"initiation_time" [yr], "corrosion_rate" [uA/cm2]}."""
+        rng, _ = resolve_seed(seed, "CorrosionInputs.sample")
+        z1, z2 = rng.standard_normal((2, int(n)))
+        rho = self.log_correlation
+        z2 = rho * z1 + math.sqrt(1.0 - rho * rho) * z2
+        return {INITIATION_NAME: np.exp(self.initiation_log_mean + self.initiation_log_sd * z1),
+                RATE_NAME: np.exp(self.rate_log_mean + self.rate_log_sd * z2)}
+
+    def to_dict(self) -> dict:
+        out = dataclasses.asdict(self)
+        out["initiation_median_years"] = self.initiation_median
+        out["rate_median_ua_cm2"] = self.rate_median
+        return out
+
+
+def _lognormal_draws(rng, median, log_sd, n):
+    return median * np.exp(log_sd * rng.standard_normal(n))
+
+
+def initiation_time_prior_draws(site, zone_id, n=20_000, seed=0) -> np.ndarray:
+    """Prior initiation times of a zone from the fib 34 models with default parameters [yr].
+
+    Chloride ingress (error function, "average" D convention) with the priors of
+    `ChloridePriors.from_site` for the zone's exposure, the site's cement and
+    w/c, and the zone's mean annual temperature; carbonation t_i = (c / k)^2 with
+    k from `CARBONATION_RATE_PRIOR`; the earlier of the two per draw. Cover: the
+    Student-t predictive of the zone's design cover (`design_knowledge`),
+    at least 5 mm; C_crit: fib 34 Beta.
+
+    Returns
+    -------
+    ndarray (n,)
+        Initiation times since construction [yr]; +inf where neither process
+        reaches the bar.
+    """
+    from assess.assessment.knowledge import design_knowledge
+    from assess.updating.carbonation import CARBONATION_RATE_PRIOR
+    from assess.updating.chloride import ChloridePriors
+
+    zone = site.zones[zone_id]
+    rng, _ = resolve_seed(seed, "initiation_time_prior_draws")
+    cover = design_knowledge(site)[zone_id]["cover"].predictive().rvs(size=n, random_state=rng)
+    cover = np.maximum(cover, 5.0)
+    materials = site.materials
+    # the site file may omit the binder: CEM I and w/c 0.5 are then assumed (common practice)
+    priors = ChloridePriors.from_site(
+        zone.exposure, materials.cement_type or "CEM I", materials.water_cement_ratio or 0.5,
+        mean_annual_temperature_c=zone.mean_annual_temperature)
+    surface = _lognormal_draws(rng, priors.surface_chloride_median,
+                               priors.surface_chloride_log_sd, n)
+    diffusion = _lognormal_draws(rng, priors.diffusion_ref_median, priors.diffusion_log_sd, n)
+    ageing = priors.ageing_exponent.sample(n, rng)
+    initial = _lognormal_draws(rng, priors.initial_chloride_median,
+                               priors.initial_chloride_log_sd, n)
+    critical = CRITICAL_CHLORIDE.sample(n, rng)
+    t_chloride = chloride_forward.initiation_time(
+        cover, critical, surface, diffusion, priors.age_ref_years, ageing,
+        np.minimum(initial, 0.5 * critical), priors.delta_x_mm, diffusion_convention="average")
+    rate_prior = CARBONATION_RATE_PRIOR[zone.exposure]
+    k = _lognormal_draws(rng, rate_prior["median"], rate_prior["log_sd"], n)
+    t_carbonation = carbonation_forward.initiation_time(cover, k)
+    return np.minimum(t_chloride, t_carbonation)
+
+
+def prior_corrosion(site, zone_id, *, n=20_000, seed=0):
+    """`ZoneCorrosionPrior` of a zone: fib 34 initiation-model t_i and exposure-class i_corr."""
+    from assess.updating.corrosion import ZoneCorrosionPrior
+
+    draws = initiation_time_prior_draws(site, zone_id, n=n, seed=seed)
+    prior = ZoneCorrosionPrior.from_initiation_draws(site.zones[zone_id].exposure, draws)
+    return dataclasses.replace(prior, source=prior.source.replace(
+        "fitted to posterior draws", "fib 34 chloride/carbonation initiation with default "
+                                     "parameters (prior)"))
+
+
+@dataclasses.dataclass(frozen=True)
+class CorrosionEvidence:
+    """Section-loss and half-cell records of a site, ready for `fit_corrosion`.
+
+    Attributes
+    ----------
+    zones : tuple of str
+        Zones with at least one record, in site order.
+    section_loss : SectionLossData or None
+    half_cell : HalfCellData or None
+    counts : dict
+        zone -> {"section_loss": n, "half_cell": n}.
+    """
+
+    zones: tuple
+    section_loss: object
+    half_cell: object
+    counts: dict
+
+
+def corrosion_evidence(site, until_date=None, include_flagged=()) -> CorrosionEvidence:
+    """Read the site's break-out ratios and half-cell potentials from its ledger.
+
+    Flagged rows are left out unless included (`inspection_io.screening`).
+    Break-out rows need the original bar diameter in their record
+    (``bar_diameter`` [mm]); half-cell readings are potentials vs CSE [mV].
+    """
+    from assess.updating.corrosion import HalfCellData, SectionLossData
+    from inspection_io.ledger import Ledger
+    from inspection_io.screening import usable_mask
+
+    ledger_path = site.folder / "ledger.sqlite"
+    zones = list(site.zones)
+    counts = {z: {"section_loss": 0, "half_cell": 0} for z in zones}
+    if not ledger_path.exists():
+        return CorrosionEvidence((), None, None, counts)
+    with Ledger(ledger_path) as ledger:
+        loss = ledger.observations(kind="section_loss", until_date=until_date)
+        cells = ledger.observations(kind="halfcell", until_date=until_date)
+    frames = {}
+    for key, frame, quantity in (("section_loss", loss, "residual_area_ratio"),
+                                 ("half_cell", cells, "potential")):
+        frame = frame[(frame["quantity"] == quantity) & frame["zone"].isin(zones)]
+        if len(frame):
+            frame = frame[usable_mask(frame["flags"],
+                                      include_flagged=set(include_flagged) or None)]
+        frames[key] = frame.reset_index(drop=True)
+        for zone, n in frame.groupby("zone").size().items():
+            counts[zone][key] = int(n)
+    used = tuple(z for z in zones if counts[z]["section_loss"] or counts[z]["half_cell"])
+    index = {z: i for i, z in enumerate(used)}
+    section_loss = half_cell = None
+    frame = frames["section_loss"]
+    if len(frame):
+        diameters = []
+        for row in frame.itertuples():
+            extra = json.loads(row.extra) if row.extra else {}
+            if "bar_diameter" not in extra:
+                raise InputError("section-loss record has no original bar diameter",
+                                 file=row.file, row=row.source_row, column="bar_diameter")
+            diameters.append(float(extra["bar_diameter"]))
+        section_loss = SectionLossData(
+            age_years=np.array([age_at(site, d) for d in frame["date"]]),
+            residual_area_ratio=frame["value"].to_numpy(dtype=float),
+            bar_diameter_mm=np.array(diameters),
+            zone_index=frame["zone"].map(index).to_numpy(dtype=int))
+    frame = frames["half_cell"]
+    if len(frame):
+        half_cell = HalfCellData(
+            age_years=np.array([age_at(site, d) for d in frame["date"]]),
+            potential_mv_cse=frame["value"].to_numpy(dtype=float),
+            zone_index=frame["zone"].map(index).to_numpy(dtype=int))
+    return CorrosionEvidence(used, section_loss, half_cell, counts)
+
+
+def _evidence_hash(evidence, priors, settings) -> str:
+    import assess
+
+    def listed(data):
+        if data is None:
+            return None
+        return {f.name: np.round(np.asarray(getattr(data, f.name), dtype=float), 9).tolist()
+                for f in dataclasses.fields(data)}
+
+    payload = {"code_version": assess.__version__, "zones": list(evidence.zones),
+               "section_loss": listed(evidence.section_loss),
+               "half_cell": listed(evidence.half_cell),
+               "priors": {z: dataclasses.asdict(p) for z, p in priors.items()},
+               "settings": settings}
+    text = json.dumps(payload, sort_keys=True, default=str)
+    return hashlib.sha256(text.encode()).hexdigest()
+
+
+def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
+                     until_date=None, evidence=None, prior_samples=20_000, store=True):
+    """Posterior of (t_i, i_corr) per zone from the site's break-outs and half-cell surveys.
+
+    Runs `assess.updating.corrosion.fit_corrosion` (PyMC, convergence-gated)
+    with the priors of `prior_corrosion` on the zones that have records. With
+    ``store`` the InferenceData is written to
+    ``results/posteriors/corrosion-<hash12>.nc`` in the site folder; a later call
+    with the same data, priors and settings (SHA-256 hash) reuses it, after
+    passing the same convergence gate.
+
+    Returns
+    -------
+    CorrosionFit or None
+        None when no zone has section-loss or half-cell records.
+
+    Raises
+    ------
+    ConvergenceError
+        When the MCMC run fails the gate.
+    """
+    import arviz as az
+
+    from assess.assessment.site_update import POSTERIOR_FOLDER, _write_atomically
+    from assess.updating.corrosion import (PARAMETER_NAMES, SPATIAL_LOG_SD, CorrosionFit,
+                                           fit_corrosion)
+    from assess.updating.gate import require_convergence
+
+    evidence = evidence if evidence is not None else corrosion_evidence(site, until_date)
+    if not evidence.zones:
+        return None
+    priors = {z: prior_corrosion(site, z, n=prior_samples, seed=seed) for z in evidence.zones}
+    settings = {"seed": int(seed), "draws": int(draws), "tune": int(tune), "chains": int(chains),
+                "spatial_log_sd": SPATIAL_LOG_SD}
+    digest = _evidence_hash(evidence, priors, settings)
+    path = site.folder / POSTERIOR_FOLDER / f"corrosion-{digest[:12]}.nc"
+    if store and path.exists():
+        idata = az.from_netcdf(path, engine="h5netcdf")
+        names = [n for n in PARAMETER_NAMES if n in idata.posterior]
+        gate = require_convergence(idata, names, what="corrosion initiation and rate")
+        return CorrosionFit(idata=idata, gate=gate, zones=tuple(evidence.zones), priors=priors,
+                            spatial_log_sd=SPATIAL_LOG_SD, seed=int(seed))
+    fit = fit_corrosion(list(evidence.zones), priors=priors, seed=seed,
+                        section_loss=evidence.section_loss, half_cell=evidence.half_cell,
+                        draws=draws, tune=tune, chains=chains)
+    if store:
+        _write_atomically(fit.idata, path)
+    return fit
+
+
+def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000) -> dict:
+    """`CorrosionInputs` of every zone: posterior where ``fit`` covers the zone, else prior.
+
+    Parameters
+    ----------
+    site : inspection_io.site.Site
+    fit : CorrosionFit, optional
+        From `update_corrosion` (or any object with ``zones`` and
+        ``zone_draws(zone) -> {"initiation_time", "corrosion_rate"}``).
+    seed : int
+        Seed of the prior Monte Carlo of t_i.
+    """
+    out = {}
+    for zone_id in site.zones:
+        if fit is not None and zone_id in tuple(fit.zones):
+            draws = fit.zone_draws(zone_id)
+            out[zone_id] = CorrosionInputs.from_draws(
+                zone_id, draws["initiation_time"], draws["corrosion_rate"],
+                source=f"posterior of zone {zone_id} from break-outs and half-cell surveys "
+                       "(MCMC; lognormal marginals, Gaussian copula)")
+        else:
+            out[zone_id] = CorrosionInputs.from_prior(
+                zone_id, prior_corrosion(site, zone_id, n=prior_samples, seed=seed))
+    return out
+
+
+__all__ = ["CorrosionEvidence", "CorrosionInputs", "age_at", "construction_date",
+           "corrosion_evidence", "initiation_time_prior_draws", "prior_corrosion",
+           "update_corrosion", "zone_corrosion_inputs"]

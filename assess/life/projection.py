@@ -1,0 +1,584 @@
+"""Annual reliability index beta(t) of deteriorating members and their remaining life.
+
+Model
+-----
+At the assessment date t0 the residual bar area ratio of a member is the
+"after" population of the site update (measured break-outs), r0. Later it is
+
+    r(t) = r0 A(t) / A(t0),   A(t) = max(1 - 2 P(t) / D0, 0)^2,
+    P(t) = 0.0116 i_corr max(age(t) - t_i, 0)  [mm]
+
+(uniform corrosion by Faraday's law, `assess.deterioration.corrosion`), with the
+zone's corrosion initiation time t_i [yr of age] and corrosion rate i_corr
+[uA/cm2] as two more random variables of the member model
+(`assess.life.corrosion_inputs`). Hence beta(t0) is the "after" beta of
+`assess.assessment.before_after.assess_members` by construction, and beta(t)
+cannot increase while only deterioration acts.
+
+Reference period
+----------------
+beta(t) is an *annual* reliability index: the probability that the member
+fails in year t under the annual maximum load, with the resistance it has in
+year t. It is compared with the annual target of `assess.targets` (JCSS / ISO
+2394 annual values). It is not the probability of failure over (t0, t]; that
+cumulative probability is larger (domain notes section 8; Mori & Ellingwood
+1993, Struct. Saf. 12, from memory).
+
+Estimator
+---------
+Importance sampling with common random numbers: ONE set of N samples in
+standard normal space, drawn from an equal-weight mixture of unit normal
+densities centred at the FORM design points of every mode at t0, at the middle
+and at the end of the horizon, serves every year and every mode. Each sample's
+weight w = phi(u) / h(u) is fixed; the physical values are transformed once and
+only the corrosion factor changes with t. Since A(t) is non-increasing and the
+capacities increase with the bar area, the set of failed samples grows with t,
+so the estimated pf(t) is non-decreasing and the curve smooth. The CoV of each
+year's estimate is sqrt(Var(I w) / N) / pf; the band of beta is +/- 2 standard
+errors by the delta method, se_beta = CoV pf / phi(beta). Equal mixture weights
+(rather than weights proportional to each design point's pf) keep enough
+samples near the design points of the non-governing modes, whose own curves are
+reported too (a defensive choice; Owen & Zhou 2000, J. Am. Stat. Assoc. 95,
+from memory).
+
+References
+----------
+.. [1] C. G. Bucher, "Adaptive sampling - an iterative fast Monte Carlo procedure,"
+   *Structural Safety* 5(2), 119-126, 1988.
+.. [2] R. E. Melchers, "Importance sampling in structural systems," *Structural
+   Safety* 6(1), 3-10, 1989 (mixture over design points).
+.. [3] Y. Mori and B. R. Ellingwood, "Reliability-based service-life assessment of
+   aging concrete structures," *J. Struct. Eng.* 119(5), 1600-1621, 1993 (from memory).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import zlib
+from typing import Callable, Sequence
+
+import numpy as np
+from scipy import stats
+from scipy.special import logsumexp
+
+from assess.deterioration.corrosion import (penetration_depth, residual_area_ratio,
+                                            time_since_initiation)
+from assess.errors import AnalysisError, InputError
+from assess.life.corrosion_inputs import INITIATION_NAME, RATE_NAME, age_at
+from assess.reliability.crude import check_int, resolve_seed
+from assess.reliability.form import form
+
+ANNUAL_NOTE = ("annual reliability index: failure in year t under the annual maximum load "
+               "with the resistance of year t; compared with the annual target")
+DEFAULT_SAMPLES = 6000
+BAND_STANDARD_ERRORS = 2.0
+
+ALREADY_BELOW, CROSSES, BEYOND = "already below target", "crosses target", "beyond horizon"
+
+
+# -- the estimator -------------------------------------------------------------------------
+@dataclasses.dataclass
+class CurveEstimate:
+    """pf(t) of several groups of modes from one common set of importance samples.
+
+    Attributes
+    ----------
+    times : ndarray (T,)
+        Times of the estimates [yr].
+    pf, cov : dict
+        Group label -> ndarray (T,) of pf [-] and its coefficient of variation [-].
+    n_failures : dict
+        Group label -> ndarray (T,) of failed samples [-].
+    centres : list of dict
+        Mixture centres: ``{"time", "mode", "beta", "converged"}``.
+    n_samples : int
+    n_calls : int
+        Points at which the limit state was evaluated (FORM + samples x times) [-].
+    seed : int or None
+    warnings : list of str
+    """
+
+    times: np.ndarray
+    pf: dict
+    cov: dict
+    n_failures: dict
+    centres: list
+    n_samples: int
+    n_calls: int
+    seed: int | None
+    warnings: list
+
+
+def estimate_curves(model, limit_state_at: Callable, times: Sequence[float],
+                    groups: dict, *, mode_names: Sequence[str], n_samples: int = DEFAULT_SAMPLES,
+                    seed=None, centre_times: Sequence[float] | None = None) -> CurveEstimate:
+    """Probability of failure at each time, by importance sampling with common random numbers.
+
+    Parameters
+    ----------
+    model : ProbabilisticModel
+        Basic variables (time-invariant distributions).
+    limit_state_at : callable
+        ``limit_state_at(x, t)`` with x a dict name -> array (n,) and t a time
+        [yr]; returns g of shape (n, m), one column per mode of ``mode_names``
+        [units of g]; g <= 0 is failure.
+    times : sequence of float
+        Times of the estimates [yr], increasing.
+    groups : dict
+        Label -> list of column indices; a group fails when any of its modes
+        fails (series system).
+    mode_names : sequence of str
+        Names of the m columns.
+    n_samples : int
+        Number of importance samples, shared by all times [-].
+    seed : int, numpy.random.Generator or None
+        Pass an int for reproducible output across calls.
+    centre_times : sequence of float, optional
+        Times whose FORM design points centre the sampling mixture; default the
+        first, middle and last of ``times``.
+
+    Returns
+    -------
+    CurveEstimate
+    """
+    caller = "estimate_curves"
+    n_samples = check_int(n_samples, "n_samples", caller, 100)
+    rng, recorded = resolve_seed(seed, caller)
+    times = np.asarray(times, dtype=float)
+    if times.ndim != 1 or times.size < 1 or np.any(np.diff(times) <= 0):
+        raise InputError(f"The 'times' parameter of {caller} must be increasing. Got {times!r}.")
+    if centre_times is None:
+        centre_times = sorted({float(times[0]), float(times[times.size // 2]), float(times[-1])})
+    mode_names = list(mode_names)
+
+    warnings: list[str] = []
+    centres, info = [], []
+    n_calls = 0
+    for t in centre_times:
+        problem = model.problem(lambda x, _t=t: limit_state_at(x, _t), mode_names=mode_names)
+        result = form(problem)
+        n_calls += problem.n_calls
+        modes = result.details.get("modes") or [{
+            "mode": mode_names[0], "beta": result.beta, "converged": result.converged,
+            "design_point_u": result.design_point_u}]
+        for m in modes:
+            point = np.asarray(m["design_point_u"], dtype=float)
+            if not (np.all(np.isfinite(point)) and np.isfinite(m["beta"])):
+                warnings.append(f"FORM gave no finite design point for {m['mode']} at t = "
+                                f"{t:g} yr; that centre is left out of the sampling mixture")
+                continue
+            if not m["converged"]:
+                warnings.append(f"FORM did not converge for {m['mode']} at t = {t:g} yr; its "
+                                "last iterate centres a mixture component")
+            centres.append(point)
+            info.append({"time": float(t), "mode": m["mode"], "beta": float(m["beta"]),
+                         "converged": bool(m["converged"])})
+    if not centres:
+        centres = [np.zeros(model.dim)]
+        info.append({"time": float(times[0]), "mode": "origin", "beta": math.nan,
+                     "converged": False})
+    centres = np.array(centres)
+    k = centres.shape[0]
+    component = rng.integers(0, k, size=n_samples)
+    u = centres[component] + rng.standard_normal((n_samples, model.dim))
+    squared = ((u[:, None, :] - centres[None, :, :]) ** 2).sum(axis=2)
+    log_h = logsumexp(-0.5 * squared, axis=1) - math.log(k)
+    weights = np.exp(-0.5 * (u * u).sum(axis=1) - log_h)
+    x = model.u_to_x(u)
+
+    pf = {label: np.zeros(times.size) for label in groups}
+    cov = {label: np.full(times.size, math.nan) for label in groups}
+    n_fail = {label: np.zeros(times.size, dtype=int) for label in groups}
+    for j, t in enumerate(times):
+        g = np.asarray(limit_state_at(x, float(t)), dtype=float)
+        if g.ndim == 1:
+            g = g[:, None]
+        n_calls += n_samples
+        if not np.all(np.isfinite(g)):
+            raise AnalysisError(f"the limit state returned a non-finite value at t = {t:g} yr; "
+                                "check the member data and the corrosion inputs")
+        for label, columns in groups.items():
+            failed = g[:, list(columns)].min(axis=1) <= 0.0
+            contribution = weights * failed
+            estimate = float(contribution.mean())
+            pf[label][j] = estimate
+            n_fail[label][j] = int(failed.sum())
+            if estimate > 0:
+                variance = float(contribution.var(ddof=1))
+                cov[label][j] = math.sqrt(variance / n_samples) / estimate
+    return CurveEstimate(times=times, pf=pf, cov=cov, n_failures=n_fail, centres=info,
+                         n_samples=n_samples, n_calls=n_calls, seed=recorded, warnings=warnings)
+
+
+def beta_band(pf, cov, standard_errors: float = BAND_STANDARD_ERRORS):
+    """beta and its band beta -/+ k se_beta, se_beta = CoV pf / phi(beta) (delta method) [-].
+
+    Returns
+    -------
+    beta, lower, upper : ndarray
+        Where pf = 0 (no failed sample) all three are +inf.
+    """
+    pf = np.asarray(pf, dtype=float)
+    cov = np.asarray(cov, dtype=float)
+    beta = stats.norm.isf(pf)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        se = np.where(pf > 0, cov * pf / stats.norm.pdf(beta), np.inf)
+    se = np.where(np.isfinite(se), se, 0.0)
+    return beta, beta - standard_errors * se, beta + standard_errors * se
+
+
+# -- remaining life ------------------------------------------------------------------------
+def first_crossing(times, beta, target: float) -> float:
+    """First time at which beta(t) < target, linear interpolation between times [yr].
+
+    ``times[0]`` when beta starts below the target; NaN when it never falls
+    below within ``times``.
+    """
+    from assess.report.plots import target_crossing_time
+
+    return target_crossing_time(times, beta, target)
+
+
+@dataclasses.dataclass(frozen=True)
+class RemainingLife:
+    """Remaining life against the annual target, with the band of the estimator.
+
+    Attributes
+    ----------
+    status : str
+        ``"already below target"``, ``"crosses target"`` or ``"beyond horizon"``.
+    years : float
+        Years from the assessment date to the first year with beta < target
+        (0 when already below; NaN beyond the horizon) [yr].
+    earliest, latest : float
+        Crossing of the lower and of the upper band (beta -/+ 2 se) [yr]; NaN
+        when that band does not cross within the horizon.
+    horizon_years : float
+        Length of the projection [yr].
+    """
+
+    status: str
+    years: float
+    earliest: float
+    latest: float
+    horizon_years: float
+
+    def text(self) -> str:
+        """Plain-language remaining life, e.g. ``"23.4 yr (22.9-24.1)"``."""
+        if self.status == ALREADY_BELOW:
+            return "already below target"
+        if self.status == BEYOND:
+            lower = (f" (band: may cross from {self.earliest:.1f} yr)"
+                     if math.isfinite(self.earliest) else "")
+            return f"more than {self.horizon_years:g} yr{lower}"
+        latest = f"{self.latest:.1f}" if math.isfinite(self.latest) else \
+            f">{self.horizon_years:g}"
+        earliest = f"{self.earliest:.1f}" if math.isfinite(self.earliest) else "0"
+        return f"{self.years:.1f} yr ({earliest}-{latest})"
+
+    def to_dict(self) -> dict:
+        clean = {k: (v if not isinstance(v, float) or math.isfinite(v) else None)
+                 for k, v in dataclasses.asdict(self).items()}
+        clean["text"] = self.text()
+        return clean
+
+
+def remaining_life(times, beta, lower, upper, target: float) -> RemainingLife:
+    """Remaining life from beta(t) and its band (times from the assessment date) [yr]."""
+    times = np.asarray(times, dtype=float)
+    horizon = float(times[-1] - times[0])
+    crossing = first_crossing(times, beta, target)
+    earliest = first_crossing(times, lower, target)
+    latest = first_crossing(times, upper, target)
+    if beta[0] < target:
+        status, years = ALREADY_BELOW, 0.0
+    elif math.isfinite(crossing):
+        status, years = CROSSES, crossing - times[0]
+    else:
+        status, years = BEYOND, math.nan
+    shift = float(times[0])
+    return RemainingLife(status=status, years=float(years),
+                         earliest=float(earliest - shift) if math.isfinite(earliest) else math.nan,
+                         latest=float(latest - shift) if math.isfinite(latest) else math.nan,
+                         horizon_years=horizon)
+
+
+# -- members -------------------------------------------------------------------------------
+@dataclasses.dataclass
+class LifeCurve:
+    """Annual beta(t) of one member and mode (``mode="system"`` for the series system).
+
+    Attributes
+    ----------
+    member, zone, kind, mode : str
+    years_from_assessment : ndarray (T,)
+        Time since the assessment date [yr].
+    calendar_year : ndarray (T,)
+        Decimal calendar year [yr].
+    age_years : ndarray (T,)
+        Age of the structure [yr].
+    beta, pf, cov : ndarray (T,)
+        Annual reliability index [-], annual pf [-], CoV of the pf estimate [-].
+    beta_lower, beta_upper : ndarray (T,)
+        beta -/+ 2 standard errors of the estimator [-].
+    target : Target
+        Annual target (`assess.targets.target_beta` with a 1-year period).
+    remaining_life : RemainingLife
+    governing_mode : str
+        For the system: the mode with the lowest beta at the end of the
+        horizon; else the mode itself.
+    corrosion : dict
+        The zone's `CorrosionInputs` as a dict.
+    n_samples, n_calls : int
+    seed : int or None
+    centres : list of dict
+        FORM design points that centre the sampling mixture.
+    warnings : list of str
+    checks : list of dict
+        Cross-checks by subset simulation at given years.
+    reference : str
+        Always `ANNUAL_NOTE`.
+    """
+
+    member: str
+    zone: str
+    kind: str
+    mode: str
+    years_from_assessment: np.ndarray
+    calendar_year: np.ndarray
+    age_years: np.ndarray
+    beta: np.ndarray
+    pf: np.ndarray
+    cov: np.ndarray
+    beta_lower: np.ndarray
+    beta_upper: np.ndarray
+    target: object
+    remaining_life: RemainingLife
+    governing_mode: str
+    corrosion: dict
+    n_samples: int
+    n_calls: int
+    seed: int | None
+    centres: list
+    warnings: list
+    checks: list = dataclasses.field(default_factory=list)
+    reference: str = ANNUAL_NOTE
+
+    @property
+    def beta_now(self) -> float:
+        """Annual beta at the assessment date [-]."""
+        return float(self.beta[0])
+
+    def to_dict(self) -> dict:
+        def values(a):
+            return [float(v) if math.isfinite(v) else None for v in np.asarray(a, dtype=float)]
+
+        return {
+            "member": self.member, "zone": self.zone, "kind": self.kind, "mode": self.mode,
+            "reference_period_years": 1.0, "reference": self.reference,
+            "years_from_assessment": values(self.years_from_assessment),
+            "calendar_year": values(self.calendar_year), "age_years": values(self.age_years),
+            "beta": values(self.beta), "pf": values(self.pf), "cov": values(self.cov),
+            "beta_lower": values(self.beta_lower), "beta_upper": values(self.beta_upper),
+            "target": {"beta": self.target.beta, "reference_period_years":
+                       self.target.reference_period_years, "source": self.target.source},
+            "remaining_life": self.remaining_life.to_dict(),
+            "governing_mode": self.governing_mode, "corrosion": self.corrosion,
+            "n_samples": self.n_samples, "n_calls": self.n_calls, "seed": self.seed,
+            "centres": self.centres, "warnings": list(self.warnings), "checks": self.checks,
+        }
+
+
+def area_factor(initiation_time, corrosion_rate, age_years: float, age_now_years: float,
+                bar_diameter_mm: float):
+    """A(age) / A(age_now) of a bar under uniform Faraday corrosion [-].
+
+    Exactly 1 at ``age_years == age_now_years``; 0 where the bar is already
+    consumed at ``age_now`` (then nothing is left to lose, and the model's
+    measured state is taken as lost at once - a conservative edge case).
+    """
+    def ratio(age):
+        penetration = penetration_depth(corrosion_rate, time_since_initiation(age, initiation_time))
+        return residual_area_ratio(bar_diameter_mm, penetration, rule="uniform")
+
+    if age_years == age_now_years:
+        return np.ones(np.shape(initiation_time))
+    now = ratio(age_now_years)
+    later = ratio(age_years)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(now > 0.0, later / np.where(now > 0.0, now, 1.0), 0.0)
+
+
+def deteriorating_limit_state(member_model, bar_diameter_mm: float, age_now_years: float,
+                              mode_names: Sequence[str]):
+    """``limit_state_at(x, t)`` of a member whose bar area corrodes after the assessment.
+
+    t is the time since the assessment date [yr]; ``x["area_ratio"]`` is scaled
+    by `area_factor` before the member's mode functions are evaluated.
+    """
+    funcs = [member_model.modes[m] for m in mode_names]
+
+    def limit_state_at(x, t):
+        factor = area_factor(x[INITIATION_NAME], x[RATE_NAME], age_now_years + float(t),
+                             age_now_years, bar_diameter_mm)
+        shifted = dict(x)
+        shifted["area_ratio"] = x["area_ratio"] * factor
+        return np.column_stack([f(shifted) for f in funcs])
+
+    return limit_state_at
+
+
+def annual_target(site):
+    """Annual ULS target of the site's consequence class and cost of safety (`target_beta`)."""
+    from assess.targets import target_beta
+
+    return target_beta(site.target.consequence_class, 1.0, site.target.cost_of_safety)
+
+
+def _member_seed(seed: int, member: str) -> int:
+    return (int(seed) + zlib.crc32(f"{member}/remaining-life".encode())) % (2**32)
+
+
+def _decimal_year(date) -> float:
+    start = type(date)(date.year, 1, 1)
+    return date.year + (date - start).days / 365.25
+
+
+def project_member(site, member_id: str, update, *, corrosion: dict | None = None,
+                   horizon_years: float = 50.0, step_years: float = 1.0,
+                   n_samples: int = DEFAULT_SAMPLES, seed: int = 20261202,
+                   check_years: Sequence[float] = (), check_samples: int = 1000) -> list:
+    """Annual beta(t) and remaining life of every mode and the system of one member.
+
+    Parameters
+    ----------
+    site : inspection_io.site.Site
+    member_id : str
+    update : SiteUpdate
+        Its ``after`` knowledge gives the state at the assessment date.
+    corrosion : dict, optional
+        Zone -> `CorrosionInputs`; default the priors of `zone_corrosion_inputs`.
+    horizon_years : float, default 50
+        Length of the projection from the assessment date [yr].
+    step_years : float, default 1
+        Time step [yr].
+    n_samples : int
+        Importance samples shared by all years and modes [-].
+    seed : int
+        Base seed; each member gets its own.
+    check_years : sequence of float
+        Years from the assessment date at which the system pf is recomputed by
+        subset simulation as a cross-check (stored in ``checks``).
+    check_samples : int
+        Samples per subset level of the cross-checks [-].
+
+    Returns
+    -------
+    list of LifeCurve
+        One per mode, then ``"system"`` when the member has several modes.
+    """
+    from assess.assessment.members import build_member_model
+    from assess.life.corrosion_inputs import zone_corrosion_inputs
+    from assess.reliability.subset import subset_simulation
+
+    if member_id not in site.members:
+        raise InputError(f"member {member_id!r} is not in the site file; members are "
+                         f"{', '.join(site.members)}", column="member")
+    if not (horizon_years > 0 and step_years > 0 and step_years <= horizon_years):
+        raise InputError(f"horizon and step must be positive years with step <= horizon, got "
+                         f"{horizon_years!r} and {step_years!r}", column="horizon")
+    member = site.members[member_id]
+    if corrosion is None:
+        corrosion = zone_corrosion_inputs(site, seed=seed)
+    inputs = corrosion[member.zone]
+    member_model = build_member_model(site, member, update.after[member.zone],
+                                      reference_period_years=1.0)
+    inputs.add_to_model(member_model.model)
+    mode_names = list(member_model.modes)
+    age_now = age_at(site, site.site.assessment_date)
+    limit_state_at = deteriorating_limit_state(member_model, float(member.bar_diameter), age_now,
+                                               mode_names)
+    n_steps = int(round(horizon_years / step_years))
+    times = np.arange(n_steps + 1) * float(step_years)
+    groups = {name: [j] for j, name in enumerate(mode_names)}
+    if len(mode_names) > 1:
+        groups["system"] = list(range(len(mode_names)))
+    run_seed = _member_seed(seed, member_id)
+    estimate = estimate_curves(member_model.model, limit_state_at, times, groups,
+                               mode_names=mode_names, n_samples=n_samples, seed=run_seed)
+    target = annual_target(site)
+    start_year = _decimal_year(site.site.assessment_date)
+    curves = []
+    for label in groups:
+        beta, lower, upper = beta_band(estimate.pf[label], estimate.cov[label])
+        governing = label
+        if label == "system":
+            governing = min(mode_names, key=lambda m: stats.norm.isf(estimate.pf[m][-1]))
+        warnings = list(estimate.warnings)
+        if np.any(estimate.n_failures[label] == 0):
+            first = int(np.flatnonzero(estimate.n_failures[label] == 0)[0])
+            warnings.append(f"no failed sample at t = {times[first]:g} yr: beta there is beyond "
+                            "what the sample set resolves (shown as +inf)")
+        curves.append(LifeCurve(
+            member=member_id, zone=member.zone, kind=member.kind, mode=label,
+            years_from_assessment=times, calendar_year=start_year + times,
+            age_years=age_now + times, beta=beta, pf=estimate.pf[label],
+            cov=estimate.cov[label], beta_lower=lower, beta_upper=upper, target=target,
+            remaining_life=remaining_life(times, beta, lower, upper, target.beta),
+            governing_mode=governing, corrosion=inputs.to_dict(),
+            n_samples=estimate.n_samples, n_calls=estimate.n_calls, seed=estimate.seed,
+            centres=estimate.centres, warnings=warnings))
+    system = curves[-1]
+    for t in check_years:
+        j = int(np.argmin(np.abs(times - float(t))))
+        problem = member_model.model.problem(lambda x, _t=times[j]: limit_state_at(x, _t),
+                                             mode_names=mode_names)
+        check = subset_simulation(problem, n_per_level=check_samples, seed=run_seed + j + 1)
+        combined = math.hypot(check.cov * check.pf, system.cov[j] * system.pf[j])
+        system.checks.append({
+            "years_from_assessment": float(times[j]), "beta_importance_sampling":
+            float(system.beta[j]), "beta_subset_simulation": float(check.beta),
+            "cov_subset_simulation": float(check.cov), "n_calls": int(check.n_calls),
+            "agree_within_3_cov": bool(abs(check.pf - system.pf[j]) <= 3.0 * combined)})
+    return curves
+
+
+def project_site(site, update, *, corrosion: dict | None = None, members=None,
+                 horizon_years: float = 50.0, step_years: float = 1.0,
+                 n_samples: int = DEFAULT_SAMPLES, seed: int = 20261202,
+                 check_years: Sequence[float] = (),
+                 progress: Callable[[str], None] | None = None) -> list:
+    """`project_member` for every member (or those given); curves of all modes and systems."""
+    from assess.life.corrosion_inputs import zone_corrosion_inputs
+
+    if corrosion is None:
+        corrosion = zone_corrosion_inputs(site, seed=seed)
+    chosen = list(members) if members else list(site.members)
+    unknown = [m for m in chosen if m not in site.members]
+    if unknown:
+        raise InputError(f"member(s) {', '.join(unknown)} not in the site file; members are "
+                         f"{', '.join(site.members)}", column="--member")
+    curves = []
+    for member_id in chosen:
+        curves.extend(project_member(site, member_id, update, corrosion=corrosion,
+                                     horizon_years=horizon_years, step_years=step_years,
+                                     n_samples=n_samples, seed=seed, check_years=check_years))
+        if progress:
+            progress(member_id)
+    return curves
+
+
+def governing_curves(curves) -> list:
+    """One curve per member: its system curve, or its only mode."""
+    by_member: dict[str, LifeCurve] = {}
+    for curve in curves:
+        if curve.mode == "system" or curve.member not in by_member:
+            by_member[curve.member] = curve
+    return list(by_member.values())
+
+
+__all__ = ["ANNUAL_NOTE", "CurveEstimate", "LifeCurve", "RemainingLife", "annual_target",
+           "area_factor", "beta_band", "deteriorating_limit_state", "estimate_curves",
+           "first_crossing", "governing_curves", "project_member", "project_site",
+           "remaining_life"]

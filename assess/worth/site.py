@@ -1,0 +1,657 @@
+"""The value-of-information decision problem of one member of a real site.
+
+From the site's updated knowledge (`assess.assessment.site_update.update_site`)
+and a decision set-up (`assess.worth.decision_file`), build the
+`DecisionProblem` of one member and the candidate test programmes:
+
+1. **Draws theta.** The current posterior draws of (mu, sigma) of each material
+   population ("concrete" on ln f_c, "steel", "cover", "area_ratio") in the
+   member's zone, and in every zone a programme tests, taken at the same MCMC
+   draw index so that the joint posterior (e.g. partial pooling of the concrete
+   between zones) is kept. Columns are named ``"<quantity>.<mu|sigma>@<zone>"``.
+2. **Conditional reliability.** Given theta the populations are known: f_c is
+   lognormal with (mu, sigma) of ln f_c, f_y, cover and the area ratio are normal
+   with (mu, sigma). Loads and model uncertainties stay random as in
+   `assess.assessment.members.build_member_model`. The annual reliability index
+   beta(theta) of each failure mode and each alternative comes from FORM.
+3. **Surrogate.** FORM at every draw would be too slow, so FORM runs at a design
+   of ~50 draws chosen by farthest-point selection in standardised theta, and a
+   quadratic response surface (constant, linear and squared terms of the
+   standardised member-zone columns) is fitted to beta by least squares
+   (Bucher & Bourgund 1990, Struct. Saf. 7:57-66, from memory). Its
+   leave-one-out error (PRESS, Allen 1974, Technometrics 16:125-127, from
+   memory) is reported and a warning is raised when it is poor.
+4. **Costs over the horizon.** The annual pf of the member is the sum over its
+   modes of Phi(-beta_mode) (the upper unimodal series bound, Cornell 1967).
+   Years are treated as independent given theta: the failure-probability
+   increment in year t is pf (1 - pf)^(t - 1), so the horizon pf is
+   1 - (1 - pf)^T (the EN 1990 Annex C conversion, which overstates the horizon
+   pf of a member whose resistance does not change). Failures are discounted
+   with (1 + r)^-t. The same conversion gives the horizon target.
+
+Alternatives and their assumed effects
+--------------------------------------
+- keep as is: cost 0, theta as it is;
+- repair: residual area ratio back to the design-stage population (the
+  area-ratio columns no longer matter);
+- strengthen: the resistance model uncertainty theta_R of every mode is
+  multiplied by ``capacity_factor`` (a stronger member with the same scatter);
+- restrict load: the imposed (vehicle) load is multiplied by ``load_factor``;
+  a yearly cost is turned into its present value over the horizon;
+- replace: annual pf of a new member = target annual pf.
+
+Half-cell surveys need P(active corrosion | theta), which the current-state
+model does not carry. It is mapped from the area-ratio population as
+P(area ratio < ``active_below``) = Phi((active_below - mu_r) / sigma_r) with
+``active_below`` = 0.98 by default: a point whose bars have lost more than 2 %
+of their section is taken as actively corroding. This proxy ignores corrosion
+that has started but not yet removed section; it is stated in every result.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import warnings
+from typing import Callable, Sequence
+
+import numpy as np
+from scipy import special, stats
+
+from assess.assessment.knowledge import QUANTITIES
+from assess.assessment.members import MemberModel, build_member_model
+from assess.distributions import make_distribution
+from assess.errors import AnalysisError, InputError
+from assess.model import ProbabilisticModel
+from assess.reliability.form import form
+from assess.targets import Target, convert_reference_period, target_beta
+from assess.updating.normal_gamma import NormalGamma
+from assess.updating.to_model import add_uncertain_quantity
+from assess.worth.decision import Alternative, DecisionProblem, discount_factors
+from assess.worth.decision_file import AlternativeSpec, DecisionSetup, ProgrammeSpec
+from assess.worth.programmes import (BreakoutSurvey, CoreSampling, HalfCellSurvey, Programme,
+                                     _check_cost, _check_count, _check_sd)
+
+#: Physical variable of each population in the member models and its distribution given theta.
+PHYSICAL = {"concrete": ("fc", "lognormal"), "steel": ("fy", "normal"),
+            "cover": ("cover", "normal"), "area_ratio": ("area_ratio", "normal")}
+#: Resistance model-uncertainty variables of the member models (`assess.assessment.members`).
+RESISTANCE_UNCERTAINTY = ("theta_flexure", "theta_shear", "theta_punching")
+#: Imposed (vehicle) load variable of the member models.
+IMPOSED_LOAD = "imposed"
+_SCALE_FAMILIES = ("normal", "lognormal", "gumbel", "gamma", "weibull")
+#: Leave-one-out RMSE of the beta surrogate above which a warning is given [-].
+SURROGATE_WARNING_RMSE = 0.10
+#: ... and above which the analysis stops [-].
+SURROGATE_FAILURE_RMSE = 0.30
+#: Modes whose smallest design beta exceeds this carry no weight in pf [-].
+NEGLIGIBLE_BETA = 7.0
+ALTERNATIVE_NAMES = {"keep": "keep as is", "repair": "repair", "strengthen": "strengthen",
+                     "restrict_load": "restrict load", "replace": "replace"}
+
+
+def parameter_name(quantity: str, statistic: str, zone: str) -> str:
+    """Theta column name, e.g. ``"concrete.mu@L3"``."""
+    return f"{quantity}.{statistic}@{zone}"
+
+
+def zone_columns(zone: str) -> list[str]:
+    """The eight theta columns of one zone, in the order of `QUANTITIES` (mu, sigma)."""
+    return [parameter_name(q, s, zone) for q in QUANTITIES for s in ("mu", "sigma")]
+
+
+def add_fixed_quantity(model: ProbabilisticModel, name: str, mu: float, sigma: float,
+                       kind: str = "lognormal") -> None:
+    """Add a physical variable whose population is known: Y ~ N(mu, sigma^2).
+
+    The counterpart of `assess.updating.to_model.add_uncertain_quantity` for a
+    population fixed at one draw theta; Y = ln X for ``kind="lognormal"``.
+
+    Parameters
+    ----------
+    model : ProbabilisticModel
+    name : str
+        Name of the physical variable (e.g. ``"fc"``).
+    mu, sigma : float
+        Mean and standard deviation of Y [units of Y], sigma > 0.
+    kind : {"lognormal", "normal"}
+    """
+    if not (math.isfinite(mu) and math.isfinite(sigma) and sigma > 0):
+        raise InputError(f"variable '{name}': a fixed population needs finite mu and sigma > 0, "
+                         f"got mu={mu!r}, sigma={sigma!r}")
+    if kind == "lognormal":
+        model.add(name, make_distribution("lognormal", mu_ln=float(mu), sigma_ln=float(sigma),
+                                          name=name))
+    elif kind == "normal":
+        model.add(name, make_distribution("normal", mean=float(mu), std=float(sigma), name=name))
+    else:
+        raise InputError(f"variable '{name}': kind must be 'lognormal' or 'normal', got {kind!r}")
+
+
+def _scaled(distribution, factor: float, name: str):
+    if distribution.kind not in _SCALE_FAMILIES:
+        raise AnalysisError(f"variable '{name}' has a {distribution.kind} distribution, which "
+                            f"cannot be scaled by a factor; the alternative's effect is undefined")
+    return make_distribution(distribution.kind, mean=float(distribution.mean) * factor,
+                             std=float(distribution.std) * factor, name=name)
+
+
+class ConditionalReliability:
+    """Annual beta of each mode of a member given its zone's populations theta.
+
+    Parameters
+    ----------
+    member_model : MemberModel
+        Model of the member built with any knowledge (its loads, model
+        uncertainties and failure modes are reused; its material populations are
+        replaced).
+    repair_population : NormalGamma
+        Area-ratio population after a repair (the design-stage prior) [-].
+    """
+
+    def __init__(self, member_model: MemberModel, repair_population: NormalGamma):
+        self.member_model = member_model
+        self.repair_population = repair_population
+        self.modes = list(member_model.modes)
+        base = member_model.model
+        physical = {v for v, _ in PHYSICAL.values()}
+        self._others = [n for n in base.names if n.split(".")[0] not in physical]
+        roots, matrix, _ = base.correlation_matrix()
+        self._correlations = [(roots[i], roots[j], float(matrix[i, j]))
+                              for i in range(len(roots)) for j in range(i + 1, len(roots))
+                              if matrix[i, j] != 0.0 and roots[i] in self._others
+                              and roots[j] in self._others]
+        if not any(n in self._others for n in RESISTANCE_UNCERTAINTY):
+            raise AnalysisError("the member model has no resistance model uncertainty "
+                                f"({', '.join(RESISTANCE_UNCERTAINTY)}) to strengthen")
+        self.n_calls = 0
+
+    def model(self, theta_row, alternative: AlternativeSpec) -> ProbabilisticModel:
+        """Probabilistic model with populations fixed at ``theta_row`` (8 member-zone columns)."""
+        model = ProbabilisticModel()
+        for i, (quantity, (variable, kind)) in enumerate(PHYSICAL.items()):
+            if quantity == "area_ratio" and alternative.kind == "repair":
+                add_uncertain_quantity(model, variable, self.repair_population, kind=kind)
+            else:
+                add_fixed_quantity(model, variable, theta_row[2 * i], theta_row[2 * i + 1], kind)
+        base = self.member_model.model
+        for name in self._others:
+            distribution = base.marginal(name)
+            if alternative.kind == "strengthen" and name in RESISTANCE_UNCERTAINTY:
+                distribution = _scaled(distribution, alternative.factor, name)
+            elif alternative.kind == "restrict_load" and name == IMPOSED_LOAD:
+                distribution = _scaled(distribution, alternative.factor, name)
+            model.add(name, distribution)
+        for a, b, rho in self._correlations:
+            model.set_correlation(a, b, rho)
+        return model
+
+    def betas(self, theta_rows, alternative: AlternativeSpec) -> tuple[np.ndarray, np.ndarray]:
+        """FORM beta per row and mode.
+
+        Returns
+        -------
+        betas : ndarray of shape (n, modes) [-]
+        converged : ndarray of bool, shape (n, modes)
+        """
+        rows = np.atleast_2d(np.asarray(theta_rows, dtype=float))
+        betas = np.empty((rows.shape[0], len(self.modes)))
+        converged = np.empty(betas.shape, dtype=bool)
+        for i, row in enumerate(rows):
+            model = self.model(row, alternative)
+            for j, mode in enumerate(self.modes):
+                function = self.member_model.modes[mode]
+                problem = model.problem(lambda x, f=function: np.column_stack([f(x)]),
+                                        mode_names=[mode])
+                with warnings.catch_warnings():
+                    warnings.simplefilter("ignore")
+                    result = form(problem)
+                self.n_calls += result.n_calls
+                betas[i, j] = result.beta
+                converged[i, j] = bool(result.converged) and math.isfinite(result.beta)
+        return betas, converged
+
+
+@dataclasses.dataclass
+class QuadraticSurrogate:
+    """Response surface beta(theta) = c0 + sum_i b_i z_i + sum_i q_i z_i^2 on standardised z.
+
+    Attributes
+    ----------
+    center_, scale_ : ndarray of shape (p,)
+        Standardisation of the theta columns (columns with zero spread are dropped).
+    used_ : ndarray of bool, shape (p,)
+    coef_ : ndarray
+        Least-squares coefficients [-].
+    loo_rmse_ : float
+        Leave-one-out root-mean-square error from the PRESS residuals e_i / (1 - h_ii) [-].
+    loo_max_ : float
+        Largest absolute leave-one-out residual [-].
+    """
+
+    center_: np.ndarray
+    scale_: np.ndarray
+    used_: np.ndarray
+    coef_: np.ndarray
+    loo_rmse_: float
+    loo_max_: float
+
+    @staticmethod
+    def _features(z: np.ndarray) -> np.ndarray:
+        return np.hstack([np.ones((z.shape[0], 1)), z, z * z])
+
+    def _standardise(self, theta) -> np.ndarray:
+        theta = np.atleast_2d(np.asarray(theta, dtype=float))
+        return (theta[:, self.used_] - self.center_[self.used_]) / self.scale_[self.used_]
+
+    @classmethod
+    def fit(cls, theta, beta, center, scale) -> "QuadraticSurrogate":
+        """Least-squares fit to design points theta (n, p) and betas (n,)."""
+        theta = np.asarray(theta, dtype=float)
+        beta = np.asarray(beta, dtype=float)
+        used = np.asarray(scale, dtype=float) > 0
+        surrogate = cls(np.asarray(center, float), np.asarray(scale, float), used,
+                        np.empty(0), math.nan, math.nan)
+        features = cls._features(surrogate._standardise(theta))
+        if features.shape[0] <= features.shape[1] + 2:
+            raise AnalysisError(f"the beta surrogate needs more than {features.shape[1] + 2} "
+                                f"design points for {features.shape[1]} terms, got "
+                                f"{features.shape[0]}")
+        coef, *_ = np.linalg.lstsq(features, beta, rcond=None)
+        hat = np.einsum("ij,ji->i", features, np.linalg.pinv(features))
+        residual = (beta - features @ coef) / np.clip(1.0 - hat, 1e-9, None)
+        surrogate.coef_ = coef
+        surrogate.loo_rmse_ = float(np.sqrt(np.mean(residual ** 2)))
+        surrogate.loo_max_ = float(np.max(np.abs(residual)))
+        return surrogate
+
+    def predict(self, theta) -> np.ndarray:
+        """Predicted beta for rows of theta [-]."""
+        return self._features(self._standardise(theta)) @ self.coef_
+
+
+def farthest_point_design(theta_standardised: np.ndarray, n_points: int) -> np.ndarray:
+    """Indices of ``n_points`` rows spread over the cloud (greedy maximin selection).
+
+    Starts at the row nearest the mean and adds, one at a time, the row farthest
+    from those already chosen (Gonzalez 1985, Theor. Comput. Sci. 38:293-306, from
+    memory), so the design covers the tails the surrogate must predict.
+    """
+    z = np.asarray(theta_standardised, dtype=float)
+    n_points = min(int(n_points), z.shape[0])
+    chosen = [int(np.argmin(np.einsum("ij,ij->i", z, z)))]
+    distance = np.einsum("ij,ij->i", z - z[chosen[0]], z - z[chosen[0]])
+    for _ in range(n_points - 1):
+        nxt = int(np.argmax(distance))
+        chosen.append(nxt)
+        step = z - z[nxt]
+        distance = np.minimum(distance, np.einsum("ij,ij->i", step, step))
+    return np.array(chosen)
+
+
+def _normal_gamma_draws(population: NormalGamma, n: int, rng) -> tuple[np.ndarray, np.ndarray]:
+    """Draws of (mu, sigma) of a normal-gamma population with its copula correlation."""
+    u = rng.standard_normal((2, n))
+    rho = float(population.rho)
+    precision = stats.gamma.ppf(special.ndtr(u[0]), population.shape, scale=1.0 / population.rate)
+    sigma = 1.0 / np.sqrt(precision)
+    z = population.z_mean + population.z_std * (rho * u[0] + math.sqrt(1.0 - rho ** 2) * u[1])
+    return population.center + z * sigma, sigma
+
+
+def population_draws(update, zones: Sequence[str], *, n_draws: int = 3000,
+                     seed=None) -> tuple[np.ndarray, list[str]]:
+    """Joint draws theta of (mu, sigma) of every population in ``zones``.
+
+    Quantities updated by MCMC use the stored posterior draws, thinned evenly to
+    at most ``n_draws`` and taken at the same draw index for every zone and
+    quantity (the joint posterior is kept). Quantities without site data use
+    independent draws of their `NormalGamma` (the design prior).
+
+    Returns
+    -------
+    theta : ndarray of shape (N, 8 * len(zones))
+    names : list of str
+        Column names, `zone_columns` of each zone in turn.
+    """
+    from assess.updating.models import group_draws
+
+    rng = np.random.default_rng(seed)
+    columns, names = [], []
+    mcmc = {q for q in QUANTITIES
+            if update.idata is not None and not update.data[q].empty}
+    total = None
+    if mcmc:
+        mu, _ = group_draws(update.idata, zones[0], name=sorted(mcmc)[0])
+        total = mu.size
+    n = min(int(n_draws), total) if total else int(n_draws)
+    index = np.unique(np.linspace(0, total - 1, n).round().astype(int)) if total else None
+    n = index.size if total else n
+    for zone in zones:
+        for quantity in QUANTITIES:
+            if quantity in mcmc:
+                mu, sigma = group_draws(update.idata, zone, name=quantity)
+                mu, sigma = mu[index], sigma[index]
+            else:
+                mu, sigma = _normal_gamma_draws(update.after[zone][quantity], n, rng)
+            columns.extend([mu, sigma])
+            names.extend([parameter_name(quantity, "mu", zone),
+                          parameter_name(quantity, "sigma", zone)])
+    return np.column_stack(columns), names
+
+
+def system_beta_after(site, update, member_id: str, reference_period_years: float) -> float:
+    """FORM system beta of a member on updated knowledge (sum of mode pfs as system pf) [-]."""
+    member = site.members[member_id]
+    model = build_member_model(site, member, update.after[member.zone],
+                               reference_period_years=reference_period_years)
+    pf = 0.0
+    for mode in model.modes:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            pf += form(model.problem([mode])).pf
+    return float(stats.norm.isf(min(pf, 1.0)))
+
+
+def weakest_member(site, update) -> tuple[str, dict]:
+    """Member with the lowest system beta after updating, and every member's beta [-]."""
+    period = float(site.target.reference_period)
+    betas = {m: system_beta_after(site, update, m, period) for m in site.members}
+    return min(betas, key=betas.get), betas
+
+
+@dataclasses.dataclass(frozen=True)
+class CoverSurvey(Programme):
+    """Cover-meter survey: n readings of cover in one zone.
+
+    Reading i: c_i = mu_c + sigma_c eps_i + e_i, eps_i ~ N(0, 1), e_i ~ N(0,
+    measurement_sd^2) (cover-meter error, typically 1-5 mm, BS 1881-204, from
+    memory). The same normal sample model as `CoreSampling`; outcome (mean
+    cover, sum of squared deviations) [mm, mm^2].
+    """
+
+    name: str
+    cost: float
+    n_readings: int
+    mean_column: object
+    sd_column: object
+    measurement_sd: float = 0.0
+    description: str = ""
+
+    def __post_init__(self):
+        _check_cost(self.name, self.cost)
+        _check_count(self.name, "n_readings", self.n_readings)
+        _check_sd(self.name, "measurement_sd", self.measurement_sd)
+
+    def _sample(self) -> CoreSampling:
+        return CoreSampling(self.name, self.cost, self.n_readings, self.mean_column,
+                            self.sd_column, self.measurement_sd, self.description)
+
+    def default_description(self) -> str:
+        return f"a cover survey of {self.n_readings} readings ('{self.name}')"
+
+    def resolve(self, parameter_names):
+        inner = self._sample().resolve(parameter_names)
+        return dataclasses.replace(self, mean_column=inner.mean_column,
+                                   sd_column=inner.sd_column)
+
+    def simulate(self, theta, rng):
+        return self._sample().simulate(theta, rng)
+
+    def log_likelihood(self, outcomes, theta):
+        return self._sample().log_likelihood(outcomes, theta)
+
+
+def active_probability_from_area_ratio(mean_column: int, sd_column: int,
+                                       threshold: float) -> Callable[[np.ndarray], np.ndarray]:
+    """P(active | theta) = Phi((threshold - mu_r) / sigma_r) (proxy, see the module notes)."""
+
+    def probability(theta):
+        theta = np.asarray(theta, dtype=float)
+        return special.ndtr((threshold - theta[:, mean_column]) / theta[:, sd_column])
+
+    return probability
+
+
+def make_programme(spec: ProgrammeSpec, zone: str, parameter_names: Sequence[str]) -> Programme:
+    """Engine programme of a decision-file entry, its columns resolved in ``parameter_names``."""
+    def column(quantity, statistic):
+        return list(parameter_names).index(parameter_name(quantity, statistic, zone))
+
+    where = f" in zone {zone}"
+    if spec.kind == "cores":
+        return CoreSampling(spec.name, spec.cost, spec.count, column("concrete", "mu"),
+                            column("concrete", "sigma"), spec.measurement_sd,
+                            spec.description or f"drilling {spec.count} cores{where}")
+    if spec.kind == "breakouts":
+        return BreakoutSurvey(spec.name, spec.cost, spec.count, column("area_ratio", "mu"),
+                              column("area_ratio", "sigma"), spec.measurement_sd,
+                              spec.description or f"opening {spec.count} break-outs{where}")
+    if spec.kind == "cover":
+        return CoverSurvey(spec.name, spec.cost, spec.count, column("cover", "mu"),
+                           column("cover", "sigma"), spec.measurement_sd,
+                           spec.description or f"a cover survey of {spec.count} "
+                                               f"readings{where}")
+    if spec.kind == "half-cell":
+        return HalfCellSurvey(
+            spec.name, spec.cost, spec.count,
+            active_probability_from_area_ratio(column("area_ratio", "mu"),
+                                               column("area_ratio", "sigma"), spec.active_below),
+            spec.probability_of_detection, spec.probability_of_false_alarm,
+            spec.description or f"a half-cell survey of {spec.count} points{where}")
+    raise InputError(f"programme '{spec.name}': unknown kind {spec.kind!r}")
+
+
+@dataclasses.dataclass
+class SiteDecision:
+    """Decision problem of one member, its candidate programmes and the surrogate checks.
+
+    Attributes
+    ----------
+    member, zone : str
+    problem : DecisionProblem
+        Annual form over the horizon, discounted.
+    programmes : list of Programme
+    target : Target
+        Annual target of the site [-].
+    horizon_target_beta : float
+        Target converted to the horizon (EN 1990 Annex C) [-].
+    horizon_years : int
+    annual_beta : dict
+        Alternative name -> annual beta of the member per draw, shape (N,) [-].
+    surrogates : dict
+        Alternative name -> mode -> `QuadraticSurrogate` (None for "replace").
+    design_index : ndarray
+        Rows of theta used as FORM design points.
+    reliability : ConditionalReliability
+        For direct FORM checks at other draws.
+    member_columns : list of str
+        The eight theta columns of the member's zone (surrogate inputs).
+    form_calls : int
+        Limit-state evaluations spent on the design [-].
+    notes : list of str
+        Assumptions and warnings in plain words.
+    """
+
+    member: str
+    zone: str
+    problem: DecisionProblem
+    programmes: list
+    target: Target
+    horizon_target_beta: float
+    horizon_years: int
+    annual_beta: dict
+    surrogates: dict
+    design_index: np.ndarray
+    reliability: ConditionalReliability
+    member_columns: list
+    form_calls: int
+    notes: list
+
+    def member_theta(self, rows=None) -> np.ndarray:
+        """Member-zone columns of theta (all rows, or the given ones)."""
+        index = [self.problem.parameter_names.index(c) for c in self.member_columns]
+        theta = self.problem.theta[:, index]
+        return theta if rows is None else theta[rows]
+
+    def surrogate_errors(self) -> dict:
+        """Alternative -> mode -> leave-one-out RMSE of beta [-]."""
+        return {alt: {mode: s.loo_rmse_ for mode, s in modes.items()}
+                for alt, modes in self.surrogates.items() if modes}
+
+
+def _alternative_cost(spec: AlternativeSpec, setup: DecisionSetup) -> float:
+    yearly = spec.cost_per_year * float(discount_factors(setup.discount_rate,
+                                                         setup.horizon_years).sum())
+    return spec.cost + yearly
+
+
+def _alternative_description(spec: AlternativeSpec) -> str:
+    effect = {"keep": "no change",
+              "repair": "residual bar area back to the design-stage population",
+              "strengthen": f"resistance x {spec.factor:g}",
+              "restrict_load": f"imposed load x {spec.factor:g}",
+              "replace": "new member at the target annual pf"}[spec.kind]
+    return f"{spec.description}; {effect}" if spec.description else effect
+
+
+def build_site_decision(site, update, setup: DecisionSetup, *, member: str | None = None,
+                        n_draws: int = 3000, n_design: int = 48, seed=None,
+                        progress: Callable[[str], None] | None = None) -> SiteDecision:
+    """Decision problem of one member from the site's updated knowledge.
+
+    Parameters
+    ----------
+    site : inspection_io.site.Site
+    update : SiteUpdate
+        From `update_site` (posterior draws in ``idata``, knowledge in ``before``/``after``).
+    setup : DecisionSetup
+        Costs, horizon, alternatives and programmes (`read_decision_setup`).
+    member : str, optional
+        Member id; default ``setup.member``, else the member with the lowest
+        system beta after updating.
+    n_draws : int
+        Number N of posterior draws in theta (the MCMC draws are thinned) [-].
+    n_design : int
+        FORM design points per alternative for the surrogate [-].
+    seed : int or numpy Generator
+        Seeds the prior draws of quantities without site data.
+    progress : callable, optional
+        Called with a short text after each alternative.
+
+    Raises
+    ------
+    InputError
+        Unknown member or zone.
+    AnalysisError
+        FORM failed at too many design points, or the surrogate is too poor.
+    """
+    notes: list[str] = []
+    member_id = member or setup.member
+    if member_id is None:
+        member_id, _ = weakest_member(site, update)
+        notes.append(f"member {member_id} chosen: lowest system reliability index after "
+                     f"updating")
+    if member_id not in site.members:
+        raise InputError(f"member {member_id!r} is not in the site; members are "
+                         f"{', '.join(site.members)}",
+                         file=None if member else setup.path,
+                         column="--member" if member else "member")
+    zone = site.members[member_id].zone
+    zones = [zone]
+    for index, spec in enumerate(setup.programmes):
+        if spec.zone is not None and spec.zone not in site.zones:
+            raise InputError(f"programme '{spec.name}': zone {spec.zone!r} is not in the site; "
+                             f"zones are {', '.join(site.zones)}", file=setup.path,
+                             column=f"programmes[{index}].zone")
+        if spec.zone is not None and spec.zone not in zones:
+            zones.append(spec.zone)
+    theta, names = population_draws(update, zones, n_draws=n_draws, seed=seed)
+    member_columns = zone_columns(zone)
+    member_theta = theta[:, :len(member_columns)]
+
+    annual_target = target_beta(site.target.consequence_class, 1.0, site.target.cost_of_safety)
+    horizon_target = float(convert_reference_period(annual_target.beta, 1.0,
+                                                    setup.horizon_years))
+    member_model = build_member_model(site, site.members[member_id], update.after[zone],
+                                      reference_period_years=1.0)
+    notes.extend(member_model.notes)
+    reliability = ConditionalReliability(member_model, update.before[zone]["area_ratio"])
+
+    center = member_theta.mean(axis=0)
+    scale = member_theta.std(axis=0)
+    scale[scale < 1e-12 * np.maximum(1.0, np.abs(center))] = 0.0
+    standardised = (member_theta - center) / np.where(scale > 0, scale, 1.0)
+    design = farthest_point_design(standardised, n_design)
+
+    alternatives, annual_pf, annual_beta, surrogates = [], [], {}, {}
+    for spec in setup.alternatives:
+        name = ALTERNATIVE_NAMES[spec.kind]
+        alternatives.append(Alternative(name, _alternative_cost(spec, setup),
+                                        _alternative_description(spec)))
+        if spec.kind == "replace":
+            pf = np.full(theta.shape[0], annual_target.pf)
+            surrogates[name] = {}
+        else:
+            betas, converged = reliability.betas(member_theta[design], spec)
+            ok = converged.all(axis=1)
+            if ok.mean() < 0.8:
+                raise AnalysisError(f"FORM did not converge at {int((~ok).sum())} of "
+                                    f"{ok.size} design points of '{name}' for member "
+                                    f"{member_id}; the surrogate cannot be built")
+            if not ok.all():
+                notes.append(f"'{name}': FORM did not converge at {int((~ok).sum())} design "
+                             f"point(s); they were left out of the surrogate")
+            surrogates[name] = {}
+            pf = np.zeros(theta.shape[0])
+            for j, mode in enumerate(reliability.modes):
+                surrogate = QuadraticSurrogate.fit(member_theta[design][ok], betas[ok, j],
+                                                   center, scale)
+                surrogates[name][mode] = surrogate
+                relevant = betas[ok, j].min() < NEGLIGIBLE_BETA
+                if relevant and surrogate.loo_rmse_ > SURROGATE_FAILURE_RMSE:
+                    raise AnalysisError(
+                        f"the beta surrogate of '{name}', mode {mode}, member {member_id} is "
+                        f"too poor (leave-one-out error {surrogate.loo_rmse_:.2f} in beta); "
+                        f"use more design points")
+                if relevant and surrogate.loo_rmse_ > SURROGATE_WARNING_RMSE:
+                    message = (f"the beta surrogate of '{name}', mode {mode} has a "
+                               f"leave-one-out error of {surrogate.loo_rmse_:.2f} in beta; "
+                               f"values of information are approximate")
+                    warnings.warn(message, stacklevel=2)
+                    notes.append(message)
+                pf += special.ndtr(-surrogate.predict(member_theta))
+            pf = np.clip(pf, 0.0, 1.0)
+        annual_beta[name] = stats.norm.isf(pf)
+        annual_pf.append(pf)
+        if progress:
+            progress(name)
+    pf = np.column_stack(annual_pf)
+    years = np.arange(setup.horizon_years)
+    increments = pf[:, :, None] * (1.0 - pf[:, :, None]) ** years[None, None, :]
+
+    programmes = [make_programme(spec, spec.zone or zone, names) for spec in setup.programmes]
+    if any(spec.kind == "half-cell" for spec in setup.programmes):
+        notes.append("half-cell survey: P(active corrosion) is taken as the probability that "
+                     "the residual bar area ratio is below the programme's active_below "
+                     "(default 0.98); corrosion that has not yet removed section is not "
+                     "counted, and the grid points are taken as independent")
+    notes.append(f"years are taken as independent given the material populations: horizon "
+                 f"pf = 1 - (1 - annual pf)^{setup.horizon_years}; the annual target "
+                 f"{annual_target.beta:g} becomes {horizon_target:.2f} over the horizon")
+    problem = DecisionProblem(alternatives=alternatives, failure_cost=setup.failure_cost,
+                              theta=theta, parameter_names=names, annual_pf=increments,
+                              discount_rate=setup.discount_rate, keep=ALTERNATIVE_NAMES["keep"],
+                              currency=setup.currency)
+    return SiteDecision(member=member_id, zone=zone, problem=problem, programmes=programmes,
+                        target=annual_target, horizon_target_beta=horizon_target,
+                        horizon_years=setup.horizon_years, annual_beta=annual_beta,
+                        surrogates=surrogates, design_index=design, reliability=reliability,
+                        member_columns=member_columns, form_calls=reliability.n_calls,
+                        notes=notes)
+
+
+__all__ = ["ConditionalReliability", "CoverSurvey", "PHYSICAL", "QuadraticSurrogate",
+           "SiteDecision", "active_probability_from_area_ratio", "add_fixed_quantity",
+           "build_site_decision", "farthest_point_design", "make_programme", "parameter_name",
+           "population_draws", "system_beta_after", "weakest_member", "zone_columns"]
