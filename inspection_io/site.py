@@ -31,6 +31,10 @@ EXPOSURES = ("exposed deck", "sheltered soffit", "internal")
 MEMBER_KINDS = ("one-way slab", "beam", "flat-slab column connection")
 TENSION_FACES = ("bottom", "top")
 COLUMN_POSITIONS = ("interior", "edge", "corner")
+#: Kinds of car-park use with their own occupancy parameters; the same names as the keys of
+#: ``assess.priors.actions.CAR_PARK_VEHICLES["use"]`` (JCSS PMC car-park model), kept here
+#: because this package knows nothing about reliability (a test checks they agree).
+CAR_PARK_USES = ("commercial", "rail or airport", "offices or factories", "residential")
 
 _CONCRETE_CLASS = re.compile(r"^C(\d{1,3})(?:/(\d{1,3}))?$")
 _STEEL_GRADE = re.compile(r"^[A-Za-z]{1,3}(\d{3})[A-Za-z]?$")
@@ -173,6 +177,30 @@ class Member:
 
 
 @dataclass(frozen=True)
+class Priors:
+    """The optional ``[priors]`` table: the engineer's own knowledge in place of design priors.
+
+    Every field is None when not given; then the published design-stage prior is used.
+    Values must be mean values (in-situ means from records), not characteristic values.
+    """
+
+    concrete_mean: float | None = None
+    """Mean in-situ compressive strength f_c [MPa] (given with `concrete_cov`)."""
+    concrete_cov: float | None = None
+    """Coefficient of variation of f_c [-] (given with `concrete_mean`)."""
+    steel_mean: float | None = None
+    """Mean yield strength of the reinforcement f_y [MPa] (given with `steel_std`)."""
+    steel_std: float | None = None
+    """Standard deviation of f_y [MPa] (given with `steel_mean`)."""
+    cover_mean: float | None = None
+    """Mean cover to the main bars [mm], all zones (given with `cover_std`)."""
+    cover_std: float | None = None
+    """Standard deviation of the cover [mm] (given with `cover_mean`)."""
+    imposed_use: str | None = None
+    """Kind of car-park use for the vehicle-load model, one of `CAR_PARK_USES`."""
+
+
+@dataclass(frozen=True)
 class Site:
     """A checked site file."""
 
@@ -186,6 +214,8 @@ class Site:
     """Zones by id, in file order (read-only mapping)."""
     members: Mapping[str, Member]
     """Members by id, in file order (read-only mapping)."""
+    priors: Priors = Priors()
+    """The optional ``[priors]`` table (all fields None when absent)."""
 
     @property
     def folder(self) -> Path:
@@ -410,6 +440,33 @@ def _loads(s: _Schema, table: dict) -> Loads:
     )
 
 
+#: [priors] keys come in pairs (central value, spread); each entry is (key, low, high, unit)
+#: with the accepted range (low, high].
+_PRIOR_PAIRS = (
+    (("concrete_mean", 5.0, 150.0, "MPa"), ("concrete_cov", 0.0, 0.5, "-")),
+    (("steel_mean", 150.0, 1000.0, "MPa"), ("steel_std", 0.0, 150.0, "MPa")),
+    (("cover_mean", 0.0, 200.0, "mm"), ("cover_std", 0.0, 50.0, "mm")),
+)
+
+
+def _priors(s: _Schema, table: dict) -> Priors:
+    numeric = tuple(spec[0] for pair in _PRIOR_PAIRS for spec in pair)
+    s.keys(table, "priors", (), numeric + ("imposed_use",))
+    values: dict[str, Any] = {}
+    for (mean_key, *mean_range), (spread_key, *spread_range) in _PRIOR_PAIRS:
+        given = [key in table for key in (mean_key, spread_key)]
+        if any(given) and not all(given):
+            present, absent = (mean_key, spread_key) if given[0] else (spread_key, mean_key)
+            raise s.error(f"priors.{absent}", f"'{present}' is given without '{absent}'; give "
+                                              "both or neither")
+        for key, (low, high, unit) in ((mean_key, mean_range), (spread_key, spread_range)):
+            if key in table:
+                values[key] = s.number(table[key], f"priors.{key}", low, high, unit)
+    if "imposed_use" in table:
+        values["imposed_use"] = s.text(table["imposed_use"], "priors.imposed_use", CAR_PARK_USES)
+    return Priors(**values)
+
+
 def _check_id(s: _Schema, key: str, path: str) -> str:
     if not key.strip() or key != key.strip():
         raise s.error(path, f"an id must be non-empty text without surrounding spaces, "
@@ -556,7 +613,7 @@ def load_site(path: str | Path) -> Site:
     -------
     Site
         Frozen dataclasses for ``[site]``, ``[target]``, ``[materials]``, ``[loads]``,
-        ``[zones.*]`` and ``[members.*]``.
+        ``[zones.*]``, ``[members.*]`` and the optional ``[priors]``.
 
     Raises
     ------
@@ -570,7 +627,7 @@ def load_site(path: str | Path) -> Site:
         path = path / "site.toml"
     data = _read_toml(path)
     s = _Schema(path)
-    s.keys(data, "", ("site", "target", "materials", "loads", "zones"), ("members",))
+    s.keys(data, "", ("site", "target", "materials", "loads", "zones"), ("members", "priors"))
     sections = {name: s.table(data[name], name) for name in data}
     zones = _zones(s, sections["zones"])
     members = {}
@@ -584,6 +641,7 @@ def load_site(path: str | Path) -> Site:
         loads=_loads(s, sections["loads"]),
         zones=MappingProxyType(zones),
         members=MappingProxyType(members),
+        priors=_priors(s, sections["priors"]) if "priors" in sections else Priors(),
     )
 
 
@@ -613,5 +671,6 @@ def load_campaign(path: str | Path) -> CampaignInfo:
     )
 
 
-__all__ = ["Site", "SiteInfo", "Target", "Materials", "Loads", "Zone", "Member", "CampaignInfo",
-           "load_site", "load_campaign", "MEMBER_KINDS", "EXPOSURES"]
+__all__ = ["Site", "SiteInfo", "Target", "Materials", "Loads", "Zone", "Member", "Priors",
+           "CampaignInfo", "load_site", "load_campaign", "MEMBER_KINDS", "EXPOSURES",
+           "CAR_PARK_USES"]

@@ -111,11 +111,12 @@ def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = 20
     period = float(site.target.reference_period)
     target = target_beta(site.target.consequence_class, period, site.target.cost_of_safety)
     chosen = list(members) if members is not None else list(site.members)
+    use = getattr(getattr(site, "priors", None), "imposed_use", None) or "commercial"
     results, notes = [], []
     for member_id in chosen:
         member = site.members[member_id]
         models = {state: build_member_model(site, member, knowledge[member.zone],
-                                            reference_period_years=period)
+                                            reference_period_years=period, car_park_use=use)
                   for state, knowledge in (("before", update.before), ("after", update.after))}
         notes.extend(n for n in models["after"].notes if n not in notes)
         modes = list(models["after"].modes)

@@ -16,10 +16,12 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import warnings
 
 import numpy as np
 
-from assess.priors import bar_area_prior, concrete_prior, cover_prior, steel_yield_prior
+from assess.priors import (CHARACTERISTIC_VALUES, bar_area_prior, concrete_prior, cover_prior,
+                           looks_characteristic, steel_yield_prior)
 from assess.updating.normal_gamma import NormalGamma
 
 
@@ -70,6 +72,46 @@ def weak_normal_gamma(mean: float, predictive_std: float, n: float, nu: float,
     return NormalGamma.from_jcss(mean, n, s, nu, source=source)
 
 
+OVERRIDE_SOURCE = "site file [priors] override"
+
+#: Prior weight of an overridden concrete prior: the equivalent sample size n' and
+#: degrees of freedom nu' of the JCSS PMC Part 3.1 table for ready-mixed concrete.
+CONCRETE_OVERRIDE_N, CONCRETE_OVERRIDE_NU = 3.0, 10.0
+
+#: Prior weight of the steel yield prior: the mill-to-mill standard deviation (19 MPa,
+#: JCSS PMC Part 3.2) is the uncertainty of the job mean, so
+#: n' = (sigma_within / 19)^2 with sigma_within = sqrt(22^2 + 8^2) MPa; nu' = 50.
+STEEL_N, STEEL_NU = (math.hypot(22.0, 8.0) / 19.0) ** 2, 50.0
+
+#: Prior weight of the cover prior (engineering judgement, see `design_knowledge`).
+COVER_N, COVER_NU = 2.0, 20.0
+
+
+def concrete_override(mean: float, cov: float) -> NormalGamma:
+    """Normal-gamma prior of ln f_c from a mean [MPa] and CoV [-] given in the site file.
+
+    Same prior weight as the JCSS PMC Part 3.1 table (n' = 3, nu' = 10), with
+    s' = sqrt(ln(1 + CoV^2)) and m' = ln(mean) - s'^2 / 2, so that the lognormal
+    with parameters (m', s') has the given mean and CoV.
+    """
+    s = math.sqrt(math.log1p(cov * cov))
+    return NormalGamma.from_jcss(math.log(mean) - 0.5 * s * s, CONCRETE_OVERRIDE_N, s,
+                                 CONCRETE_OVERRIDE_NU,
+                                 source=f"{OVERRIDE_SOURCE}: concrete_mean {mean:g} MPa, "
+                                        f"concrete_cov {cov:g}; n' = 3, nu' = 10 as JCSS PMC "
+                                        "Part 3.1")
+
+
+def _warn_if_characteristic(value: float, kind: str, key: str) -> None:
+    if looks_characteristic(value, kind):
+        warnings.warn(
+            f"site file [priors] {key} = {value:g} MPa equals a characteristic value "
+            f"({CHARACTERISTIC_VALUES[kind][1]}); reliability needs mean values (design "
+            "decision 6). Give the mean in-situ value from tests or records, or remove the key "
+            "to use the published prior of the specified class or grade.",
+            UserWarning, stacklevel=3)
+
+
 def _member_kind_for_cover(kind: str) -> str:
     return "beam" if kind == "beam" else "slab"
 
@@ -91,26 +133,50 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
       cover is well described by JCSS, its mean is not);
     - area_ratio: JCSS PMC Part 3.2 bar area, mean 1 (no section loss known at
       design), CoV 0.02, with a weak mean (n' = 0.5) so measured loss governs.
+
+    Overrides: the site file's optional ``[priors]`` table (`inspection_io.site.Priors`)
+    replaces the concrete prior (`concrete_override`), the steel prior (same n', nu'
+    with the given mean and standard deviation [MPa]) and the cover prior of every
+    zone (same n', nu' with the given mean and standard deviation [mm]); their source
+    names the "site file [priors] override". A ``concrete_mean`` or ``steel_mean``
+    equal to a characteristic class or grade value warns (`UserWarning`): reliability
+    needs mean values (design decision 6).
     """
-    concrete = NormalGamma.from_prior(concrete_prior(site.materials.concrete_class,
-                                                     site.materials.production))
-    steel_model = steel_yield_prior(site.materials.steel_grade)
-    sigma_within = math.hypot(22.0, 8.0)
-    steel = weak_normal_gamma(steel_model.mean, steel_model.std, (sigma_within / 19.0) ** 2, 50.0,
-                              source=steel_model.source + "; mill-to-mill 19 MPa as uncertainty "
-                                     "of the job mean")
+    overrides = getattr(site, "priors", None)
+    if overrides is not None and overrides.concrete_mean is not None:
+        _warn_if_characteristic(overrides.concrete_mean, "concrete_strength", "concrete_mean")
+        concrete = concrete_override(overrides.concrete_mean, overrides.concrete_cov)
+    else:
+        concrete = NormalGamma.from_prior(concrete_prior(site.materials.concrete_class,
+                                                         site.materials.production))
+    if overrides is not None and overrides.steel_mean is not None:
+        _warn_if_characteristic(overrides.steel_mean, "steel_yield", "steel_mean")
+        steel = weak_normal_gamma(overrides.steel_mean, overrides.steel_std, STEEL_N, STEEL_NU,
+                                  source=f"{OVERRIDE_SOURCE}: steel_mean {overrides.steel_mean:g} "
+                                         f"MPa, steel_std {overrides.steel_std:g} MPa; prior "
+                                         "weight as JCSS PMC Part 3.2")
+    else:
+        steel_model = steel_yield_prior(site.materials.steel_grade)
+        steel = weak_normal_gamma(steel_model.mean, steel_model.std, STEEL_N, STEEL_NU,
+                                  source=steel_model.source + "; mill-to-mill 19 MPa as "
+                                         "uncertainty of the job mean")
     area = bar_area_prior()
     area_ratio = weak_normal_gamma(area.mean, area.std, 0.5, 10.0, source=area.source)
     knowledge = {}
     for zone_id in site.zones:
         members = [m for m in site.members.values() if m.zone == zone_id]
-        if members:
+        if overrides is not None and overrides.cover_mean is not None:
+            cover = weak_normal_gamma(overrides.cover_mean, overrides.cover_std, COVER_N, COVER_NU,
+                                      source=f"{OVERRIDE_SOURCE}: cover_mean "
+                                             f"{overrides.cover_mean:g} mm, cover_std "
+                                             f"{overrides.cover_std:g} mm")
+        elif members:
             covers = [cover_prior(m.cover, _member_kind_for_cover(m.kind), m.tension_face)
                       for m in members]
             mean = float(np.mean([c.mean for c in covers]))
             std = float(np.sqrt(np.mean([c.std ** 2 for c in covers])
                                 + np.var([c.mean for c in covers])))
-            cover = weak_normal_gamma(mean, std, 2.0, 20.0, source=covers[0].source)
+            cover = weak_normal_gamma(mean, std, COVER_N, COVER_NU, source=covers[0].source)
         else:
             cover = weak_normal_gamma(30.0, 10.0, 2.0, 6.0, source="no members in zone")
         knowledge[zone_id] = {"concrete": concrete, "steel": steel, "cover": cover,
