@@ -13,7 +13,6 @@ import subprocess
 
 import numpy as np
 import pytest
-from scipy import stats
 
 from assess.main_job import JobSettings, run_site
 from inspection_io.ledger import Ledger

@@ -12,7 +12,6 @@ from __future__ import annotations
 
 import contextlib
 import functools
-import sys
 import warnings
 
 import typer
@@ -101,3 +100,42 @@ def guard(func):
 def print_caution():
     """Print the standing caution to stderr (results stay clean on stdout)."""
     err_console.print(f"[dim]{CAUTION}[/]", highlight=False, soft_wrap=True)
+
+
+def _json_ready(value):
+    """Plain JSON values: dataclasses and arrays converted, inf and NaN as null."""
+    import dataclasses
+    import datetime as dt
+    import math
+    from pathlib import Path
+
+    import numpy as np
+
+    if isinstance(value, dict):
+        return {str(k): _json_ready(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_json_ready(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [_json_ready(v) for v in value.tolist()]
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        return float(value) if math.isfinite(value) else None
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        return _json_ready(dataclasses.asdict(value))
+    if hasattr(value, "to_dict"):
+        return _json_ready(value.to_dict())
+    if isinstance(value, (dt.date, Path)):
+        return str(value)
+    if value is None or isinstance(value, str):
+        return value
+    return str(value)
+
+
+def emit_json(payload) -> None:
+    """Print ``payload`` as strict JSON on stdout (inf and NaN become null)."""
+    import json
+
+    typer.echo(json.dumps(_json_ready(payload), indent=2, ensure_ascii=False, allow_nan=False))

@@ -2,15 +2,13 @@
 
 from __future__ import annotations
 
-import json
 import math
-from pathlib import Path
 from typing import Annotated
 
 import typer
 from rich.table import Table
 
-from assess.cli.app import app, err_console, guard, out_console, print_caution
+from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.members import (DrawsOption, JsonFlag, QuickFlag, SeedOption, SiteFolder,
                                 load_checked_site)
 
@@ -48,12 +46,11 @@ def history_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: Draw
         fig = plot_beta_history([h.date for h in history], series, target.beta)
         plot_path = save_figure(fig, site.folder / "results" / "plots", "beta-history")
     if json_output:
-        typer.echo(json.dumps({"campaigns": [{"campaign": h.campaign, "date": h.date.isoformat(),
+        emit_json({"campaigns": [{"campaign": h.campaign, "date": h.date.isoformat(),
                                               "data_until": h.data_until.isoformat(),
                                               "counts": h.counts} for h in history],
                                "rows": [row for h in history for row in h.rows()],
-                               "target": target.beta, "plot": str(plot_path) if plot_path else None},
-                              indent=2, default=str))
+                               "target": target.beta, "plot": str(plot_path) if plot_path else None})
         return
     table = Table(title=f"Beta after updating per campaign (member system, "
                         f"{target.reference_period_years:g}-year), target {target.beta:.1f}")

@@ -2,15 +2,14 @@
 
 from __future__ import annotations
 
-import json
 import math
 from typing import Annotated, Optional
 
 import typer
 from rich.table import Table
 
-from assess.cli.app import app, err_console, guard, out_console, print_caution
-from assess.cli.members import (JsonFlag, SeedOption, SiteFolder, _json_default, _fmt_beta,
+from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
+from assess.cli.members import (JsonFlag, SeedOption, SiteFolder, _fmt_beta,
                                 load_checked_site, run_update)
 from assess.errors import InputError
 from assess.life.site_summary import QUICK_SAMPLES
@@ -83,7 +82,7 @@ def life_command(
     if json_output:
         payload = life.to_dict()
         payload["plots"] = [str(p) for p in figure_paths]
-        typer.echo(json.dumps(payload, indent=2, default=_json_default))
+        emit_json(payload)
         return
     table = Table(title=f"Remaining life: annual beta(t) against the annual target "
                         f"{target.beta:.1f}, horizon {horizon:g} years")

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import dataclasses
-import json
 import math
 from pathlib import Path
 from typing import Annotated, Optional
@@ -11,7 +10,7 @@ from typing import Annotated, Optional
 import typer
 from rich.table import Table
 
-from assess.cli.app import app, err_console, guard, out_console, print_caution
+from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.errors import InputError
 
 SiteFolder = Annotated[Path, typer.Argument(help="The site folder (holding site.toml).")]
@@ -81,9 +80,9 @@ def update_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: Draws
                          "posterior_mean": float(post.mean()), "posterior_std": float(post.std())})
     gate = update.gate.to_dict() if update.gate else None
     if json_output:
-        typer.echo(json.dumps({"zones": rows, "gate": gate, "hash": update.data_hash,
+        emit_json({"zones": rows, "gate": gate, "hash": update.data_hash,
                                "posterior": str(update.posterior_path) if update.posterior_path
-                               else None, "reused": update.reused}, indent=2, default=str))
+                               else None, "reused": update.reused})
         return
     table = Table(title="Zone knowledge: design prior -> after site tests (predictive mean / std)")
     for col in ("zone", "quantity", "unit", "tests", "prior", "posterior"):
@@ -159,7 +158,7 @@ def members_command(
     payload["posterior"] = {"hash": update.data_hash, "reused": update.reused,
                             "gate": update.gate.to_dict() if update.gate else None}
     if json_output:
-        typer.echo(json.dumps(payload, indent=2, default=_json_default))
+        emit_json(payload)
         return
     target = assessment.target
     table = Table(title=f"Reliability index beta per member ({target.reference_period_years:g}-year "

@@ -2,14 +2,12 @@
 
 from __future__ import annotations
 
-import json
-from pathlib import Path
 from typing import Annotated
 
 import typer
 from rich.table import Table
 
-from assess.cli.app import app, err_console, guard, out_console, print_caution
+from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.members import (DrawsOption, JsonFlag, QuickFlag, SeedOption, SiteFolder,
                                 _fmt_beta, load_checked_site)
 
@@ -48,9 +46,8 @@ def run_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: DrawsOpt
         if current["task"] is not None:
             progress.update(current["task"], completed=1, total=1)
     if json_output:
-        typer.echo(json.dumps({"report": str(html_path), "numbers": str(json_path),
-                               "results": [r.to_dict() for r in run.assessment.results]},
-                              indent=2, default=str))
+        emit_json({"report": str(html_path), "numbers": str(json_path),
+                               "results": [r.to_dict() for r in run.assessment.results]})
         return
     target = run.assessment.target
     table = Table(title=f"Member systems: beta after updating against the target {target.beta:.1f}")

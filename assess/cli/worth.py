@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 import math
 from pathlib import Path
 from typing import Annotated, Optional
@@ -10,7 +9,7 @@ from typing import Annotated, Optional
 import typer
 from rich.table import Table
 
-from assess.cli.app import app, err_console, guard, out_console
+from assess.cli.app import app, emit_json, err_console, guard, out_console
 from assess.cli.members import (DrawsOption, JsonFlag, QuickFlag, SeedOption, SiteFolder,
                                 load_checked_site, run_update)
 from assess.errors import InputError
@@ -96,7 +95,7 @@ def worth_command(
     payload["plot"] = str(plot_path) if plot_path else None
     payload["posterior"] = {"hash": update.data_hash, "reused": update.reused}
     if json_output:
-        typer.echo(json.dumps(payload, indent=2, default=str))
+        emit_json(payload)
         return
 
     money = lambda value: _money(problem.currency, value)  # noqa: E731

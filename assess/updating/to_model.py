@@ -21,7 +21,6 @@ Annex A), so the far tail that decides a pf of 1e-5 comes from a formula.
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
 
 from assess.distributions import make_distribution
 from assess.model import ProbabilisticModel
