@@ -20,7 +20,7 @@ import warnings
 from typing import Callable, Sequence
 
 import numpy as np
-from scipy import special, stats
+from scipy import stats
 
 from assess.cautions import CAUTION
 from assess.errors import AnalysisError, InputError
