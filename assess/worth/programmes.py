@@ -155,8 +155,42 @@ def _mean_and_total_sd(programme, theta):
     return mean, total_sd
 
 
+class NormalSampleProgramme(Programme):
+    """n readings of a normal population with a measurement error (shared behaviour).
+
+    Reading i: y_i = mu + sigma eps_i + e_i, eps_i ~ N(0, 1), e_i ~ N(0,
+    measurement_sd^2). Outcome: (sample mean, sum of squared deviations).
+    Subclasses are dataclasses with ``mean_column``, ``sd_column``,
+    ``measurement_sd`` and a count field named by ``COUNT_FIELD``.
+    """
+
+    COUNT_FIELD = "count"
+
+    @property
+    def sample_size(self) -> int:
+        return getattr(self, self.COUNT_FIELD)
+
+    def __post_init__(self):
+        _check_cost(self.name, self.cost)
+        _check_count(self.name, self.COUNT_FIELD, self.sample_size)
+        _check_sd(self.name, "measurement_sd", self.measurement_sd)
+
+    def resolve(self, parameter_names):
+        return _resolve_normal_sample(self, parameter_names)
+
+    def simulate(self, theta, rng):
+        mean, total_sd = _mean_and_total_sd(self, theta)
+        return _normal_sample_simulate(mean, total_sd, self.sample_size, rng)
+
+    def log_likelihood(self, outcomes, theta):
+        z, single = _as_outcomes(outcomes, 2)
+        mean, total_sd = _mean_and_total_sd(self, theta)
+        out = _normal_sample_log_likelihood(z, mean, total_sd, self.sample_size)
+        return out[0] if single else out
+
+
 @dataclasses.dataclass(frozen=True)
-class CoreSampling(Programme):
+class CoreSampling(NormalSampleProgramme):
     """Drill n cores in one zone and measure their compressive strength.
 
     Model per core i (JCSS PMC Part 3.1 form of the in-situ strength, on logs):
@@ -188,30 +222,14 @@ class CoreSampling(Programme):
     measurement_sd: float = 0.0
     description: str = ""
 
-    def __post_init__(self):
-        _check_cost(self.name, self.cost)
-        _check_count(self.name, "n_cores", self.n_cores)
-        _check_sd(self.name, "measurement_sd", self.measurement_sd)
+    COUNT_FIELD = "n_cores"
 
     def default_description(self) -> str:
         return f"drilling {self.n_cores} cores ('{self.name}')"
 
-    def resolve(self, parameter_names):
-        return _resolve_normal_sample(self, parameter_names)
-
-    def simulate(self, theta, rng):
-        mean, total_sd = _mean_and_total_sd(self, theta)
-        return _normal_sample_simulate(mean, total_sd, self.n_cores, rng)
-
-    def log_likelihood(self, outcomes, theta):
-        z, single = _as_outcomes(outcomes, 2)
-        mean, total_sd = _mean_and_total_sd(self, theta)
-        out = _normal_sample_log_likelihood(z, mean, total_sd, self.n_cores)
-        return out[0] if single else out
-
 
 @dataclasses.dataclass(frozen=True)
-class BreakoutSurvey(Programme):
+class BreakoutSurvey(NormalSampleProgramme):
     """Open m break-outs and measure the residual bar area ratio at each.
 
     Model per break-out i: r_i = mu_r + sigma_r eps_i + e_i, eps_i ~ N(0, 1),
@@ -244,26 +262,10 @@ class BreakoutSurvey(Programme):
     measurement_sd: float = 0.0
     description: str = ""
 
-    def __post_init__(self):
-        _check_cost(self.name, self.cost)
-        _check_count(self.name, "n_breakouts", self.n_breakouts)
-        _check_sd(self.name, "measurement_sd", self.measurement_sd)
+    COUNT_FIELD = "n_breakouts"
 
     def default_description(self) -> str:
         return f"opening {self.n_breakouts} break-outs ('{self.name}')"
-
-    def resolve(self, parameter_names):
-        return _resolve_normal_sample(self, parameter_names)
-
-    def simulate(self, theta, rng):
-        mean, total_sd = _mean_and_total_sd(self, theta)
-        return _normal_sample_simulate(mean, total_sd, self.n_breakouts, rng)
-
-    def log_likelihood(self, outcomes, theta):
-        z, single = _as_outcomes(outcomes, 2)
-        mean, total_sd = _mean_and_total_sd(self, theta)
-        out = _normal_sample_log_likelihood(z, mean, total_sd, self.n_breakouts)
-        return out[0] if single else out
 
 
 @dataclasses.dataclass(frozen=True)

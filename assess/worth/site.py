@@ -69,8 +69,8 @@ from assess.updating.normal_gamma import NormalGamma
 from assess.updating.to_model import add_uncertain_quantity
 from assess.worth.decision import Alternative, DecisionProblem, discount_factors
 from assess.worth.decision_file import AlternativeSpec, DecisionSetup, ProgrammeSpec
-from assess.worth.programmes import (BreakoutSurvey, CoreSampling, HalfCellSurvey, Programme,
-                                     _check_cost, _check_count, _check_sd)
+from assess.worth.programmes import (BreakoutSurvey, CoreSampling, HalfCellSurvey,
+                                     NormalSampleProgramme, Programme)
 
 #: Physical variable of each population in the member models and its distribution given theta.
 PHYSICAL = {"concrete": ("fc", "lognormal"), "steel": ("fy", "normal"),
@@ -361,7 +361,7 @@ def weakest_member(site, update) -> tuple[str, dict]:
 
 
 @dataclasses.dataclass(frozen=True)
-class CoverSurvey(Programme):
+class CoverSurvey(NormalSampleProgramme):
     """Cover-meter survey: n readings of cover in one zone.
 
     Reading i: c_i = mu_c + sigma_c eps_i + e_i, eps_i ~ N(0, 1), e_i ~ N(0,
@@ -378,28 +378,10 @@ class CoverSurvey(Programme):
     measurement_sd: float = 0.0
     description: str = ""
 
-    def __post_init__(self):
-        _check_cost(self.name, self.cost)
-        _check_count(self.name, "n_readings", self.n_readings)
-        _check_sd(self.name, "measurement_sd", self.measurement_sd)
-
-    def _sample(self) -> CoreSampling:
-        return CoreSampling(self.name, self.cost, self.n_readings, self.mean_column,
-                            self.sd_column, self.measurement_sd, self.description)
+    COUNT_FIELD = "n_readings"
 
     def default_description(self) -> str:
         return f"a cover survey of {self.n_readings} readings ('{self.name}')"
-
-    def resolve(self, parameter_names):
-        inner = self._sample().resolve(parameter_names)
-        return dataclasses.replace(self, mean_column=inner.mean_column,
-                                   sd_column=inner.sd_column)
-
-    def simulate(self, theta, rng):
-        return self._sample().simulate(theta, rng)
-
-    def log_likelihood(self, outcomes, theta):
-        return self._sample().log_likelihood(outcomes, theta)
 
 
 def active_probability_from_area_ratio(mean_column: int, sd_column: int,
