@@ -126,3 +126,41 @@ def test_half_cell_likelihood_is_binomial():
     simulated = survey.simulate(np.full((20_000, 1), 0.5), np.random.default_rng(0))
     # binomial mean k q = 20 * 0.45 = 9, sd of the mean sqrt(20 * 0.45 * 0.55 / 20000)
     assert abs(simulated.mean() - 9.0) <= 3.0 * math.sqrt(20 * 0.45 * 0.55 / 20_000)
+
+
+def test_reweighted_update_agrees_with_a_full_mcmc_update():
+    """The fast update of the preposterior loop against PyMC on the same simulated cores.
+
+    Two sampled outcomes of 4 cores; the full update is NUTS on the normal-gamma
+    model (assess.updating.models, pooling "none", 4 chains). Both estimate the
+    same posterior mean of mu and the same E[pf | data]; the tolerance is 3
+    combined Monte Carlo standard errors (reweighting: weighted sd / sqrt(ESS);
+    MCMC: sd / sqrt(bulk ESS)).
+    """
+    from assess.updating.gate import require_convergence
+    from assess.updating.models import group_draws, hierarchical_normal_model, sample_posterior
+    from assess.updating.normal_gamma import NormalGamma
+
+    prior = NormalGamma.from_jcss(M0, N0, S0, NU0)
+    theta = _prior_draws(40_000, seed=8)
+    n_cores = 4
+    programme = CoreSampling("cores", 0.0, n_cores, mean_column=0, sd_column=1)
+    rng = np.random.default_rng(23)
+    for j in range(2):
+        truth = theta[rng.integers(0, theta.shape[0], 1)]
+        readings = truth[0, 0] + truth[0, 1] * rng.standard_normal(n_cores)
+        outcome = summarise_readings(readings)
+        weights, ess = posterior_weights(programme.log_likelihood(outcome[None, :], theta))
+        w, ess = weights[0], float(ess[0])
+        pf_given_theta = stats.norm.cdf((LN_LIMIT - theta[:, 0]) / theta[:, 1])
+
+        model = hierarchical_normal_model(readings, np.zeros(n_cores, int), ["zone"], prior,
+                                          pooling="none")
+        idata = sample_posterior(model, seed=100 + j, draws=1000, tune=1000)
+        report = require_convergence(idata, ["mu", "sigma"])
+        mu, sigma = group_draws(idata, "zone")
+        pf_mcmc = stats.norm.cdf((LN_LIMIT - mu) / sigma)
+
+        for fast, full in ((theta[:, 0], mu), (pf_given_theta, pf_mcmc)):
+            se = math.hypot(_weighted_se(fast, w, ess), full.std() / math.sqrt(report.min_ess_bulk))
+            assert abs(w @ fast - full.mean()) <= 3.0 * se
