@@ -28,6 +28,9 @@ def life_command(
                             f"materials, {QUICK_SAMPLES} importance samples.")] = False,
         samples: Annotated[Optional[int], typer.Option(
             "--samples", help="Importance samples shared by all years of a member.")] = None,
+        pitting: Annotated[bool, typer.Option(
+            "--pitting", help="Also take each bar's deepest pit (pitting factor, Gumbel) at "
+                              "the critical section; on the safe side.")] = False,
         plots: Annotated[bool, typer.Option("--plots/--no-plots",
                                             help="Write a PNG of the curves to results/plots/.")] = True,
         json_output: JsonFlag = False):
@@ -63,7 +66,7 @@ def life_command(
     with Progress(console=err_console, transient=True) as progress:
         task = progress.add_task("Corrosion update (MCMC) and remaining life", total=len(chosen))
         life = compute_site_life(site, update, horizon_years=horizon, seed=seed, quick=quick,
-                                 samples=samples, members=chosen,
+                                 samples=samples, members=chosen, pitting=pitting,
                                  progress=lambda _m: progress.advance(task))
     corrosion, curves, main = life.corrosion, life.curves, life.main
     n_samples = samples or (QUICK_SAMPLES if quick else DEFAULT_SAMPLES)
@@ -74,6 +77,7 @@ def life_command(
         figure_paths.append(save_figure(figure, site.folder / "results" / "plots",
                                         "remaining-life"))
     settings = {"horizon_years": horizon, "n_samples": n_samples, "quick": quick,
+                "pitting": pitting,
                 "posterior_hash": update.data_hash, "reference": "annual"}
     with Ledger(site.folder / "ledger.sqlite") as ledger:
         for curve in curves:

@@ -390,17 +390,26 @@ class LifeCurve:
         }
 
 
-def area_factor(initiation_time, corrosion_rate, age_years: float, age_now_years: float,
-                bar_diameter_mm: float):
-    """A(age) / A(age_now) of a bar under uniform Faraday corrosion [-].
+PITTING_NAME = "pitting_factor"
 
-    Exactly 1 at ``age_years == age_now_years``; 0 where the bar is already
-    consumed at ``age_now`` (then nothing is left to lose, and the model's
-    measured state is taken as lost at once - a conservative edge case).
+
+def area_factor(initiation_time, corrosion_rate, age_years: float, age_now_years: float,
+                bar_diameter_mm: float, pitting_factor=None):
+    """A(age) / A(age_now) of a bar under Faraday corrosion [-].
+
+    Uniform corrosion by default. With ``pitting_factor`` R the bar also carries
+    its deepest pit, R times the uniform penetration deep (Val & Melchers 1997
+    pit geometry, `residual_area_ratio` rule "uniform_then_pit"). Exactly 1 at
+    ``age_years == age_now_years``; 0 where the bar is already consumed at
+    ``age_now`` (then nothing is left to lose, and the model's measured state is
+    taken as lost at once - a conservative edge case).
     """
     def ratio(age):
         penetration = penetration_depth(corrosion_rate, time_since_initiation(age, initiation_time))
-        return residual_area_ratio(bar_diameter_mm, penetration, rule="uniform")
+        if pitting_factor is None:
+            return residual_area_ratio(bar_diameter_mm, penetration, rule="uniform")
+        return residual_area_ratio(bar_diameter_mm, penetration, pitting_factor,
+                                   rule="uniform_then_pit")
 
     if age_years == age_now_years:
         return np.ones(np.shape(initiation_time))
@@ -411,17 +420,19 @@ def area_factor(initiation_time, corrosion_rate, age_years: float, age_now_years
 
 
 def deteriorating_limit_state(member_model, bar_diameter_mm: float, age_now_years: float,
-                              mode_names: Sequence[str]):
+                              mode_names: Sequence[str], pitting: bool = False):
     """``limit_state_at(x, t)`` of a member whose bar area corrodes after the assessment.
 
     t is the time since the assessment date [yr]; ``x["area_ratio"]`` is scaled
-    by `area_factor` before the member's mode functions are evaluated.
+    by `area_factor` before the member's mode functions are evaluated. With
+    ``pitting`` the model must carry the variable ``pitting_factor``.
     """
     funcs = [member_model.modes[m] for m in mode_names]
 
     def limit_state_at(x, t):
         factor = area_factor(x[INITIATION_NAME], x[RATE_NAME], age_now_years + float(t),
-                             age_now_years, bar_diameter_mm)
+                             age_now_years, bar_diameter_mm,
+                             x[PITTING_NAME] if pitting else None)
         shifted = dict(x)
         shifted["area_ratio"] = x["area_ratio"] * factor
         return np.column_stack([f(shifted) for f in funcs])
@@ -448,7 +459,8 @@ def _decimal_year(date) -> float:
 def project_member(site, member_id: str, update, *, corrosion: dict | None = None,
                    horizon_years: float = 50.0, step_years: float = 1.0,
                    n_samples: int = DEFAULT_SAMPLES, seed: int = 20261202,
-                   check_years: Sequence[float] = (), check_samples: int = 1000) -> list:
+                   check_years: Sequence[float] = (), check_samples: int = 1000,
+                   pitting: bool = False) -> list:
     """Annual beta(t) and remaining life of every mode and the system of one member.
 
     Parameters
@@ -472,6 +484,11 @@ def project_member(site, member_id: str, update, *, corrosion: dict | None = Non
         subset simulation as a cross-check (stored in ``checks``).
     check_samples : int
         Samples per subset level of the cross-checks [-].
+    pitting : bool, default False
+        Add the deepest pit of each bar at the critical section: pit depth R times
+        the uniform penetration with R ~ Gumbel (Stewart 2004, `assess.deterioration.
+        corrosion.pitting_factor_distribution`). On the safe side: it assumes every
+        bar's deepest pit lies in the critical section.
 
     Returns
     -------
@@ -495,10 +512,18 @@ def project_member(site, member_id: str, update, *, corrosion: dict | None = Non
     member_model = build_member_model(site, member, update.after[member.zone],
                                       reference_period_years=1.0)
     inputs.add_to_model(member_model.model)
+    if pitting:
+        from assess.deterioration.corrosion import pitting_factor_distribution
+        from assess.distributions import make_distribution
+
+        gumbel = pitting_factor_distribution()  # frozen scipy gumbel_r(loc=..., scale=...)
+        location, scale = gumbel.kwds["loc"], gumbel.kwds["scale"]
+        member_model.model.add(PITTING_NAME, make_distribution("gumbel", loc=location,
+                                                               scale=scale, name=PITTING_NAME))
     mode_names = list(member_model.modes)
     age_now = age_at(site, site.site.assessment_date)
     limit_state_at = deteriorating_limit_state(member_model, float(member.bar_diameter), age_now,
-                                               mode_names)
+                                               mode_names, pitting=pitting)
     n_steps = int(round(horizon_years / step_years))
     times = np.arange(n_steps + 1) * float(step_years)
     groups = {name: [j] for j, name in enumerate(mode_names)}
@@ -548,7 +573,7 @@ def project_site(site, update, *, corrosion: dict | None = None, members=None,
                  horizon_years: float = 50.0, step_years: float = 1.0,
                  n_samples: int = DEFAULT_SAMPLES, seed: int = 20261202,
                  check_years: Sequence[float] = (),
-                 progress: Callable[[str], None] | None = None) -> list:
+                 progress: Callable[[str], None] | None = None, pitting: bool = False) -> list:
     """`project_member` for every member (or those given); curves of all modes and systems."""
     from assess.life.corrosion_inputs import zone_corrosion_inputs
 
@@ -563,7 +588,8 @@ def project_site(site, update, *, corrosion: dict | None = None, members=None,
     for member_id in chosen:
         curves.extend(project_member(site, member_id, update, corrosion=corrosion,
                                      horizon_years=horizon_years, step_years=step_years,
-                                     n_samples=n_samples, seed=seed, check_years=check_years))
+                                     n_samples=n_samples, seed=seed, check_years=check_years,
+                                     pitting=pitting))
         if progress:
             progress(member_id)
     return curves

@@ -54,7 +54,7 @@ class SiteLife:
 
 def compute_site_life(site, update, *, horizon_years: float = 50.0, seed: int = 20261202,
                       quick: bool = False, samples: int | None = None, members=None,
-                      progress=None) -> SiteLife:
+                      progress=None, pitting: bool = False) -> SiteLife:
     """Update corrosion (MCMC, gated and cached), then project every member."""
     from assess.life.corrosion_inputs import update_corrosion, zone_corrosion_inputs
     from assess.life.projection import DEFAULT_SAMPLES, governing_curves, project_site
@@ -64,7 +64,7 @@ def compute_site_life(site, update, *, horizon_years: float = 50.0, seed: int = 
     n_samples = samples or (QUICK_SAMPLES if quick else DEFAULT_SAMPLES)
     curves = project_site(site, update, corrosion=corrosion, members=members,
                           horizon_years=horizon_years, n_samples=n_samples, seed=seed,
-                          progress=progress)
+                          progress=progress, pitting=pitting)
     return SiteLife(corrosion, curves, governing_curves(curves), horizon_years)
 
 
