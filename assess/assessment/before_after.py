@@ -82,6 +82,11 @@ class Assessment:
         }
 
 
+def _verdict(beta: float, target) -> str:
+    """`assess.targets.verdict`, with "no result" for an undefined beta (NaN)."""
+    return "no result" if np.isnan(beta) else verdict(beta, target)
+
+
 def _analysis_seed(seed: int, member: str, mode: str) -> int:
     return (int(seed) + zlib.crc32(f"{member}/{mode}".encode())) % (2**32)
 
@@ -135,8 +140,7 @@ def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = 20
                 member=member_id, zone=member.zone, kind=member.kind, mode=label,
                 before=outcome["before"], after=outcome["after"], form_after=form_after,
                 target=target.beta,
-                verdict=verdict(beta_after, target) if np.isfinite(beta_after) or beta_after > 0
-                else "below target"))
+                verdict=_verdict(beta_after, target)))
         if progress:
             progress(member_id)
     return Assessment(results, target, period, notes, method, seed)
