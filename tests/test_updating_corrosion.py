@@ -10,6 +10,10 @@ References
   by quadrature with scipy.stats densities is the outside reference for MCMC.
 - Prior P(active at t) = Phi((ln t - m) / sqrt(s_ti^2 + s^2)): the normal-normal
   convolution, E[Phi((x - U)/s)] for U ~ N(m, s_ti^2).
+- Break-outs opened at quantile q of the spatial scatter: the local initiation time is
+  the q-quantile of the lognormal scatter about the zone median, scipy.stats.lognorm.ppf.
+- Rate prior: median of the exposure-class lognormal, log-sd at least 1.0 (DuraCrete
+  2000 CoV 1.3-1.5 of corrosion rates, from memory): sqrt(ln(1 + CoV^2)) in [0.97, 1.09].
 """
 
 import math
@@ -22,8 +26,10 @@ from assess.deterioration.corrosion import (penetration_depth, residual_area_rat
                                             time_since_initiation)
 from assess.deterioration.defaults import HALF_CELL_LIKELIHOOD
 from assess.errors import InputError
-from assess.updating.corrosion import (SPATIAL_LOG_SD, CorrosionFit, HalfCellData,
-                                       SectionLossData, ZoneCorrosionPrior, corrosion_model,
+from assess.updating.corrosion import (BREAKOUT_QUANTILE, RATE_LOG_SD_MIN, SPATIAL_LOG_SD,
+                                       CorrosionFit, CorrosionModelSettings, HalfCellData,
+                                       SectionLossData, ZoneCorrosionPrior,
+                                       breakout_initiation_factor, corrosion_model,
                                        fit_corrosion, residual_area_ratio_tensor)
 from assess.updating.gate import require_convergence
 
@@ -38,14 +44,21 @@ SURVEY_AGE = 20.0  # [yr]
 BAR_DIAMETER = 12.0  # [mm]
 
 
+def breakout_initiation(zone_median, quantile=BREAKOUT_QUANTILE, s=SPATIAL_LOG_SD):
+    """Local initiation time at a break-out: the q-quantile of LN(ln t_i, s) (scipy)."""
+    return stats.lognorm(s=s, scale=zone_median).ppf(quantile)
+
+
 def synthetic_section_loss(seed=11):
     """Synthetic test input, not a reference: A/A0 of five bars at each of two campaigns
     (25 and 40 yr) generated INSIDE the test from the uniform Faraday model with known
-    i_corr and t_i and a normal reading error of 0.01 (fixed seed)."""
+    i_corr and zone t_i, at break-outs opened at the default quantile 0.1 of the spatial
+    scatter of initiation, and a normal reading error of 0.01 (fixed seed)."""
     rng = np.random.default_rng(seed)
     age = np.repeat([25.0, 40.0], 5)
     p = penetration_depth(TRUE_A["corrosion_rate"],
-                          time_since_initiation(age, TRUE_A["initiation_time"]))
+                          time_since_initiation(age, breakout_initiation(
+                              TRUE_A["initiation_time"])))
     noise = 0.01 * rng.standard_normal(age.size)
     ratio = residual_area_ratio(BAR_DIAMETER, p, rule="uniform") + noise
     return SectionLossData(age_years=age, residual_area_ratio=ratio,
@@ -107,11 +120,56 @@ def test_tensor_residual_ratio_equals_numpy_faraday_model():
     np.testing.assert_allclose(got, expected, rtol=1e-12, atol=1e-15)
 
 
-def test_rate_prior_is_the_exposure_class_lognormal():
-    # assess.deterioration.defaults.CORROSION_RATE["exposed deck"]: mean 1.0, sd 0.5 uA/cm2.
+def test_rate_prior_is_the_class_median_with_the_duracrete_spread():
+    # assess.deterioration.defaults.CORROSION_RATE["exposed deck"]: mean 1.0, sd 0.5 uA/cm2,
+    # i.e. a lognormal with log-sd sqrt(ln 1.25) = 0.47 and median exp(-s^2 / 2).
     s = math.sqrt(math.log1p(0.5**2))
-    assert PRIOR_A.rate_log_sd == pytest.approx(s)
     assert PRIOR_A.rate_median == pytest.approx(math.exp(-0.5 * s**2))
+    # DuraCrete 2000 (from memory): CoV 1.3-1.5 -> log-sd 0.97-1.09; the table is narrower.
+    assert math.sqrt(math.log1p(1.3**2)) <= RATE_LOG_SD_MIN <= math.sqrt(math.log1p(1.5**2))
+    assert PRIOR_A.rate_log_sd == RATE_LOG_SD_MIN
+    # "internal": mean 0.03, sd 0.02 uA/cm2 -> median 0.03 / sqrt(1 + (2/3)^2) = 0.025.
+    internal = ZoneCorrosionPrior.from_exposure("internal", 80.0, 0.3)
+    assert internal.rate_median == pytest.approx(0.03 / math.sqrt(1 + (0.02 / 0.03) ** 2))
+    assert internal.rate_log_sd == RATE_LOG_SD_MIN
+
+
+def test_breakout_factor_is_the_quantile_of_the_spatial_scatter():
+    # Reference: scipy.stats.lognorm(s, scale=1).ppf(q), the q-quantile of exp(s eps).
+    for q, s in ((0.1, 0.7), (0.25, 0.45), (0.5, 0.6), (0.9, 1.1)):
+        assert breakout_initiation_factor(q, s) == pytest.approx(
+            stats.lognorm(s=s, scale=1.0).ppf(q), rel=1e-12)
+    assert breakout_initiation_factor(0.5, 0.7) == pytest.approx(1.0)  # random placement
+    np.testing.assert_allclose(breakout_initiation_factor(0.1, np.array([0.5, 0.7])),
+                               stats.lognorm(s=np.array([0.5, 0.7])).ppf(0.1), rtol=1e-12)
+    with pytest.raises(InputError, match="breakout_quantile"):
+        CorrosionModelSettings(breakout_quantile=1.0)
+    with pytest.raises(InputError, match="spatial_log_sd"):
+        CorrosionModelSettings(spatial_log_sd=0.0)
+
+
+def test_section_loss_density_uses_the_breakout_initiation_time():
+    # At a point, the model's log density is the sum of the scipy normal densities of the
+    # ratios about the Faraday prediction at the break-out's local initiation time, plus
+    # the two lognormal priors (scipy.stats.norm on the logs).
+    data = synthetic_section_loss()
+    sd, log_ti, log_rate = 0.02, math.log(14.0), math.log(1.3)
+    for q in (0.1, 0.5):
+        model = corrosion_model(["A"], priors={"A": PRIOR_A}, section_loss=data, ratio_sd=sd,
+                                breakout_quantile=q)
+        got = float(model.compile_logp()({"log_initiation_time": np.array([log_ti]),
+                                          "log_corrosion_rate": np.array([log_rate])}))
+        local = breakout_initiation(math.exp(log_ti), q)
+        age = np.asarray(data.age_years)
+        predicted = residual_area_ratio(
+            BAR_DIAMETER, penetration_depth(math.exp(log_rate), time_since_initiation(age, local)),
+            rule="uniform")
+        expected = (stats.norm.logpdf(data.residual_area_ratio, predicted, sd).sum()
+                    + stats.norm.logpdf(log_ti, math.log(PRIOR_A.initiation_median_years),
+                                        PRIOR_A.initiation_log_sd)
+                    + stats.norm.logpdf(log_rate, math.log(PRIOR_A.rate_median),
+                                        PRIOR_A.rate_log_sd))
+        assert got == pytest.approx(expected, rel=1e-9)
 
 
 def test_half_cell_model_density_matches_scipy_mixture():

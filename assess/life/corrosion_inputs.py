@@ -2,7 +2,7 @@
 
 The remaining-life projection (`assess.life.projection`) needs, for each zone,
 the joint distribution of the zone's corrosion initiation time t_i [yr of age]
-and corrosion current density after initiation i_corr [uA/cm2]. Two sources:
+and corrosion current density after initiation i_corr [uA/cm2]. Three sources:
 
 - **Posterior** (zones with break-out or half-cell data): MCMC draws of
   (t_i, i_corr) from `assess.updating.corrosion.fit_corrosion`, run on the
@@ -12,14 +12,25 @@ and corrosion current density after initiation i_corr [uA/cm2]. Two sources:
   a lognormal fitted by maximum likelihood (mean and standard deviation of the
   log draws) and the copula correlation is the correlation of the log draws
   (for lognormal marginals the normal scores are the standardised logs).
-- **Prior** (zones without such data, or no ledger): t_i from the fib Bulletin
-  34 initiation models with default parameters (chloride ingress with the
-  priors of `assess.updating.chloride.ChloridePriors.from_site`, carbonation
-  with `assess.updating.carbonation.CARBONATION_RATE_PRIOR`; the earlier of
-  the two), sampled by Monte Carlo and matched to a lognormal by its 16/50/84 %
-  quantiles (`ZoneCorrosionPrior.from_initiation_draws`); i_corr from
-  `assess.deterioration.defaults.CORROSION_RATE` by the zone's exposure class.
-  The two are independent a priori.
+- **Prior of the update**: t_i from the site's own chloride profiles and
+  carbonation depths (`assess.life.initiation`: chloride and carbonation
+  posteriors per exposure class, the earlier of the two fronts at the zone's
+  mean measured cover), matched to a lognormal by its 16/50/84 % quantiles
+  (`ZoneCorrosionPrior.from_initiation_draws`); i_corr from the exposure class
+  (`ZoneCorrosionPrior.from_exposure`). The two are independent a priori.
+- **Prior** (zones without break-out or half-cell data): the prior of the
+  update where chloride or carbonation fits are given to
+  `zone_corrosion_inputs`, else (or without a ledger) t_i from the fib
+  Bulletin 34 initiation models with default parameters
+  (chloride ingress with the priors of
+  `assess.updating.chloride.ChloridePriors.from_site`, carbonation with
+  `assess.updating.carbonation.CARBONATION_RATE_PRIOR`; the earlier of the
+  two), sampled by Monte Carlo and matched to a lognormal in the same way.
+
+Break-outs are taken where corrosion is expected first: the section-loss
+likelihood uses the local initiation time at quantile q of the spatial scatter
+(`assess.updating.corrosion.CorrosionModelSettings.breakout_quantile`, 0.1 by
+default; 0.5 for break-outs placed at random).
 
 Ages are counted from 1 July of the year of construction (the site file gives
 the year only; common practice), in Julian years.
@@ -43,9 +54,6 @@ import math
 
 import numpy as np
 
-from assess.deterioration import carbonation as carbonation_forward
-from assess.deterioration import chloride as chloride_forward
-from assess.deterioration.defaults import CRITICAL_CHLORIDE
 from assess.distributions import make_distribution
 from assess.errors import InputError
 from assess.reliability.crude import resolve_seed
@@ -199,10 +207,6 @@ class CorrosionInputs:
         return out
 
 
-def _lognormal_draws(rng, median, log_sd, n):
-    return median * np.exp(log_sd * rng.standard_normal(n))
-
-
 def initiation_time_prior_draws(site, zone_id, n=20_000, seed=0) -> np.ndarray:
     """Prior initiation times of a zone from the fib 34 models with default parameters [yr].
 
@@ -220,32 +224,13 @@ def initiation_time_prior_draws(site, zone_id, n=20_000, seed=0) -> np.ndarray:
         reaches the bar.
     """
     from assess.assessment.knowledge import design_knowledge
-    from assess.updating.carbonation import CARBONATION_RATE_PRIOR
-    from assess.updating.chloride import ChloridePriors
+    from assess.life.initiation import default_carbonation_draws, default_chloride_draws
 
-    zone = site.zones[zone_id]
     rng, _ = resolve_seed(seed, "initiation_time_prior_draws")
     cover = design_knowledge(site)[zone_id]["cover"].predictive().rvs(size=n, random_state=rng)
     cover = np.maximum(cover, 5.0)
-    materials = site.materials
-    # the site file may omit the binder: CEM I and w/c 0.5 are then assumed (common practice)
-    priors = ChloridePriors.from_site(
-        zone.exposure, materials.cement_type or "CEM I", materials.water_cement_ratio or 0.5,
-        mean_annual_temperature_c=zone.mean_annual_temperature)
-    surface = _lognormal_draws(rng, priors.surface_chloride_median,
-                               priors.surface_chloride_log_sd, n)
-    diffusion = _lognormal_draws(rng, priors.diffusion_ref_median, priors.diffusion_log_sd, n)
-    ageing = priors.ageing_exponent.sample(n, rng)
-    initial = _lognormal_draws(rng, priors.initial_chloride_median,
-                               priors.initial_chloride_log_sd, n)
-    critical = CRITICAL_CHLORIDE.sample(n, rng)
-    t_chloride = chloride_forward.initiation_time(
-        cover, critical, surface, diffusion, priors.age_ref_years, ageing,
-        np.minimum(initial, 0.5 * critical), priors.delta_x_mm, diffusion_convention="average")
-    rate_prior = CARBONATION_RATE_PRIOR[zone.exposure]
-    k = _lognormal_draws(rng, rate_prior["median"], rate_prior["log_sd"], n)
-    t_carbonation = carbonation_forward.initiation_time(cover, k)
-    return np.minimum(t_chloride, t_carbonation)
+    t_chloride = default_chloride_draws(site, zone_id, cover, rng)
+    return np.minimum(t_chloride, default_carbonation_draws(site, zone_id, cover, rng))
 
 
 def prior_corrosion(site, zone_id, *, n=20_000, seed=0):
@@ -353,15 +338,41 @@ def _evidence_hash(evidence, priors, settings) -> str:
 
 
 def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
-                     until_date=None, evidence=None, prior_samples=20_000, store=True):
+                     until_date=None, evidence=None, prior_samples=20_000, store=True,
+                     settings=None, initiation=None):
     """Posterior of (t_i, i_corr) per zone from the site's break-outs and half-cell surveys.
 
     Runs `assess.updating.corrosion.fit_corrosion` (PyMC, convergence-gated)
-    with the priors of `prior_corrosion` on the zones that have records. With
-    ``store`` the InferenceData is written to
+    on the zones that have records. The t_i prior of each zone comes from the
+    site's chloride profiles and carbonation depths (`assess.life.initiation`,
+    fitted with the same sampler settings and cached the same way); i_corr
+    from the exposure class. With ``store`` the InferenceData is written to
     ``results/posteriors/corrosion-<hash12>.nc`` in the site folder; a later call
     with the same data, priors and settings (SHA-256 hash) reuses it, after
     passing the same convergence gate.
+
+    Parameters
+    ----------
+    site : inspection_io.site.Site
+    seed : int
+        Seed of every sampler run and of the initiation-time draws.
+    draws, tune, chains : int
+        NUTS settings of every fit [-].
+    until_date : date, optional
+        Use only records up to this date.
+    evidence : CorrosionEvidence, optional
+        Default `corrosion_evidence` of the site.
+    prior_samples : int
+        Monte Carlo draws of t_i for a zone without chloride or carbonation fit [-].
+    store : bool
+        Read and write the fits in ``results/posteriors``.
+    settings : CorrosionModelSettings, optional
+        Break-out quantile q and spatial scatter s; default q = 0.1 (break-outs
+        opened where corrosion is expected first) and s per zone from its cover
+        scatter and initiation mechanism (`assess.life.initiation.spatial_log_sd`).
+    initiation : InitiationFits, optional
+        Chloride and carbonation fits; default `update_initiation` of the
+        zones with records.
 
     Returns
     -------
@@ -371,38 +382,56 @@ def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
     Raises
     ------
     ConvergenceError
-        When the MCMC run fails the gate.
+        When an MCMC run (chloride, carbonation or corrosion) fails the gate.
     """
     import arviz as az
 
     from assess.assessment.site_update import POSTERIOR_FOLDER, _write_atomically
-    from assess.updating.corrosion import (PARAMETER_NAMES, SPATIAL_LOG_SD, CorrosionFit,
-                                           fit_corrosion)
+    from assess.life.initiation import initiation_prior, update_initiation
+    from assess.updating.corrosion import (PARAMETER_NAMES, CorrosionFit,
+                                           CorrosionModelSettings, fit_corrosion)
     from assess.updating.gate import require_convergence
 
+    settings = CorrosionModelSettings() if settings is None else settings
+    if not isinstance(settings, CorrosionModelSettings):
+        raise InputError("The 'settings' parameter of update_corrosion must be a "
+                         f"CorrosionModelSettings. Got {type(settings).__name__}.",
+                         column="settings")
     evidence = evidence if evidence is not None else corrosion_evidence(site, until_date)
     if not evidence.zones:
         return None
-    priors = {z: prior_corrosion(site, z, n=prior_samples, seed=seed) for z in evidence.zones}
-    settings = {"seed": int(seed), "draws": int(draws), "tune": int(tune), "chains": int(chains),
-                "spatial_log_sd": SPATIAL_LOG_SD}
-    digest = _evidence_hash(evidence, priors, settings)
+    if initiation is None:
+        initiation = update_initiation(site, evidence.zones, seed=seed, draws=draws, tune=tune,
+                                       chains=chains, until_date=until_date, store=store)
+    priors, scatter = {}, {}
+    for i, zone in enumerate(evidence.zones):
+        priors[zone], scatter[zone] = initiation_prior(
+            site, zone, initiation, seed=np.random.default_rng([int(seed), i]), n=prior_samples)
+    if settings.spatial_log_sd is not None:
+        scatter = {z: settings.spatial_log_sd for z in evidence.zones}
+    sampler = {"seed": int(seed), "draws": int(draws), "tune": int(tune), "chains": int(chains),
+               "breakout_quantile": settings.breakout_quantile,
+               "spatial_log_sd": {z: round(float(v), 9) for z, v in scatter.items()}}
+    digest = _evidence_hash(evidence, priors, sampler)
     path = site.folder / POSTERIOR_FOLDER / f"corrosion-{digest[:12]}.nc"
     if store and path.exists():
         idata = az.from_netcdf(path, engine="h5netcdf")
         names = [n for n in PARAMETER_NAMES if n in idata.posterior]
         gate = require_convergence(idata, names, what="corrosion initiation and rate")
         return CorrosionFit(idata=idata, gate=gate, zones=tuple(evidence.zones), priors=priors,
-                            spatial_log_sd=SPATIAL_LOG_SD, seed=int(seed))
+                            spatial_log_sd=scatter, seed=int(seed),
+                            breakout_quantile=settings.breakout_quantile)
     fit = fit_corrosion(list(evidence.zones), priors=priors, seed=seed,
                         section_loss=evidence.section_loss, half_cell=evidence.half_cell,
+                        spatial_log_sd=scatter, breakout_quantile=settings.breakout_quantile,
                         draws=draws, tune=tune, chains=chains)
     if store:
         _write_atomically(fit.idata, path)
     return fit
 
 
-def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000) -> dict:
+def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000,
+                          initiation=None) -> dict:
     """`CorrosionInputs` of every zone: posterior where ``fit`` covers the zone, else prior.
 
     Parameters
@@ -413,7 +442,13 @@ def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000
         ``zone_draws(zone) -> {"initiation_time", "corrosion_rate"}``).
     seed : int
         Seed of the prior Monte Carlo of t_i.
+    initiation : InitiationFits, optional
+        Chloride and carbonation fits (`assess.life.initiation.update_initiation`);
+        a zone outside ``fit`` that has one of them gets its t_i prior from
+        them, else from the fib 34 defaults (`prior_corrosion`).
     """
+    from assess.life.initiation import initiation_prior
+
     out = {}
     for zone_id in site.zones:
         if fit is not None and zone_id in tuple(fit.zones):
@@ -422,6 +457,10 @@ def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000
                 zone_id, draws["initiation_time"], draws["corrosion_rate"],
                 source=f"posterior of zone {zone_id} from break-outs and half-cell surveys "
                        "(MCMC; lognormal marginals, Gaussian copula)")
+        elif initiation is not None and (zone_id in initiation.chloride
+                                         or zone_id in initiation.carbonation):
+            prior, _ = initiation_prior(site, zone_id, initiation, seed=seed, n=prior_samples)
+            out[zone_id] = CorrosionInputs.from_prior(zone_id, prior)
         else:
             out[zone_id] = CorrosionInputs.from_prior(
                 zone_id, prior_corrosion(site, zone_id, n=prior_samples, seed=seed))

@@ -8,12 +8,13 @@ carbonation posterior, or from judgement). Two kinds of evidence update them:
 
 Section loss at break-outs. Uniform corrosion by Faraday's law,
 
-    P = 0.0116 i_corr max(t - t_i, 0)  [mm],   A/A0 = max(1 - 2 P / D0, 0)^2,
+    P = 0.0116 i_corr max(t - t_i,breakout, 0)  [mm],   A/A0 = max(1 - 2 P / D0, 0)^2,
 
 the same expressions as `assess.deterioration.corrosion` (`penetration_depth`,
 `residual_area_ratio` with ``rule="uniform"``), with a normal measurement error
 of the ratio (sd known or half-normal). Two ages identify both the rate (the
-slope) and the initiation time (the intercept).
+slope) and the initiation time (the intercept). t_i,breakout is the local
+initiation time where the break-out was opened (see below).
 
 Half-cell potentials. Initiation is not simultaneous over a zone: cover,
 concrete and exposure vary from point to point. This is represented by a
@@ -21,7 +22,10 @@ lognormal scatter of the local initiation time about the zone median,
 ln t_i,local = ln t_i,z + s eps, eps ~ N(0, 1), so that a reading location at
 age t is active with probability
 
-    p_active(t) = P(t_i,local < t) = Phi((ln t - ln t_i,z) / s).
+    p_active(t) = P(t_i,local < t) = Phi((ln t - ln t_i,z) / s),
+
+with s fixed, one value for all zones or one per zone (e.g. derived from the
+zone's cover scatter, `assess.life.initiation.spatial_log_sd`).
 
 A reading E is then drawn from the mixture
 p_active f(E | active) + (1 - p_active) f(E | passive), with the normal densities
@@ -31,8 +35,19 @@ a close grid are spatially correlated, so this overstates their weight unless
 the grid is thinned to about the correlation length (judgement; Faber &
 Sorensen 2002 discuss it).
 
-Section loss uses the zone median t_i,z (a break-out is taken at a typical
-location of the zone).
+Section loss at a break-out uses the local initiation time of the place where
+the break-out was opened. Break-outs are usually opened where corrosion is
+expected first (low cover, spalls, the most negative potentials; common
+practice), not at random, so the break-out is placed at quantile q of the
+spatial scatter of initiation:
+
+    t_i,breakout = t_i,z exp(s Phi^-1(q)),
+
+q = `BREAKOUT_QUANTILE` = 0.1 by default; q = 0.5 for break-outs placed at
+random (the zone median).
+
+Rate prior: the median of `CORROSION_RATE[exposure]`, with the standard
+deviation of ln i_corr widened to at least `RATE_LOG_SD_MIN` (see there).
 
 References
 ----------
@@ -42,6 +57,9 @@ References
    (from memory).
 .. [3] C. Andrade and C. Alonso, "Corrosion rate monitoring in the laboratory and
    on-site," *Constr. Build. Mater.*, vol. 10, no. 5, pp. 315-328, 1996.
+.. [4] DuraCrete, "Statistical quantification of the variables in the limit state
+   functions," Brite EuRam project BE95-1347, report R9, 2000 (corrosion rates
+   by exposure class; from memory).
 """
 
 from __future__ import annotations
@@ -68,11 +86,113 @@ Judgement from the chloride model: t_i grows as cover^(2/(1-a)), so a cover
 CoV of about 0.25 (JCSS PMC Part 3.10, from memory) with a = 0.3 alone gives
 a ln t_i scatter of about 2 x 0.25 / 0.7 = 0.7."""
 
+BREAKOUT_QUANTILE = 0.1
+"""Default quantile q of the spatial scatter of initiation at which break-outs are
+opened [-].
+
+Break-outs are usually opened where corrosion is expected first: at low cover,
+at spalls or at the most negative half-cell potentials (common practice). With
+q = 0.1 a break-out sees the initiation time that only 10 % of the zone's
+locations beat. Use 0.5 for break-outs placed at random."""
+
+RATE_LOG_SD_MIN = 1.0
+"""Smallest standard deviation of ln i_corr in the rate prior [-].
+
+DuraCrete (2000, from memory) gives the corrosion rate of every exposure class
+a coefficient of variation of about 1.3-1.5 (e.g. carbonation, sheltered from
+rain: mean 2, sd 3 um/yr; chloride, cyclic wet-dry: mean 30, sd 40 um/yr), i.e.
+a log-sd sqrt(ln(1 + CoV^2)) of 0.97-1.09, and the field rates of Andrade &
+Alonso (1996) span the classes "negligible" (< 0.1) to "low" (0.1-0.5 uA/cm2)
+in sheltered and indoor concrete. The medians of `CORROSION_RATE` are kept;
+narrower spreads there would rule out a priori rates that the literature
+reports for the same class (a damp "internal" zone corroding at 0.1-0.3)."""
+
 RATIO_SD_SCALE = 0.05
 """Scale of the half-normal prior of the measurement sd of A/A0 [-] (judgement:
 caliper readings of a cleaned bar at a break-out)."""
 
 PARAMETER_NAMES = ("initiation_time", "corrosion_rate", "ratio_measurement_sd")
+
+
+@dataclasses.dataclass(frozen=True)
+class CorrosionModelSettings:
+    """Modelling choices of the corrosion update (the sampler settings are separate).
+
+    Attributes
+    ----------
+    breakout_quantile : float, default `BREAKOUT_QUANTILE` (0.1)
+        Quantile q in (0, 1) of the spatial scatter of initiation at which
+        break-outs were opened [-]: 0.1 where they were opened at low cover or
+        visible damage (common practice), 0.5 where they were placed at random.
+    spatial_log_sd : float, optional
+        Scatter s of ln(local t_i) about the zone median [-], the same for every
+        zone. None (default) lets the caller derive it per zone (e.g. from the
+        cover survey, `assess.life.initiation.spatial_log_sd`), else
+        `SPATIAL_LOG_SD`.
+    """
+
+    breakout_quantile: float = BREAKOUT_QUANTILE
+    spatial_log_sd: float | None = None
+
+    def __post_init__(self):
+        check_breakout_quantile(self.breakout_quantile, "CorrosionModelSettings")
+        if self.spatial_log_sd is not None:
+            check_spatial_log_sd(self.spatial_log_sd, "CorrosionModelSettings")
+
+
+def check_breakout_quantile(value, caller):
+    """The break-out quantile q as a float in (0, 1), or `InputError`."""
+    if not (isinstance(value, (int, float, np.integer, np.floating)) and 0.0 < value < 1.0):
+        raise InputError(f"The 'breakout_quantile' parameter of {caller} must be a number in "
+                         f"(0, 1): 0.1 for break-outs opened where corrosion is expected "
+                         f"first, 0.5 for break-outs placed at random. Got {value!r} instead.",
+                         column="breakout_quantile")
+    return float(value)
+
+
+def check_spatial_log_sd(value, caller):
+    """The spatial scatter s as a float > 0, or `InputError`."""
+    if not (isinstance(value, (int, float, np.integer, np.floating)) and np.isfinite(value)
+            and value > 0):
+        raise InputError(f"The 'spatial_log_sd' parameter of {caller} must be > 0. Got "
+                         f"{value!r}.", column="spatial_log_sd")
+    return float(value)
+
+
+def zone_spatial_log_sd(spatial_log_sd, zones, caller):
+    """Scatter s of each zone as an array in zone order [-].
+
+    Parameters
+    ----------
+    spatial_log_sd : float or mapping str -> float
+        One value for all zones, or one per zone.
+    zones : sequence of str
+    caller : str
+    """
+    if hasattr(spatial_log_sd, "keys"):
+        missing = [z for z in zones if z not in spatial_log_sd]
+        if missing:
+            raise InputError(f"The 'spatial_log_sd' parameter of {caller} has no entry for "
+                             f"zone(s) {missing}.", column="spatial_log_sd")
+        return np.array([check_spatial_log_sd(spatial_log_sd[z], caller) for z in zones])
+    return np.full(len(zones), check_spatial_log_sd(spatial_log_sd, caller))
+
+
+def breakout_initiation_factor(breakout_quantile=BREAKOUT_QUANTILE,
+                               spatial_log_sd=SPATIAL_LOG_SD):
+    """Ratio of a break-out's local initiation time to the zone median [-].
+
+    exp(s Phi^-1(q)): the q-quantile of the lognormal spatial scatter of the
+    local initiation time about the zone median t_i,z. ``spatial_log_sd`` may
+    be an array (one s per zone); the result then has its shape.
+    """
+    q = check_breakout_quantile(breakout_quantile, "breakout_initiation_factor")
+    s = np.asarray(spatial_log_sd, dtype=float)
+    if not (np.all(np.isfinite(s)) and np.all(s > 0)):
+        raise InputError("The 'spatial_log_sd' parameter of breakout_initiation_factor must "
+                         f"be > 0. Got {spatial_log_sd!r}.", column="spatial_log_sd")
+    factor = np.exp(s * float(stats.norm.ppf(q)))
+    return float(factor) if factor.ndim == 0 else factor
 
 
 @dataclasses.dataclass(frozen=True)
@@ -111,6 +231,9 @@ class ZoneCorrosionPrior:
     def from_exposure(cls, exposure, initiation_median_years, initiation_log_sd):
         """Rate prior from `CORROSION_RATE[exposure]`, initiation prior as given.
 
+        The rate median is that of the table; the log-sd is the table's, at least
+        `RATE_LOG_SD_MIN`.
+
         Parameters
         ----------
         exposure : str
@@ -122,10 +245,14 @@ class ZoneCorrosionPrior:
         """
         spec = lookup(CORROSION_RATE, exposure, "CORROSION_RATE")
         dist = spec.to_scipy()
-        return cls(rate_median=float(dist.kwds["scale"]), rate_log_sd=float(dist.kwds["s"]),
+        table_log_sd = float(dist.kwds["s"])
+        return cls(rate_median=float(dist.kwds["scale"]),
+                   rate_log_sd=max(table_log_sd, RATE_LOG_SD_MIN),
                    initiation_median_years=float(initiation_median_years),
                    initiation_log_sd=float(initiation_log_sd),
-                   source=f"i_corr: CORROSION_RATE[{exposure!r}] ({spec.source})")
+                   source=f"i_corr: median of CORROSION_RATE[{exposure!r}] ({spec.source}), "
+                          f"log-sd at least {RATE_LOG_SD_MIN} (DuraCrete 2000 CoV, from "
+                          "memory)")
 
     @classmethod
     def from_initiation_draws(cls, exposure, initiation_draws_years):
@@ -240,7 +367,8 @@ def _check_priors(priors, names, caller):
 
 def corrosion_model(zones, *, priors, section_loss=None, half_cell=None,
                     spatial_log_sd=SPATIAL_LOG_SD, ratio_sd=None,
-                    ratio_sd_scale=RATIO_SD_SCALE, half_cell_params=None):
+                    ratio_sd_scale=RATIO_SD_SCALE, half_cell_params=None,
+                    breakout_quantile=BREAKOUT_QUANTILE):
     """PyMC model of initiation time and corrosion rate per zone (not sampled).
 
     Parameters
@@ -250,14 +378,19 @@ def corrosion_model(zones, *, priors, section_loss=None, half_cell=None,
         One prior per zone.
     section_loss : SectionLossData, optional
     half_cell : HalfCellData, optional
-    spatial_log_sd : float, default `SPATIAL_LOG_SD`
-        Scatter s of ln(local t_i) about the zone median [-].
+    spatial_log_sd : float or mapping str -> float, default `SPATIAL_LOG_SD`
+        Scatter s of ln(local t_i) about the zone median [-], one for all zones
+        or one per zone.
     ratio_sd : float, optional
         Known measurement sd of A/A0 [-]; None estimates it (half-normal).
     ratio_sd_scale : float, default `RATIO_SD_SCALE`
         Scale of that half-normal prior [-].
     half_cell_params : mapping, optional
         f(E | state) parameters, default `HALF_CELL_LIKELIHOOD` [mV].
+    breakout_quantile : float, default `BREAKOUT_QUANTILE`
+        Quantile q of the spatial scatter of initiation at which the break-outs
+        were opened [-]; the section loss is computed from the local initiation
+        time t_i,z exp(s Phi^-1(q)).
 
     Returns
     -------
@@ -271,9 +404,9 @@ def corrosion_model(zones, *, priors, section_loss=None, half_cell=None,
     caller = "corrosion_model"
     names = check_zone_names(zones, caller)
     zone_priors = _check_priors(priors, names, caller)
-    if not (np.isfinite(spatial_log_sd) and spatial_log_sd > 0):
-        raise InputError(f"The 'spatial_log_sd' parameter of {caller} must be > 0. Got "
-                         f"{spatial_log_sd!r}.", column="spatial_log_sd")
+    scatter = zone_spatial_log_sd(spatial_log_sd, names, caller)
+    breakout_factor = breakout_initiation_factor(
+        check_breakout_quantile(breakout_quantile, caller), scatter)
     if section_loss is not None and not isinstance(section_loss, SectionLossData):
         raise InputError(f"The 'section_loss' parameter of {caller} must be a SectionLossData.",
                          column="section_loss")
@@ -291,13 +424,14 @@ def corrosion_model(zones, *, priors, section_loss=None, half_cell=None,
         t_i = pm.Deterministic("initiation_time", pm.math.exp(log_ti), dims="zone")
         rate = pm.Deterministic("corrosion_rate", pm.math.exp(log_rate), dims="zone")
         if section_loss is not None:
-            _add_section_loss(pm, section_loss, names, t_i, rate, ratio_sd, ratio_sd_scale)
+            _add_section_loss(pm, section_loss, names, t_i * breakout_factor, rate, ratio_sd,
+                              ratio_sd_scale)
         if half_cell is not None:
-            _add_half_cell(pm, half_cell, names, log_ti, spatial_log_sd, half_cell_params)
+            _add_half_cell(pm, half_cell, names, log_ti, scatter, half_cell_params)
     return model
 
 
-def _add_section_loss(pm, data, names, t_i, rate, ratio_sd, ratio_sd_scale):
+def _add_section_loss(pm, data, names, t_i_breakout, rate, ratio_sd, ratio_sd_scale):
     caller = "corrosion_model (section_loss)"
     ratio = check_observation_vector(data.residual_area_ratio, "residual_area_ratio", caller,
                                      low=0.0)
@@ -318,11 +452,11 @@ def _add_section_loss(pm, data, names, t_i, rate, ratio_sd, ratio_sd_scale):
     else:
         raise InputError(f"The 'ratio_sd' parameter of corrosion_model must be > 0. Got "
                          f"{ratio_sd!r}.", column="ratio_sd")
-    predicted = residual_area_ratio_tensor(d0, rate[idx], t, t_i[idx])
+    predicted = residual_area_ratio_tensor(d0, rate[idx], t, t_i_breakout[idx])
     pm.Normal("residual_area_ratio", mu=predicted, sigma=sd, observed=ratio)
 
 
-def _add_half_cell(pm, data, names, log_ti, spatial_log_sd, params):
+def _add_half_cell(pm, data, names, log_ti, scatter, params):
     caller = "corrosion_model (half_cell)"
     e = check_observation_vector(data.potential_mv_cse, "potential_mv_cse", caller)
     t = check_observation_vector(data.age_years, "age_years", caller, low=0.0, low_open=True,
@@ -331,7 +465,7 @@ def _add_half_cell(pm, data, names, log_ti, spatial_log_sd, params):
     params = HALF_CELL_LIKELIHOOD if params is None else params
     log_f_active = potential_log_likelihood(e, "active", params)
     log_f_passive = potential_log_likelihood(e, "passive", params)
-    z = (np.log(t) - log_ti[idx]) / spatial_log_sd
+    z = (np.log(t) - log_ti[idx]) / scatter[idx]
     standard = pm.Normal.dist(0.0, 1.0)
     log_mix = pm.math.logaddexp(pm.logcdf(standard, z) + log_f_active,
                                 pm.logcdf(standard, -z) + log_f_passive)
@@ -349,17 +483,20 @@ class CorrosionFit:
     gate : GateReport
     zones : tuple of str
     priors : dict of ZoneCorrosionPrior
-    spatial_log_sd : float
-        Scatter s of ln(local t_i) used in the model [-].
+    spatial_log_sd : dict
+        zone -> scatter s of ln(local t_i) used in the model [-].
     seed : int
+    breakout_quantile : float
+        Quantile q of the spatial scatter at which break-outs were opened [-].
     """
 
     idata: object
     gate: GateReport
     zones: tuple
     priors: dict
-    spatial_log_sd: float
+    spatial_log_sd: dict
     seed: int
+    breakout_quantile: float = BREAKOUT_QUANTILE
 
     def zone_draws(self, zone):
         """Flattened draws of ``initiation_time`` [yr] and ``corrosion_rate`` [uA/cm2]."""
@@ -377,19 +514,20 @@ class CorrosionFit:
         """
         t_i = self.zone_draws(zone)["initiation_time"]
         t = np.asarray(age_years, dtype=float)
-        z = (np.log(t)[..., None] - np.log(t_i)) / self.spatial_log_sd
+        z = (np.log(t)[..., None] - np.log(t_i)) / self.spatial_log_sd[zone]
         return stats.norm.cdf(z).mean(axis=-1)
 
 
 def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
                   spatial_log_sd=SPATIAL_LOG_SD, ratio_sd=None, ratio_sd_scale=RATIO_SD_SCALE,
-                  half_cell_params=None, draws=1000, tune=1000, chains=4, target_accept=0.95):
+                  half_cell_params=None, draws=1000, tune=1000, chains=4, target_accept=0.95,
+                  breakout_quantile=BREAKOUT_QUANTILE):
     """Sample the corrosion model and pass the convergence gate.
 
     Parameters
     ----------
     zones, priors, section_loss, half_cell, spatial_log_sd, ratio_sd, ratio_sd_scale,
-    half_cell_params
+    half_cell_params, breakout_quantile
         See `corrosion_model`.
     seed : int or numpy.random.Generator
         Pass an int for reproducible output across calls.
@@ -409,7 +547,8 @@ def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
     model = corrosion_model(zones, priors=priors, section_loss=section_loss,
                             half_cell=half_cell, spatial_log_sd=spatial_log_sd,
                             ratio_sd=ratio_sd, ratio_sd_scale=ratio_sd_scale,
-                            half_cell_params=half_cell_params)
+                            half_cell_params=half_cell_params,
+                            breakout_quantile=breakout_quantile)
     idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
                              target_accept=target_accept)
     names = [n for n in PARAMETER_NAMES if n in idata.posterior]
@@ -417,4 +556,7 @@ def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
     zone_names = tuple(str(z) for z in zones)
     return CorrosionFit(idata=idata, gate=gate, zones=zone_names,
                         priors={z: priors[z] for z in zone_names},
-                        spatial_log_sd=float(spatial_log_sd), seed=seed)
+                        spatial_log_sd=dict(zip(zone_names, zone_spatial_log_sd(
+                            spatial_log_sd, zone_names, "fit_corrosion").tolist())),
+                        seed=seed,
+                        breakout_quantile=float(breakout_quantile))
