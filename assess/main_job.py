@@ -106,10 +106,8 @@ def run_site(folder: Path, settings: JobSettings | None = None,
 def _optional_life(site, update, settings, say, warnings_list):
     if not settings.life:
         return None
-    try:
-        from assess.life import site_life_summary
-    except ImportError:
-        return None
+    from assess.life import site_life_summary
+
     say("Remaining-life curves")
     return site_life_summary(site, update, horizon_years=settings.horizon_years,
                              seed=settings.seed, quick=settings.quick)
@@ -118,9 +116,7 @@ def _optional_life(site, update, settings, say, warnings_list):
 def _optional_worth(site, update, settings, say, warnings_list):
     if not settings.worth or not (site.folder / "decisions.toml").exists():
         return None
-    try:
-        from assess.worth.site import site_worth_summary
-    except ImportError:
-        return None
+    from assess.worth.site_summary import site_worth_summary
+
     say("Value of information of the candidate test programmes")
     return site_worth_summary(site, update, seed=settings.seed, quick=settings.quick)

@@ -31,6 +31,19 @@ def test_report_files_are_new_and_named_alike(job):
     assert numbers["numbers"]["site"]["name"].startswith("Tanners Yard")
 
 
+def test_report_carries_remaining_life_and_value_of_information(job):
+    _, _, _, numbers = job
+    life = numbers["numbers"]["remaining_life"]
+    assert life["reference"] == "annual"
+    assert {c["member"] for c in life["curves"]} == set(numbers["numbers"]["site"]["members"])
+    worth = numbers["numbers"]["value_of_information"]
+    assert worth["ranking"], "the demo's decisions.toml lists candidate programmes"
+    for r in worth["ranking"]:
+        # Raiffa & Schlaifer (1961): 0 <= EVSI <= EVPI, within 3 Monte Carlo standard errors
+        assert -3 * r["evsi_standard_error"] <= r["evsi"]
+        assert r["evsi"] <= r["evpi"] + 3 * (r["evsi_standard_error"] + r["evpi_standard_error"])
+
+
 def test_every_member_has_a_system_beta_against_the_cc2_annual_target(job):
     run, _, _, numbers = job
     rows = numbers["numbers"]["members"]
