@@ -15,9 +15,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from assess.assessment.site_update import (POSTERIOR_FOLDER, UpdateSettings, _hash,
-                                           collect_data, update_site)
+from assess.assessment.site_update import UpdateSettings, _hash, collect_data, update_site
 from assess.updating.models import group_draws
+from assess.updating.storage import POSTERIOR_FOLDER
 from inspection_io.importing import import_site
 from inspection_io.ledger import Ledger
 from inspection_io.site import load_site

@@ -18,8 +18,6 @@ import dataclasses
 import datetime as dt
 import hashlib
 import json
-import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -29,11 +27,11 @@ import assess
 from assess.assessment.knowledge import QUANTITIES, design_knowledge
 from assess.updating.gate import GateReport, check_convergence
 from assess.updating.normal_gamma import NormalGamma
+from assess.updating.storage import posterior_path, read_posterior, write_posterior
 from assess.errors import ConvergenceError
 from inspection_io.ledger import Ledger
 from inspection_io.screening import usable_mask
 
-POSTERIOR_FOLDER = Path("results") / "posteriors"
 
 
 @dataclasses.dataclass(frozen=True)
@@ -160,18 +158,6 @@ def _zone_priors_model(pm, name, values, groups, zones, before):
         pm.Normal("y", mu=mu[groups], sigma=sigma[groups], observed=values)
 
 
-def _write_atomically(idata, path: Path) -> None:
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=".posterior-", suffix=".nc", dir=path.parent)
-    os.close(fd)
-    try:
-        idata.to_netcdf(tmp, engine="h5netcdf")
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-
-
 def update_site(site, *, settings: UpdateSettings | None = None, until_date: dt.date | None = None,
                 progressbar: bool = False, record: bool = True) -> SiteUpdate:
     """Update every zone's knowledge with the ledger's data up to ``until_date``.
@@ -181,8 +167,6 @@ def update_site(site, *, settings: UpdateSettings | None = None, until_date: dt.
     ConvergenceError
         When the MCMC run fails the convergence gate (nothing is recorded then).
     """
-    import arviz as az
-
     from assess.updating.models import free_parameter_names, group_draws, sample_posterior
 
     settings = settings or UpdateSettings()
@@ -197,12 +181,12 @@ def update_site(site, *, settings: UpdateSettings | None = None, until_date: dt.
     if all(df.empty for df in data.values()):
         return SiteUpdate(before, before, data, None, None, data_hash, False, None, until_date)
 
-    path = site.folder / POSTERIOR_FOLDER / f"posterior-{data_hash[:12]}.nc"
+    path = posterior_path(site.folder, "posterior", data_hash)
     joint = _build_joint_model(site, data, before, settings)
     names = free_parameter_names(joint)
     reused = path.exists()
     if reused:
-        idata = az.from_netcdf(path, engine="h5netcdf")
+        idata = read_posterior(path)
     else:
         idata = sample_posterior(joint, draws=settings.draws, tune=settings.tune,
                                  chains=settings.chains, seed=settings.seed,
@@ -225,7 +209,7 @@ def update_site(site, *, settings: UpdateSettings | None = None, until_date: dt.
                 mu, sigma, source=f"posterior of {name} in zone {zone} from site tests "
                                   f"(MCMC, {data_hash[:12]})")
     if not reused:
-        _write_atomically(idata, path)
+        write_posterior(idata, path)
     if record:
         with Ledger(ledger_path) as ledger:
             ledger.append_result(

@@ -384,9 +384,7 @@ def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
     ConvergenceError
         When an MCMC run (chloride, carbonation or corrosion) fails the gate.
     """
-    import arviz as az
-
-    from assess.assessment.site_update import POSTERIOR_FOLDER, _write_atomically
+    from assess.updating.storage import posterior_path, read_posterior, write_posterior
     from assess.life.initiation import initiation_prior, update_initiation
     from assess.updating.corrosion import (PARAMETER_NAMES, CorrosionFit,
                                            CorrosionModelSettings, fit_corrosion)
@@ -413,9 +411,9 @@ def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
                "breakout_quantile": settings.breakout_quantile,
                "spatial_log_sd": {z: round(float(v), 9) for z, v in scatter.items()}}
     digest = _evidence_hash(evidence, priors, sampler)
-    path = site.folder / POSTERIOR_FOLDER / f"corrosion-{digest[:12]}.nc"
+    path = posterior_path(site.folder, "corrosion", digest)
     if store and path.exists():
-        idata = az.from_netcdf(path, engine="h5netcdf")
+        idata = read_posterior(path)
         names = [n for n in PARAMETER_NAMES if n in idata.posterior]
         gate = require_convergence(idata, names, what="corrosion initiation and rate")
         return CorrosionFit(idata=idata, gate=gate, zones=tuple(evidence.zones), priors=priors,
@@ -426,7 +424,7 @@ def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
                         spatial_log_sd=scatter, breakout_quantile=settings.breakout_quantile,
                         draws=draws, tune=tune, chains=chains)
     if store:
-        _write_atomically(fit.idata, path)
+        write_posterior(fit.idata, path)
     return fit
 
 

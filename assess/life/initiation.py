@@ -316,20 +316,17 @@ def fit_hash(kind, data, priors, settings) -> str:
 def _cached_fit(site, kind, data, priors, settings, store, run, rebuild, parameter_names,
                 what):
     """Run ``run()`` or read its stored InferenceData; either way pass the gate."""
-    import arviz as az
-
-    from assess.assessment.site_update import POSTERIOR_FOLDER, _write_atomically
+    from assess.updating.storage import posterior_path, read_posterior, write_posterior
     from assess.updating.gate import require_convergence
 
-    path = (site.folder / POSTERIOR_FOLDER
-            / f"{kind}-{fit_hash(kind, data, priors, settings)[:12]}.nc")
+    path = posterior_path(site.folder, kind, fit_hash(kind, data, priors, settings))
     if store and path.exists():
-        idata = az.from_netcdf(path, engine="h5netcdf")
+        idata = read_posterior(path)
         names = [n for n in parameter_names if n in idata.posterior]
         return rebuild(idata, require_convergence(idata, names, what=what))
     fit = run()
     if store:
-        _write_atomically(fit.idata, path)
+        write_posterior(fit.idata, path)
     return fit
 
 
