@@ -11,6 +11,7 @@ from rich.table import Table
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.members import (DrawsOption, JsonFlag, QuickFlag, SeedOption, SiteFolder,
                                 load_checked_site)
+from assess.reliability.result import format_beta
 
 
 @app.command("history")
@@ -66,8 +67,5 @@ def history_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: Draw
 
 
 def _fmt(beta: float, target: float) -> str:
-    if math.isnan(beta):
-        return "-"
-    if math.isinf(beta):
-        return "> 8"
-    return f"{beta:.2f}" + ("" if beta >= target else " *")
+    text = format_beta(beta)
+    return text if math.isnan(beta) or math.isinf(beta) or beta >= target else text + " *"

@@ -12,6 +12,7 @@ from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.errors import InputError
+from assess.reliability.result import format_beta
 
 SiteFolder = Annotated[Path, typer.Argument(help="The site folder (holding site.toml).")]
 JsonFlag = Annotated[bool, typer.Option("--json", help="Print only JSON on stdout.")]
@@ -43,11 +44,7 @@ def run_update(site, *, seed: int, draws: int, quick: bool, until_date=None, rec
 
 
 def _fmt_beta(value: float) -> str:
-    if math.isnan(value):
-        return "-"
-    if math.isinf(value):
-        return "> 8 (no failure found)" if value > 0 else "-inf"
-    return f"{value:.2f}"
+    return format_beta(value, no_failure="> 8 (no failure found)")
 
 
 def _fmt_cov(value: float) -> str:

@@ -103,3 +103,13 @@ class ReliabilityResult:
         out = {f.name: clean(getattr(self, f.name)) for f in dataclasses.fields(self)}
         out["log10_pf"] = clean(self.log10_pf)
         return out
+
+
+def format_beta(beta, *, no_failure: str = "> 8", minus_infinity: str = "-inf") -> str:
+    """Beta for tables: two decimals; ``no_failure`` for +inf (no failed sample), "-" for
+    NaN or None, ``minus_infinity`` for -inf (pf = 1)."""
+    if beta is None or math.isnan(beta):
+        return "-"
+    if math.isinf(beta):
+        return no_failure if beta > 0 else minus_infinity
+    return f"{beta:.2f}"

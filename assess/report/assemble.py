@@ -13,6 +13,7 @@ import assess
 from assess.assessment.figures import (LABELS, before_after_figure, predictive_draws,
                                        prior_posterior_figures)
 from assess.assessment.knowledge import QUANTITIES
+from assess.reliability.result import format_beta
 from assess.report.document import ReportDocument
 
 KIND_TITLES = {"cores": "Cores (in-situ strength)", "tensile": "Rebar tensile tests",
@@ -38,11 +39,7 @@ class RunResults:
 
 
 def _fmt_beta(beta) -> str:
-    if beta is None or (isinstance(beta, float) and math.isnan(beta)):
-        return "-"
-    if math.isinf(beta):
-        return "> 8" if beta > 0 else "-"
-    return f"{beta:.2f}"
+    return format_beta(beta, minus_infinity="-")
 
 
 def build_report(run: RunResults) -> tuple[ReportDocument, dict]:
