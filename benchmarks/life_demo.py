@@ -52,9 +52,9 @@ def main() -> None:
     args = parser.parse_args()
     warnings.filterwarnings("ignore")
 
-    from assess.assessment.site_update import UpdateSettings, update_site
-    from assess.life.corrosion_inputs import update_corrosion, zone_corrosion_inputs
-    from assess.life.projection import governing_curves, project_member, project_site
+    from assess.site.materials import UpdateSettings, update_site
+    from assess.site.corrosion import update_corrosion, zone_corrosion_inputs
+    from assess.site.projection import governing_curves, project_member, project_site
     from inspection_io.site import load_site
 
     folder = prepare(args.site)

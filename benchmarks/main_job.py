@@ -17,7 +17,7 @@ import time
 import warnings
 from pathlib import Path
 
-from assess.main_job import JobSettings, run_site
+from assess.pipeline import JobSettings, run_site
 
 DEMO = Path(__file__).resolve().parents[1] / "demo_sites" / "tanners-yard"
 

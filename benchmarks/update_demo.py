@@ -5,7 +5,7 @@ Run:  /work/venv/bin/python benchmarks/update_demo.py
 Works on temporary copies of demo_sites/tanners-yard (the repository copy is never
 touched). Measures:
 
-1. PyMC's own NUTS on the joint model of `assess.assessment.site_update`, split into
+1. PyMC's own NUTS on the joint model of `assess.site.materials`, split into
    building the graph, compiling the log-density and its gradient, and the sampling
    loop itself (tuning + draws, PyMC's ``sampling_time``); the rest of the
    ``pm.sample`` call (its own compile, initialisation, worker processes) is shown
@@ -55,7 +55,7 @@ def gate_figures(idata, names) -> dict:
 
 
 def bench_pymc(site, data, before, settings) -> dict:
-    from assess.assessment.site_update import _build_joint_model
+    from assess.site.materials import _build_joint_model
     from assess.updating.models import free_parameter_names, sample_posterior
 
     start = time.perf_counter()
@@ -111,9 +111,9 @@ def main() -> None:
     for name in ("pymc", "pytensor", "arviz", "nutpie"):
         logging.getLogger(name).setLevel(logging.ERROR)
 
-    from assess.assessment.before_after import assess_members
-    from assess.assessment.knowledge import design_knowledge
-    from assess.assessment.site_update import UpdateSettings, collect_data, update_site
+    from assess.site.before_after import assess_members
+    from assess.site.knowledge import design_knowledge
+    from assess.site.materials import UpdateSettings, collect_data, update_site
     from inspection_io.ledger import Ledger
     from inspection_io.site import load_site
 

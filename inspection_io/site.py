@@ -15,7 +15,7 @@ import datetime as dt
 import difflib
 import re
 import tomllib
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
 from typing import Any, Callable, Mapping
@@ -216,6 +216,8 @@ class Site:
     """Members by id, in file order (read-only mapping)."""
     priors: Priors = Priors()
     """The optional ``[priors]`` table (all fields None when absent)."""
+    sampling: Mapping[str, Mapping[str, Any]] = field(default_factory=lambda: MappingProxyType({}))
+    """The optional ``[sampling.<fit>]`` tables: MCMC settings per kind of fit."""
 
     @property
     def folder(self) -> Path:
@@ -600,6 +602,31 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
     )
 
 
+SAMPLING_FITS = ("materials", "chloride", "carbonation", "corrosion")
+"""Kinds of MCMC fit that a ``[sampling.<fit>]`` table may set."""
+
+
+def _sampling(s: _Schema, table: dict) -> Mapping[str, Mapping[str, Any]]:
+    """``[sampling.<fit>]``: draws, tune, chains (whole numbers), target_accept, sampler."""
+    s.keys(table, "sampling", (), SAMPLING_FITS)
+    out = {}
+    for fit, body in table.items():
+        path = f"sampling.{fit}"
+        body = s.table(body, path)
+        s.keys(body, path, (), ("draws", "tune", "chains", "target_accept", "sampler"))
+        values: dict[str, Any] = {}
+        for key, low, high in (("draws", 100, 100_000), ("tune", 0, 100_000), ("chains", 1, 16)):
+            if key in body:
+                values[key] = s.integer(body[key], f"{path}.{key}", low, high)
+        if "target_accept" in body:
+            values["target_accept"] = s.number(body["target_accept"], f"{path}.target_accept",
+                                               0.5, 0.999, "[-]")
+        if "sampler" in body:
+            values["sampler"] = s.text(body["sampler"], f"{path}.sampler", ("pymc", "nutpie"))
+        out[fit] = MappingProxyType(values)
+    return MappingProxyType(out)
+
+
 # --------------------------------------------------------------------------- public
 def load_site(path: str | Path) -> Site:
     """Read and check a site file.
@@ -627,7 +654,8 @@ def load_site(path: str | Path) -> Site:
         path = path / "site.toml"
     data = _read_toml(path)
     s = _Schema(path)
-    s.keys(data, "", ("site", "target", "materials", "loads", "zones"), ("members", "priors"))
+    s.keys(data, "", ("site", "target", "materials", "loads", "zones"),
+           ("members", "priors", "sampling"))
     sections = {name: s.table(data[name], name) for name in data}
     zones = _zones(s, sections["zones"])
     members = {}
@@ -642,6 +670,8 @@ def load_site(path: str | Path) -> Site:
         zones=MappingProxyType(zones),
         members=MappingProxyType(members),
         priors=_priors(s, sections["priors"]) if "priors" in sections else Priors(),
+        sampling=_sampling(s, sections["sampling"]) if "sampling" in sections
+        else MappingProxyType({}),
     )
 
 

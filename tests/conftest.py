@@ -1,16 +1,33 @@
-"""Shared fixtures: one imported copy of the demo site per test session.
+"""Shared fixtures: one imported copy of the demo site and one set of MCMC settings per session.
 
-MCMC is the slow step; posteriors are stored in the site folder under a hash
-of data and settings, so tests that use `demo_site` with `QUICK_UPDATE`
-settings pay for one MCMC run per cut-off date in the whole session.
+MCMC is the slow step; posteriors are stored in the site folder under a hash of
+data and settings (`assess.updating.cache`), so tests that use `demo_site` with
+`quick_settings` pay for each fit once in the whole session.
+
+The seed of the session's MCMC and sampling runs is read from the environment
+variable ``ASSESS_TEST_SEED`` (default `assess.site.settings.DEFAULT_SEED`), so
+that the suite can be run with other seeds: no assert may depend on one
+realisation of a posterior beyond what its own error allows.
 """
 
+import os
 import shutil
+import warnings
 from pathlib import Path
 
 import pytest
 
+from assess.site.settings import DEFAULT_SEED
+
 DEMO = Path(__file__).resolve().parents[1] / "demo_sites" / "tanners-yard"
+
+SUITE_SEED = int(os.environ.get("ASSESS_TEST_SEED", DEFAULT_SEED))
+"""Seed of the session's MCMC runs (environment variable ASSESS_TEST_SEED)."""
+
+
+@pytest.fixture(scope="session")
+def suite_seed():
+    return SUITE_SEED
 
 
 @pytest.fixture(scope="session")
@@ -25,8 +42,22 @@ def demo_site(tmp_path_factory):
 
 
 @pytest.fixture(scope="session")
-def quick_update_settings():
-    """The update settings every demo-site test uses (same hash -> shared posterior)."""
-    from assess.assessment.site_update import UpdateSettings
+def quick_settings():
+    """The run settings every demo-site test uses (same hash -> shared posteriors):
+    those of ``assess ... --quick --seed SUITE_SEED``."""
+    from assess.site.settings import RunSettings
 
-    return UpdateSettings(draws=1000, tune=500, seed=20261202)
+    return RunSettings(seed=SUITE_SEED, quick=True)
+
+
+@pytest.fixture(scope="session")
+def demo_update(demo_site, quick_settings):
+    """The demo site and its materials update with `quick_settings` (shared, not recorded)."""
+    from assess.site.materials import update_site
+    from inspection_io.site import load_site
+
+    site = load_site(demo_site)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        update = update_site(site, settings=quick_settings)
+    return site, update

@@ -7,13 +7,14 @@ target (JCSS PMC Part 1 / ISO 2394 annual ULS target for CC2, normal cost: 4.2).
 
 import json
 
+from conftest import SUITE_SEED
 from typer.testing import CliRunner
 
 import assess.cli.life  # noqa: F401  (registers the command)
 from assess.cli import app
 from inspection_io.ledger import Ledger
 
-SEED = "20261202"
+SEED = str(SUITE_SEED)  # the session's seed: the stored posteriors are shared
 
 
 def run(*args):

@@ -7,7 +7,6 @@ command reuses the stored posterior and its ledger rows and plots stay here.
 
 import json
 import shutil
-import warnings
 
 import pytest
 from typer.testing import CliRunner
@@ -27,14 +26,8 @@ def run(*args):
 
 
 @pytest.fixture(scope="module")
-def site(demo_site, tmp_path_factory):
-    from assess.cli.members import run_update
-    from inspection_io.site import load_site
-
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        # the command's own update settings (--quick, default seed and draws)
-        run_update(load_site(demo_site), seed=20261202, draws=1000, quick=True, record=False)
+def site(demo_site, demo_update, tmp_path_factory):
+    # the command's own update settings (--quick, the session seed): stored posterior shared
     folder = tmp_path_factory.mktemp("worth") / "tanners-yard"
     shutil.copytree(demo_site, folder)
     return folder
@@ -42,7 +35,7 @@ def site(demo_site, tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def json_run(site):
-    result = run("worth", site, "--quick", "--json", "--outcomes", 200)
+    result = run("worth", site, "--quick", "--seed", SUITE_SEED, "--json", "--outcomes", 200)
     assert result.exit_code == 0, result.stderr
     return json.loads(result.stdout)
 
@@ -73,7 +66,7 @@ def test_json_gives_the_ranking(json_run, site):
 
 
 def test_table_output_names_the_upper_bound(site, json_run):
-    result = run("worth", site, "--quick", "--outcomes", 50, "--no-plots",
+    result = run("worth", site, "--quick", "--seed", SUITE_SEED, "--outcomes", 50, "--no-plots",
                  "--member", json_run["member"])
     assert result.exit_code == 0, result.stderr
     assert "value of perfect information" in result.stdout

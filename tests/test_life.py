@@ -13,7 +13,6 @@ References
   reference for the corrosion posterior.
 """
 
-import json
 import math
 
 import numpy as np
@@ -21,9 +20,9 @@ import pytest
 from scipy import integrate, optimize, stats
 
 from assess.distributions import make_distribution
-from assess.life.corrosion_inputs import (CorrosionInputs, age_at, update_corrosion,
+from assess.site.corrosion import (CorrosionInputs, age_at, update_corrosion,
                                           zone_corrosion_inputs)
-from assess.life.projection import (ALREADY_BELOW, BEYOND, CROSSES, area_factor, beta_band,
+from assess.site.projection import (ALREADY_BELOW, BEYOND, CROSSES, area_factor, beta_band,
                                     estimate_curves, project_member, project_site,
                                     remaining_life)
 from assess.model import ProbabilisticModel
@@ -32,14 +31,10 @@ SEED = 20261202
 
 
 @pytest.fixture(scope="module")
-def prepared(demo_site):
+def prepared(demo_update, quick_settings):
     """Demo site updated exactly as ``assess life --quick`` does (stored posteriors are shared)."""
-    from assess.cli.members import run_update
-    from inspection_io.site import load_site
-
-    site = load_site(demo_site)
-    update = run_update(site, seed=SEED, draws=1000, quick=True, record=False)
-    fit = update_corrosion(site, seed=SEED, draws=1000, tune=500)
+    site, update = demo_update
+    fit = update_corrosion(site, settings=quick_settings)
     corrosion = zone_corrosion_inputs(site, fit, seed=SEED)
     return site, update, fit, corrosion
 
@@ -137,7 +132,7 @@ def test_corrosion_inputs_keep_marginals_and_copula():
 
 # -- the demo site ----------------------------------------------------------------------
 def test_beta_now_equals_the_after_beta_of_assess_members(prepared):
-    from assess.assessment.before_after import assess_members
+    from assess.site.before_after import assess_members
 
     site, update, _, corrosion = prepared
     for member in ("S4-01", "C3-C4"):
@@ -175,42 +170,3 @@ def test_beta_never_increases_and_remaining_life_is_consistent(prepared):
     by_key = {(c.member, c.mode): c for c in curves}
     assert by_key[("S3-02", "system")].beta[-1] < by_key[("S3-02", "system")].beta[0] - 0.3
     assert age_at(site, site.site.assessment_date) > 50.0
-
-
-# Credible level of the coverage checks: central 99 % posterior intervals. The t_i and
-# i_corr of a zone are estimated from a few break-outs and a half-cell grid, so a much
-# narrower interval (e.g. 90 %) would fail on ordinary scatter of the demo data; the
-# 0.5 % and 99.5 % quantiles of 4000 draws with ESS >= 400 (convergence gate) carry a
-# Monte Carlo error of about sqrt(0.005 x 0.995 / 400) = 0.35 % in probability, so a
-# level beyond 99 % would not be estimated reliably. With 8 such checks of calibrated
-# posteriors, at least one miss has probability 1 - 0.99^8 = 8 %.
-COVERAGE_LEVEL = 0.99
-L1_INITIATION_MISS = (
-    "Known miss, reported rather than loosened: the L1 t_i posterior (median about 110 yr) "
-    "puts the generating 84.8 yr at its 0.25 % quantile. Both L1 data sets fall on the "
-    "late side by chance: the 17 carbonation depths give k = 2.89 +- 0.11 mm/sqrt(yr) "
-    "against the generating 3.19 (2.7 standard errors), and only about 3 of 55 half-cell "
-    "readings are active where the generating cover model expects 6.5.")
-CORROSION_CHECKS = [
-    pytest.param("L1", "initiation_time", "initiation_time",
-                 marks=pytest.mark.xfail(strict=True, reason=L1_INITIATION_MISS)),
-    ("L1", "corrosion_rate", "i_corr"),
-    ("L2", "initiation_time", "initiation_time"), ("L2", "corrosion_rate", "i_corr"),
-    ("L3", "initiation_time", "initiation_time"), ("L3", "corrosion_rate", "i_corr"),
-    ("L4", "initiation_time", "initiation_time"), ("L4", "corrosion_rate", "i_corr"),
-]
-
-
-@pytest.mark.parametrize("zone, name, truth_key", CORROSION_CHECKS)
-def test_corrosion_posterior_covers_the_demo_truth(prepared, demo_site, zone, name, truth_key):
-    # Outside reference: the parameters that generated the demo data (truth.json);
-    # "initiation_time" there is at the zone's mean cover, the model's t_i is the zone
-    # median of the local initiation times (3-4 % earlier for a cover CoV of 0.2).
-    from assess.life.corrosion_inputs import corrosion_evidence
-
-    site, _, fit, _ = prepared
-    assert corrosion_evidence(site).counts[zone]["section_loss"] > 0  # a zone with break-outs
-    truth = json.loads((demo_site / "truth.json").read_text())["zones"][zone]
-    tail = (1.0 - COVERAGE_LEVEL) / 2.0
-    low, high = np.quantile(fit.zone_draws(zone)[name], [tail, 1.0 - tail])
-    assert low <= truth[truth_key] <= high, (zone, name, low, high, truth[truth_key])

@@ -8,7 +8,7 @@ R = 1 the deepest pit is the uniform front itself (no extra loss).
 
 import numpy as np
 
-from assess.life.projection import area_factor
+from assess.site.projection import area_factor
 
 
 def test_pit_never_leaves_more_steel_than_uniform_corrosion():

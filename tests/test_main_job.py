@@ -14,14 +14,27 @@ import subprocess
 import numpy as np
 import pytest
 
-from assess.main_job import JobSettings, run_site
+from assess.report.job import run_and_report
 from inspection_io.ledger import Ledger
 
 
 @pytest.fixture(scope="module")
-def job(demo_site):
-    run, html_path, json_path = run_site(demo_site, JobSettings(quick=True))
+def job(demo_site, quick_settings):
+    run, html_path, json_path = run_and_report(demo_site, quick_settings)
     return run, html_path, json_path, json.loads(json_path.read_text())
+
+
+def test_every_step_is_done_and_recorded_once(job, demo_site):
+    run, _, _, numbers = job
+    assert {name: r.status for name, r in run.records.items()} == {
+        name: "done" for name in ("materials", "members", "corrosion", "life", "worth", "history")}
+    assert set(numbers["numbers"]["steps"]) == set(run.records)
+    with Ledger(demo_site) as ledger:
+        steps = [r for r in ledger.results(kind="step") if r.settings.get("run", {}).get("seed")
+                 == run.settings.seed]
+        kinds = {r.kind for r in ledger.results()}
+    assert {"reliability", "remaining_life", "worth", "history", "posterior"} <= kinds
+    assert {r.mode for r in steps} >= set(run.records)
 
 
 def test_report_files_are_new_and_named_alike(job):
@@ -73,14 +86,14 @@ def test_system_beta_never_exceeds_its_weakest_mode(job):
 
 
 def test_sampling_beta_agrees_with_form_on_the_same_member_model(job):
-    from assess.assessment.members import build_member_model
+    from assess.site.member_models import build_member_model
     from assess.reliability.dispatch import run_method
 
     run, _, _, numbers = job
     row = next(r for r in numbers["numbers"]["members"]
                if r["member"] == "S3-02" and r["mode"] == "flexure")
     member = run.site.members["S3-02"]
-    model = build_member_model(run.site, member, run.update.after[member.zone],
+    model = build_member_model(run.site, member, run.result("materials").after[member.zone],
                                reference_period_years=1.0)
     form = run_method(model.problem(["flexure"]), "form")
     assert form.converged
@@ -90,22 +103,11 @@ def test_sampling_beta_agrees_with_form_on_the_same_member_model(job):
     assert abs(form.pf - pf) <= 3 * row["cov_after"] * pf + 0.3 * pf
 
 
-def test_posterior_of_concrete_covers_the_generating_value(job, demo_site):
-    run, _, _, numbers = job
-    truth = json.loads((demo_site / "truth.json").read_text())
-    from assess.updating.models import group_draws
-
-    for zone in run.site.zones:
-        mu, _ = group_draws(run.update.idata, zone, name="concrete")
-        low, high = np.quantile(mu, [0.005, 0.995])
-        assert low <= truth["zones"][zone]["mu_log_fc"] <= high
-
-
 def test_history_falls_for_corroding_members_and_uses_no_later_data(job, demo_site):
     run, _, _, numbers = job
-    history = run.history
+    history = run.result("history").entries
     assert [h.date for h in history] == sorted(h.date for h in history)
-    with Ledger(demo_site / "ledger.sqlite") as ledger:
+    with Ledger(demo_site) as ledger:
         for entry in history:
             used = sum(sum(z.values()) for z in entry.counts.values())
             later = ledger.observations(until_date=entry.data_until)
@@ -115,7 +117,7 @@ def test_history_falls_for_corroding_members_and_uses_no_later_data(job, demo_si
             assert (dates["date"] <= entry.data_until).sum() >= used
     # Zone L3 is the most corroded (truth: earliest initiation): its members' beta falls
     # from the first to the last campaign by more than the estimators' noise.
-    from assess.assessment.history import governing_rows
+    from assess.site.history import governing_rows
 
     series = governing_rows(history)
     for member in ("S3-02", "B3-04"):
@@ -126,7 +128,7 @@ def test_history_falls_for_corroding_members_and_uses_no_later_data(job, demo_si
 def test_report_numbers_match_the_ledger(job, demo_site):
     _, _, _, numbers = job
     rows = numbers["numbers"]["members"]
-    with Ledger(demo_site / "ledger.sqlite") as ledger:
+    with Ledger(demo_site) as ledger:
         stored = ledger.results(kind="reliability")
     latest = {(r.member, r.mode): r.payload for r in stored}
     for row in rows:

@@ -9,7 +9,9 @@ import matplotlib
 
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
-import numpy as np  # noqa: E402
+import numpy as np
+
+from assess.life.crossing import target_crossing_time  # noqa: E402
 import pytest  # noqa: E402
 from matplotlib.dates import num2date  # noqa: E402
 from matplotlib.figure import Figure  # noqa: E402
@@ -115,9 +117,9 @@ def test_target_crossing_time_linear_closed_form():
     # beta(t) = 4.6 - 0.04 t crosses 4.2 at t = 10 exactly; a coarse grid must
     # still find it (linear interpolation is exact for a straight line).
     t = np.array([0.0, 7.0, 14.0, 30.0])
-    assert plots.target_crossing_time(t, 4.6 - 0.04 * t, TARGET) == pytest.approx(10.0)
-    assert np.isnan(plots.target_crossing_time(t, np.full(4, 5.0), TARGET))
-    assert plots.target_crossing_time(t, np.full(4, 3.0), TARGET) == 0.0
+    assert target_crossing_time(t, 4.6 - 0.04 * t, TARGET) == pytest.approx(10.0)
+    assert np.isnan(target_crossing_time(t, np.full(4, 5.0), TARGET))
+    assert target_crossing_time(t, np.full(4, 3.0), TARGET) == 0.0
 
 
 def test_beta_over_time_curves_band_and_crossings():

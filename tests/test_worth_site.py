@@ -19,7 +19,7 @@ from assess.model import ProbabilisticModel
 from assess.targets import convert_reference_period
 from assess.worth import rank_programmes
 from assess.worth.decision_file import parse_decision_setup, read_decision_setup
-from assess.worth.site import (ALTERNATIVE_NAMES, QuadraticSurrogate, add_fixed_quantity,
+from assess.site.worth_decision import (ALTERNATIVE_NAMES, QuadraticSurrogate, add_fixed_quantity,
                                build_site_decision, farthest_point_design)
 
 DEMO_DECISIONS = Path(__file__).resolve().parents[1] / "demo_sites" / "tanners-yard" / \
@@ -120,16 +120,9 @@ def test_farthest_point_design_takes_the_extremes_first():
 
 # --------------------------------------------------------------------------- the demo site
 @pytest.fixture(scope="module")
-def update(demo_site):
-    from assess.cli.members import run_update
-    from inspection_io.site import load_site
-
-    site = load_site(demo_site)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        # the update of `assess worth --quick` (same hash: its stored posterior is shared)
-        result = run_update(site, seed=20261202, draws=1000, quick=True, record=False)
-    return site, result
+def update(demo_update):
+    # the update of `assess worth --quick` (same hash: its stored posterior is shared)
+    return demo_update
 
 
 @pytest.fixture(scope="module")
@@ -210,7 +203,7 @@ def test_a_programme_in_another_zone_is_worth_about_nothing(update, decision):
                                    n_design=48, seed=11)
         values = {r.programme: r for r in rank_programmes(
             both.problem, both.programmes, n_outcomes=200, seed=4).results}
-    # The area-ratio populations of the zones are not pooled (assess.assessment.knowledge),
+    # The area-ratio populations of the zones are not pooled (assess.site.knowledge),
     # so break-outs elsewhere say nothing about the member; only chance correlation between
     # the finite posterior draws can give them value.
     assert values["here"].evsi > 0.0

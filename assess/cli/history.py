@@ -9,15 +9,20 @@ import typer
 from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
-from assess.cli.members import (DrawsOption, JsonFlag, QuickFlag, SeedOption, SiteFolder,
-                                load_checked_site)
+from assess.cli.members import new_run, run_with_status
+from assess.cli.options import (DrawsOption, JsonFlag, QuickFlag, SamplerOption, SamplingOption,
+                                SeedOption, SiteFolder, TargetAcceptOption, TuneOption)
+from assess.errors import InputError
 from assess.reliability.result import format_beta
+from assess.site.settings import DEFAULT_SEED
 
 
 @app.command("history")
 @guard
-def history_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: DrawsOption = 1000,
-                    quick: QuickFlag = False,
+def history_command(folder: SiteFolder, seed: SeedOption = DEFAULT_SEED,
+                    draws: DrawsOption = None, tune: TuneOption = None,
+                    target_accept: TargetAcceptOption = None, sampler: SamplerOption = None,
+                    sampling: SamplingOption = None, quick: QuickFlag = False,
                     plots: Annotated[bool, typer.Option("--plots/--no-plots",
                                                         help="Write a PNG to results/plots/.")] = True,
                     json_output: JsonFlag = False):
@@ -27,31 +32,32 @@ def history_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: Draw
     target, appends every re-assessment to the ledger, and plots beta against
     the campaign date.
     """
-    from assess.assessment.history import governing_rows, reassess_history
-    from assess.assessment.site_update import UpdateSettings
     from assess.report.files import save_figure
     from assess.report.plots import plot_beta_history
+    from assess.site.history import governing_rows
+    from assess.site.paths import has_ledger, plots_folder
 
-    site = load_checked_site(folder)
-    settings = UpdateSettings(draws=draws, tune=500 if quick else 1000, seed=seed)
-    options = {"n_per_level": 500 if quick else 1000}
-    with err_console.status("Re-assessing the site campaign by campaign (MCMC per campaign) ..."):
-        history = reassess_history(site, settings=settings, seed=seed, options=options)
+    run = new_run(folder, seed=seed, quick=quick, draws=draws, tune=tune,
+                  target_accept=target_accept, sampler=sampler, sampling=sampling)
+    if not has_ledger(run.site.folder):
+        raise InputError("no campaign has been imported yet: run 'assess site import' first",
+                         file=run.site.folder)
+    history = run_with_status(run, "history").entries
     if not history:
-        err_console.print("No campaign has been imported yet: run 'assess site import' first.")
-        raise typer.Exit(code=2)
+        raise InputError("no campaign has been imported yet: run 'assess site import' first",
+                         file=run.site.folder)
     series = governing_rows(history)
     target = history[-1].assessment.target
     plot_path = None
     if plots:
         fig = plot_beta_history([h.date for h in history], series, target.beta)
-        plot_path = save_figure(fig, site.folder / "results" / "plots", "beta-history")
+        plot_path = save_figure(fig, plots_folder(run.site.folder), "beta-history")
     if json_output:
         emit_json({"campaigns": [{"campaign": h.campaign, "date": h.date.isoformat(),
-                                              "data_until": h.data_until.isoformat(),
-                                              "counts": h.counts} for h in history],
-                               "rows": [row for h in history for row in h.rows()],
-                               "target": target.beta, "plot": str(plot_path) if plot_path else None})
+                                  "data_until": h.data_until.isoformat(),
+                                  "counts": h.counts} for h in history],
+                   "rows": [row for h in history for row in h.rows()],
+                   "target": target.beta, "plot": str(plot_path) if plot_path else None})
         return
     table = Table(title=f"Beta after updating per campaign (member system, "
                         f"{target.reference_period_years:g}-year), target {target.beta:.1f}")
@@ -62,7 +68,7 @@ def history_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: Draw
         table.add_row(member, *[_fmt(v, target.beta) for v in values])
     out_console.print(table)
     if plot_path:
-        err_console.print(f"Plot: {plot_path}", highlight=False)
+        err_console.print(f"Plot: {plot_path}", highlight=False, markup=False)
     print_caution()
 
 

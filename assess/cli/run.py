@@ -8,14 +8,19 @@ import typer
 from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
-from assess.cli.members import (DrawsOption, JsonFlag, QuickFlag, SeedOption, SiteFolder,
-                                _fmt_beta, load_checked_site)
+from assess.cli.members import _fmt_beta
+from assess.cli.options import (DrawsOption, JsonFlag, QuickFlag, SamplerOption, SamplesOption,
+                                SamplingOption, SeedOption, SiteFolder, TargetAcceptOption,
+                                TuneOption, load_checked_site, make_settings)
+from assess.site.settings import DEFAULT_SEED
 
 
 @app.command("run")
 @guard
-def run_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: DrawsOption = 1000,
-                quick: QuickFlag = False,
+def run_command(folder: SiteFolder, seed: SeedOption = DEFAULT_SEED, draws: DrawsOption = None,
+                tune: TuneOption = None, target_accept: TargetAcceptOption = None,
+                sampler: SamplerOption = None, sampling: SamplingOption = None,
+                quick: QuickFlag = False, samples: SamplesOption = None,
                 history: Annotated[bool, typer.Option("--history/--no-history",
                                                       help="Re-assess campaign by campaign.")] = True,
                 json_output: JsonFlag = False):
@@ -25,14 +30,19 @@ def run_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: DrawsOpt
     computes beta before and after for every member [-], the remaining-life
     curves, the value of further testing (if decisions.toml exists) and the
     history over campaigns, then writes an HTML report and a JSON of all numbers
-    to results/reports/ (new files every run; nothing is overwritten).
+    to results/reports/ (new files every run; nothing is overwritten). A step that
+    fails is reported as not available, with what to do, and the others still
+    run; the exit code is then 1 (2 when the failure came from bad input).
     """
     from rich.progress import Progress, SpinnerColumn, TextColumn, TimeElapsedColumn
 
-    from assess.main_job import JobSettings, run_site
+    from assess.pipeline import exit_code
+    from assess.report.job import run_and_report
 
-    load_checked_site(folder)
-    settings = JobSettings(seed=seed, quick=quick, draws=draws, history=history)
+    site = load_checked_site(folder)
+    settings = make_settings(site, seed=seed, quick=quick, draws=draws, tune=tune,
+                             target_accept=target_accept, sampler=sampler, sampling=sampling,
+                             reliability_samples=samples, history=history)
     with Progress(SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(),
                   console=err_console, transient=False) as progress:
         current = {"task": None}
@@ -40,25 +50,42 @@ def run_command(folder: SiteFolder, seed: SeedOption = 20261202, draws: DrawsOpt
         def step(text: str) -> None:
             if current["task"] is not None:
                 progress.update(current["task"], completed=1, total=1)
-            current["task"] = progress.add_task(text, total=None)
+            current["task"] = progress.add_task(text.replace("[", r"\["), total=None)
 
-        run, html_path, json_path = run_site(folder, settings, step=step)
+        run, html_path, json_path = run_and_report(folder, settings, say=step)
         if current["task"] is not None:
             progress.update(current["task"], completed=1, total=1)
+    code = exit_code(run)
+    members = run.result("members")
     if json_output:
         emit_json({"report": str(html_path), "numbers": str(json_path),
-                               "results": [r.to_dict() for r in run.assessment.results]})
-        return
-    target = run.assessment.target
+                   "steps": {name: r.to_dict() for name, r in run.records.items()},
+                   "results": [r.to_dict() for r in members.results] if members else []})
+    else:
+        if members is not None:
+            _print_members(members)
+        for record in run.failed:
+            err_console.print(f"Not available: {record.title}. {record.reason}",
+                              highlight=False, markup=False, soft_wrap=True)
+            if record.fix:
+                err_console.print(f"What to do: {record.fix}", highlight=False, markup=False,
+                                  soft_wrap=True)
+        out_console.print(f"Report: {html_path}", highlight=False, markup=False)
+        out_console.print(f"Numbers: {json_path}", highlight=False, markup=False)
+        print_caution()
+    if code:
+        raise typer.Exit(code=code)
+
+
+def _print_members(assessment) -> None:
+    target = assessment.target
     table = Table(title=f"Member systems: beta after updating against the target {target.beta:.1f}")
     for col in ("member", "mode", "beta before", "beta after", "verdict"):
         table.add_column(col)
-    for r in run.assessment.results:
+    results = assessment.results
+    for r in results:
         if r.mode == "system" or not any(o.member == r.member and o.mode == "system"
-                                         for o in run.assessment.results):
+                                         for o in results):
             table.add_row(r.member, r.mode, _fmt_beta(r.before.beta), _fmt_beta(r.after.beta),
                           r.verdict)
     out_console.print(table)
-    out_console.print(f"Report: {html_path}")
-    out_console.print(f"Numbers: {json_path}")
-    print_caution()

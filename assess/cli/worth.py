@@ -10,9 +10,12 @@ import typer
 from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console
-from assess.cli.members import (DrawsOption, JsonFlag, QuickFlag, SeedOption, SiteFolder,
-                                load_checked_site, run_update)
+from assess.cli.members import new_run, run_with_status
+from assess.cli.options import (DrawsOption, JsonFlag, QuickFlag, SamplerOption, SamplingOption,
+                                SeedOption, SiteFolder, TargetAcceptOption, TuneOption)
 from assess.errors import InputError
+from assess.site.settings import DEFAULT_SEED
+
 
 def _money(currency: str, value: float) -> str:
     return f"{currency} {value:,.0f}"
@@ -34,7 +37,9 @@ def worth_command(
                                 "site folder.")] = None,
         outcomes: Annotated[int, typer.Option(
             "--outcomes", help="Simulated test outcomes per programme [-].")] = 500,
-        seed: SeedOption = 20261202, draws: DrawsOption = 1000, quick: QuickFlag = False,
+        seed: SeedOption = DEFAULT_SEED, draws: DrawsOption = None, tune: TuneOption = None,
+        target_accept: TargetAcceptOption = None, sampler: SamplerOption = None,
+        sampling: SamplingOption = None, quick: QuickFlag = False,
         plots: Annotated[bool, typer.Option("--plots/--no-plots",
                                             help="Write a PNG plot to results/plots/.")] = True,
         json_output: JsonFlag = False):
@@ -48,24 +53,26 @@ def worth_command(
     and the chance that the test shows the member adequate; rows are appended to
     the ledger.
     """
+    from assess.report.figures import worth_figure
     from assess.report.files import save_figure
-    from assess.worth.decision_file import DEFAULT_FILE_NAME, read_decision_setup
-    from assess.worth.site_summary import DESIGN_POINTS, compute_site_worth
-    from inspection_io.ledger import Ledger
+    from assess.site.paths import file_stem, plots_folder
+    from assess.site.worth import DESIGN_POINTS
 
-    if outcomes < 2:
-        raise InputError(f"--outcomes must be a whole number >= 2, got {outcomes}",
+    if not 2 <= outcomes <= 100_000:
+        raise InputError(f"--outcomes must be a whole number from 2 to 100000, got {outcomes}",
                          column="--outcomes")
-    site = load_checked_site(folder)
-    decision_path = decisions if decisions is not None else site.folder / DEFAULT_FILE_NAME
+    run = new_run(folder, seed=seed, quick=quick, draws=draws, tune=tune,
+                  target_accept=target_accept, sampler=sampler, sampling=sampling,
+                  worth_outcomes=outcomes, worth_member=member, decisions_file=decisions)
+    decision_path = decisions if decisions is not None else run.site.folder / "decisions.toml"
     if not decision_path.is_file():
         raise InputError("decision file not found; write one (see docs/decision-file.md) or "
                          "give it with --decisions", file=decision_path)
-    setup = read_decision_setup(decision_path)
-    update = run_update(site, seed=seed, draws=draws, quick=quick)
-    with err_console.status("Value of information ...") as status:
-        worth = compute_site_worth(site, update, setup, member=member, outcomes=outcomes,
-                                   seed=seed, progress=lambda text: status.update(text + " ..."))
+    if member is not None and member not in run.site.members:
+        raise InputError(f"member {member!r} is not in the site file; members are "
+                         f"{', '.join(run.site.members)}", column="--member")
+    worth = run_with_status(run, "worth")
+    update = run.result("materials")
     decision, ranking = worth.decision, worth.ranking
     ranking_warnings = [w for r in ranking.results for w in r.warnings]
 
@@ -73,23 +80,12 @@ def worth_command(
     if plots:
         import matplotlib.pyplot as plt
 
-        figure = worth.figure()
-        plot_path = save_figure(figure, site.folder / "results" / "plots",
-                                f"worth-{decision.member}")
+        figure = worth_figure(worth)
+        plot_path = save_figure(figure, plots_folder(run.site.folder),
+                                file_stem("worth", decision.member))
         plt.close(figure)
 
     problem = decision.problem
-    settings = {"outcomes": outcomes, "theta_draws": problem.n_draws,
-                "design_points": DESIGN_POINTS, "quick": quick,
-                "posterior_hash": update.data_hash, "horizon_years": decision.horizon_years,
-                "discount_rate": setup.discount_rate,
-                "decision_file": str(decision_path)}
-    summaries = worth.summaries()
-    with Ledger(site.folder / "ledger.sqlite") as ledger:
-        for summary in summaries:
-            ledger.append_result("worth", summary, member=decision.member,
-                                 mode=summary["programme"], seed=summary["seed"],
-                                 settings=settings)
     first = ranking.results[0]
     payload = worth.to_dict()
     payload["plot"] = str(plot_path) if plot_path else None
@@ -119,7 +115,7 @@ def worth_command(
     out_console.print(f"Upper bound (value of perfect information): {money(first.evpi)} "
                       f"(MC std. error {money(first.evpi_standard_error)}). Best alternative "
                       f"on present knowledge: '{first.prior_decision}'.", highlight=False)
-    out_console.print(ranking.recommendation, highlight=False, soft_wrap=True)
+    out_console.print(ranking.recommendation, highlight=False, soft_wrap=True, markup=False)
     err_console.print(f"Target over the horizon: {decision.horizon_target_beta:.2f} (annual "
                       f"{decision.target.beta:g}; {decision.target.source})", highlight=False)
     worst = worth.largest_surrogate_error()
@@ -127,6 +123,6 @@ def worth_command(
                       f"largest leave-one-out error {worst:.3f} in beta.", highlight=False)
     for note in decision.notes:
         if note not in ranking_warnings:
-            err_console.print(f"Note: {note}", highlight=False, soft_wrap=True)
+            err_console.print(f"Note: {note}", highlight=False, soft_wrap=True, markup=False)
     if plot_path:
-        err_console.print(f"Plot: {plot_path}", highlight=False)
+        err_console.print(f"Plot: {plot_path}", highlight=False, markup=False)

@@ -10,64 +10,90 @@ import dataclasses
 import math
 
 import assess
-from assess.assessment.figures import (LABELS, before_after_figure, predictive_draws,
-                                       prior_posterior_figures)
-from assess.assessment.knowledge import QUANTITIES
 from assess.reliability.result import format_beta
 from assess.report.document import ReportDocument
+from assess.report.figures import (before_after_figure, life_figure, prior_posterior_figures,
+                                   worth_figure)
+from assess.site.knowledge import LABELS, knowledge_rows
+from assess.site.run import DONE, SKIPPED
 
 KIND_TITLES = {"cores": "Cores (in-situ strength)", "tensile": "Rebar tensile tests",
                "cover": "Cover survey", "carbonation": "Carbonation depths",
                "chloride": "Chloride profiles", "halfcell": "Half-cell potentials",
                "section_loss": "Section loss at break-outs"}
 
-
-@dataclasses.dataclass
-class RunResults:
-    """Everything one run of the main job produced (optional parts may be None)."""
-
-    site: object
-    update: object
-    assessment: object
-    data_summaries: dict
-    flagged: list
-    life: object = None
-    worth: object = None
-    history: object = None
-    settings: dict = dataclasses.field(default_factory=dict)
-    warnings: list = dataclasses.field(default_factory=list)
+NO_TEST_DATA = ("No test data has been used yet: every result in this report rests on the design "
+                "information and the published priors alone ('before' and 'after' are the same). "
+                "Import the site's inspection campaigns (assess site import) to update them.")
 
 
 def _fmt_beta(beta) -> str:
     return format_beta(beta, minus_infinity="-")
 
 
-def build_report(run: RunResults) -> tuple[ReportDocument, dict]:
-    """The report document and the dictionary of all its numbers."""
+def build_report(run) -> tuple[ReportDocument, dict]:
+    """The report document and the dictionary of all its numbers, from a `SiteRun`.
+
+    A step that failed or did not run gets a "not available" section saying why
+    and what to do, in place of its results.
+    """
     site = run.site
-    target = run.assessment.target
+    from assess.targets import target_beta
+
+    target = target_beta(site.target.consequence_class, float(site.target.reference_period),
+                         site.target.cost_of_safety)
+    settings = run.settings.to_dict()
     doc = ReportDocument(
         f"Reliability assessment: {site.site.name}",
         subtitle=f"{site.site.structure or 'structure'} built {site.site.year_built}, "
                  f"assessed {site.site.assessment_date.isoformat()}",
-        metadata={"tool version": assess.__version__, "seed": run.settings.get("seed"),
-                  "mode": "quick" if run.settings.get("quick") else "full"})
+        metadata={"tool version": assess.__version__, "seed": settings["seed"],
+                  "mode": "quick" if settings["quick"] else "full"})
     for warning in run.warnings:
         doc.add_warning(warning)
-    numbers: dict = {"site": _site_numbers(site), "settings": run.settings}
+    update = run.result("materials")
+    has_data = update is not None and update.has_data
+    if not has_data:
+        doc.add_warning(NO_TEST_DATA)
+    numbers: dict = {"site": _site_numbers(site), "settings": settings,
+                     "warnings": list(run.warnings), "test_data_used": bool(has_data),
+                     "steps": {name: r.to_dict() for name, r in run.records.items()}}
 
     _section_structure(doc, site, target)
     numbers["data"] = _section_data(doc, run)
-    numbers["knowledge"] = _section_knowledge(doc, run)
-    numbers["members"] = _section_members(doc, run)
-    if run.life is not None:
-        numbers["remaining_life"] = _section_life(doc, run)
-    if run.worth is not None:
-        numbers["value_of_information"] = _section_worth(doc, run)
-    if run.history is not None:
-        numbers["history"] = _section_history(doc, run)
-    numbers["sources"] = _section_sources(doc, run)
+    sections = (("materials", "knowledge", _section_knowledge),
+                ("members", "members", _section_members),
+                ("life", "remaining_life", _section_life),
+                ("worth", "value_of_information", _section_worth),
+                ("history", "history", _section_history))
+    for step, key, write in sections:
+        record = run.records.get(step)
+        if record is None:
+            continue
+        if record.status == DONE:
+            numbers[key] = write(doc, run)
+        elif not (record.status == SKIPPED and step == "worth"):
+            _section_not_available(doc, record)
+    numbers["steps_overview"] = _section_steps(doc, run)
+    numbers["sources"] = _section_sources(doc, run, target)
     return doc, numbers
+
+
+def _section_not_available(doc, record) -> None:
+    sec = doc.add_section(f"{record.title}: not available")
+    what = "failed" if record.status != SKIPPED else "did not run"
+    sec.add_notice([f"This step {what}: {record.reason}"]
+                   + ([f"What to do: {record.fix}"] if record.fix else []),
+                   title="Not available", kind="warning")
+
+
+def _section_steps(doc, run) -> list:
+    sec = doc.add_section("How this run went")
+    rows = [{"step": r.title, "outcome": r.status, "time [s]": round(r.seconds, 1),
+             "reason": r.reason.splitlines()[0] if r.reason else ""}
+            for r in run.records.values()]
+    sec.add_table(rows, caption="Steps of the run, in order")
+    return rows
 
 
 def _site_numbers(site) -> dict:
@@ -125,7 +151,7 @@ def _section_data(doc, run) -> dict:
 
 
 def _section_knowledge(doc, run) -> dict:
-    update = run.update
+    update = run.result("materials")
     sec = doc.add_section("From design information to site evidence")
     sec.add_paragraph(
         "Each zone's concrete strength, reinforcement yield strength, cover and residual bar "
@@ -133,15 +159,10 @@ def _section_knowledge(doc, run) -> dict:
         "tests update them by Markov chain Monte Carlo (PyMC, NUTS). No result is reported from "
         "a run that fails the convergence gate (R-hat <= 1.01, bulk and tail effective sample "
         "size >= 400, no divergences).")
-    rows = []
-    for zone in run.site.zones:
-        for name, spec in QUANTITIES.items():
-            prior = predictive_draws(update.before[zone][name], spec.log)
-            post = predictive_draws(update.after[zone][name], spec.log)
-            n = 0 if update.data[name].empty else int((update.data[name]["zone"] == zone).sum())
-            rows.append({"zone": zone, "quantity": LABELS[name][0], "unit": spec.unit, "tests": n,
-                         "prior mean": float(prior.mean()), "prior std": float(prior.std()),
-                         "posterior mean": float(post.mean()), "posterior std": float(post.std())})
+    rows = [{"zone": r["zone"], "quantity": r["label"], "unit": r["unit"], "tests": r["tests"],
+             "prior mean": r["prior_mean"], "prior std": r["prior_std"],
+             "posterior mean": r["posterior_mean"], "posterior std": r["posterior_std"]}
+            for r in knowledge_rows(run.site, update)]
     sec.add_table(rows, caption="Predictive mean and standard deviation, design prior and after tests",
                   formats={"prior mean": ".4g", "prior std": ".3g", "posterior mean": ".4g",
                            "posterior std": ".3g"})
@@ -152,6 +173,8 @@ def _section_knowledge(doc, run) -> dict:
                             "chains x draws": f"{gate['chains']} x {gate['draws']}",
                             "posterior file": str(update.posterior_path)},
                            caption="Convergence diagnostics (gate passed)")
+    else:
+        sec.add_notice([NO_TEST_DATA], title="Design information only")
     for (name, zone), fig in prior_posterior_figures(update).items():
         if name in ("concrete", "area_ratio"):
             sec.add_figure(fig, caption=f"{LABELS[name][0]}, zone {zone}: design prior and "
@@ -164,7 +187,7 @@ def _section_knowledge(doc, run) -> dict:
 
 
 def _section_members(doc, run) -> list:
-    a = run.assessment
+    a = run.result("members")
     sec = doc.add_section("Reliability of each member now")
     sec.add_paragraph(
         f"Beta before uses the design information only; beta after uses the site's evidence. "
@@ -188,40 +211,37 @@ def _section_members(doc, run) -> list:
 
 
 def _section_life(doc, run) -> object:
-    life = run.life
+    life = run.result("life")
     sec = doc.add_section("How long the members last")
-    rows = life.table_rows() if hasattr(life, "table_rows") else life.get("rows", [])
-    sec.add_paragraph(getattr(life, "explanation", "Beta per year with corrosion progressing; "
-                                                    "annual reference period."))
+    sec.add_paragraph(life.explanation)
+    rows = life.table_rows()
     if rows:
         sec.add_table(rows, caption="Remaining life per member (first year beta falls below the target)")
-    figure = life.figure() if hasattr(life, "figure") else None
-    if figure is not None:
-        sec.add_figure(figure, caption="Beta per year against the target")
-    return life.to_dict() if hasattr(life, "to_dict") else life
+        sec.add_figure(life_figure(life), caption="Beta per year against the target")
+    return life.to_dict()
 
 
 def _section_worth(doc, run) -> object:
-    worth = run.worth
+    worth = run.result("worth")
     sec = doc.add_section("Is more testing worth it")
-    rows = worth.table_rows() if hasattr(worth, "table_rows") else worth.get("rows", [])
+    rows = worth.table_rows()
     if rows:
         sec.add_table(rows, caption="Candidate test programmes ranked by net value")
-    text = getattr(worth, "recommendation", None)
-    if text:
-        sec.add_paragraph(text)
-    figure = worth.figure() if hasattr(worth, "figure") else None
-    if figure is not None:
-        sec.add_figure(figure, caption="Posterior beta each programme could lead to")
-    return worth.to_dict() if hasattr(worth, "to_dict") else worth
+        sec.add_figure(worth_figure(worth), caption="Posterior beta each programme could lead to")
+    if worth.recommendation:
+        sec.add_paragraph(worth.recommendation)
+    return worth.to_dict()
 
 
 def _section_history(doc, run) -> list:
-    from assess.assessment.history import governing_rows
     from assess.report.plots import plot_beta_history
+    from assess.site.history import governing_rows
 
-    history = run.history
+    history = run.result("history").entries
     sec = doc.add_section("Reliability campaign by campaign")
+    if not history:
+        sec.add_paragraph("No inspection campaign has been imported yet.")
+        return []
     sec.add_paragraph("The site re-assessed as it was known after each campaign, using only the "
                       "data available then (member system, beta after updating).")
     series = governing_rows(history)
@@ -238,18 +258,21 @@ def _section_history(doc, run) -> list:
     return [row for h in history for row in h.rows()]
 
 
-def _section_sources(doc, run) -> dict:
-    from assess.assessment.members import build_member_model
+def _section_sources(doc, run, target) -> dict:
+    from assess.site.knowledge import design_knowledge
+    from assess.site.member_models import build_member_model
 
     sec = doc.add_section("Models, assumptions and their sources")
     sources: dict[str, str] = {}
     site = run.site
+    update = run.result("materials")
+    before = update.before if update is not None else design_knowledge(site)
     for member in site.members.values():
-        model = build_member_model(site, member, run.update.before[member.zone],
-                                   reference_period_years=run.assessment.reference_period_years)
+        model = build_member_model(site, member, before[member.zone],
+                                   reference_period_years=target.reference_period_years)
         for name, source in model.sources.items():
             sources.setdefault(name.split(".")[0], source)
-    sources["target reliability"] = run.assessment.target.source
+    sources["target reliability"] = target.source
     sources["convergence gate"] = ("Vehtari et al. 2021, Bayesian Analysis 16(2): rank-normalised "
                                    "R-hat <= 1.01, ESS >= 400; no divergences")
     sources["posterior into reliability"] = (

@@ -24,6 +24,7 @@ from matplotlib.figure import Figure
 from scipy import stats
 
 from assess.errors import InputError
+from assess.life.crossing import target_crossing_time
 
 #: Line and marker colours, in order of use (blues and greys of our own choosing).
 PALETTE = ("#2b4c6f", "#8a8a8a", "#5d8fbf", "#3d3d3d", "#9fbcd6", "#b3b3b3", "#1f6e8c", "#646464")
@@ -250,38 +251,6 @@ def plot_beta_before_after(members: Sequence[str], beta_before: Any, beta_after:
 # (3) beta(t) remaining-life curves
 
 
-def target_crossing_time(times: Any, beta: Any, beta_target: float) -> float:
-    """First time at which beta(t) falls below the target, by linear interpolation.
-
-    Parameters
-    ----------
-    times : array_like
-        Increasing times [years].
-    beta : array_like
-        Reliability index at those times [-].
-    beta_target : float
-        Target reliability index [-].
-
-    Returns
-    -------
-    float
-        Time of the first down-crossing [years]; ``times[0]`` if beta starts
-        below the target; NaN if it never falls below within `times`.
-    """
-    t = _as_1d(times, "times")
-    b = _as_1d(beta, "beta")
-    below = np.flatnonzero(b < beta_target)
-    if below.size == 0:
-        return math.nan
-    i = int(below[0])
-    if i == 0:
-        return float(t[0])
-    b0, b1 = b[i - 1], b[i]
-    if not np.isfinite(b0):
-        return float(t[i - 1])
-    return float(t[i - 1] + (b0 - beta_target) / (b0 - b1) * (t[i] - t[i - 1]))
-
-
 def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any, *,
                         bands: Mapping[str, tuple[Any, Any]] | None = None,
                         time_label: str = "Time from assessment", time_unit: str = "years",
@@ -496,6 +465,6 @@ def plot_beta_history(dates: Any, history: Mapping[str, Any], beta_target: Any) 
 
 __all__ = [
     "PALETTE", "TARGET_COLOUR", "plot_prior_posterior", "plot_beta_before_after",
-    "plot_beta_over_time", "target_crossing_time", "plot_preposterior_beta",
+    "plot_beta_over_time", "plot_preposterior_beta",
     "share_below_target", "plot_beta_history",
 ]

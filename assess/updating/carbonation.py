@@ -180,7 +180,8 @@ class CarbonationFit:
 
 
 def fit_carbonation(depth_mm, age_years, zone_index, zones, *, priors, seed, draws=1000,
-                    tune=1000, chains=4, target_accept=0.95):
+                    tune=1000, chains=4, target_accept=0.95,
+                    sampler="pymc"):
     """Sample the carbonation model and pass the convergence gate.
 
     Parameters
@@ -204,7 +205,7 @@ def fit_carbonation(depth_mm, age_years, zone_index, zones, *, priors, seed, dra
     seed = sampler_seed(seed, "fit_carbonation")
     model = carbonation_model(depth_mm, age_years, zone_index, zones, priors=priors)
     idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
-                             target_accept=target_accept)
+                             target_accept=target_accept, sampler=sampler)
     names = [n for n in PARAMETER_NAMES if n in idata.posterior]
     gate = require_convergence(idata, names, what="carbonation rates")
     return CarbonationFit(idata=idata, gate=gate, zones=tuple(str(z) for z in zones),

@@ -479,7 +479,7 @@ class ChlorideFit:
 
 
 def fit_chloride(depth_mm, age_years, chloride, zone_index, zones, *, priors, seed,
-                 draws=1000, tune=1000, chains=4, target_accept=0.95):
+                 draws=1000, tune=1000, chains=4, target_accept=0.95, sampler="pymc"):
     """Sample the chloride model and pass the convergence gate.
 
     Parameters
@@ -506,7 +506,7 @@ def fit_chloride(depth_mm, age_years, chloride, zone_index, zones, *, priors, se
     seed = sampler_seed(seed, "fit_chloride")
     model = chloride_model(depth_mm, age_years, chloride, zone_index, zones, priors=priors)
     idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
-                             target_accept=target_accept)
+                             target_accept=target_accept, sampler=sampler)
     names = [n for n in PARAMETER_NAMES if n in idata.posterior]
     gate = require_convergence(idata, names, what="chloride-ingress parameters")
     return ChlorideFit(idata=idata, gate=gate, zones=tuple(str(z) for z in zones),

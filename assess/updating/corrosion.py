@@ -25,7 +25,7 @@ age t is active with probability
     p_active(t) = P(t_i,local < t) = Phi((ln t - ln t_i,z) / s),
 
 with s fixed, one value for all zones or one per zone (e.g. derived from the
-zone's cover scatter, `assess.life.initiation.spatial_log_sd`).
+zone's cover scatter, `assess.site.initiation.spatial_log_sd`).
 
 A reading E is then drawn from the mixture
 p_active f(E | active) + (1 - p_active) f(E | passive), with the normal densities
@@ -127,7 +127,7 @@ class CorrosionModelSettings:
     spatial_log_sd : float, optional
         Scatter s of ln(local t_i) about the zone median [-], the same for every
         zone. None (default) lets the caller derive it per zone (e.g. from the
-        cover survey, `assess.life.initiation.spatial_log_sd`), else
+        cover survey, `assess.site.initiation.spatial_log_sd`), else
         `SPATIAL_LOG_SD`.
     """
 
@@ -521,7 +521,7 @@ class CorrosionFit:
 def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
                   spatial_log_sd=SPATIAL_LOG_SD, ratio_sd=None, ratio_sd_scale=RATIO_SD_SCALE,
                   half_cell_params=None, draws=1000, tune=1000, chains=4, target_accept=0.95,
-                  breakout_quantile=BREAKOUT_QUANTILE):
+                  breakout_quantile=BREAKOUT_QUANTILE, sampler="pymc"):
     """Sample the corrosion model and pass the convergence gate.
 
     Parameters
@@ -550,7 +550,7 @@ def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
                             half_cell_params=half_cell_params,
                             breakout_quantile=breakout_quantile)
     idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
-                             target_accept=target_accept)
+                             target_accept=target_accept, sampler=sampler)
     names = [n for n in PARAMETER_NAMES if n in idata.posterior]
     gate = require_convergence(idata, names, what="corrosion initiation and rate")
     zone_names = tuple(str(z) for z in zones)

@@ -109,12 +109,31 @@ def check_convergence(idata, var_names=None, *, rhat_max: float = RHAT_MAX,
         problems=tuple(problems), table=table)
 
 
-def require_convergence(idata, var_names=None, *, what: str = "posterior", **thresholds) -> GateReport:
-    """Like `check_convergence`, but raise `ConvergenceError` when the gate fails."""
+def how_to_fix(fit: str | None) -> str:
+    """What the user can change when the fit ``fit`` fails the gate (plain words)."""
+    if not fit:
+        return ("Run longer (more draws and tuning steps) or raise the target acceptance "
+                "(e.g. 0.99).")
+    return (f"Give this fit more draws or tuning steps, or a higher target acceptance against "
+            f"divergences: on the command line '--sampling {fit}.draws=3000', "
+            f"'--sampling {fit}.tune=2000' or '--sampling {fit}.target_accept=0.99'; or in "
+            f"site.toml a table [sampling.{fit}] with draws, tune, target_accept, chains or "
+            f"sampler. If it still fails, check the data flagged in 'assess site summary': "
+            f"too few or conflicting results cannot pin the model down.")
+
+
+def require_convergence(idata, var_names=None, *, what: str = "posterior",
+                        fit: str | None = None, **thresholds) -> GateReport:
+    """Like `check_convergence`, but raise `ConvergenceError` when the gate fails.
+
+    ``fit`` names the kind of fit (``"materials"``, ``"corrosion"``, ...) so that
+    the message says which settings to change (`how_to_fix`).
+    """
     report = check_convergence(idata, var_names, **thresholds)
     if not report.passed:
         listing = "\n  - ".join(report.problems)
+        fix = how_to_fix(fit)
         raise ConvergenceError(
             f"the MCMC run for the {what} failed the convergence gate, so no reliability "
-            f"is reported from it:\n  - {listing}")
+            f"is reported from it:\n  - {listing}\n{fix}", fix=fix, fit=fit)
     return report

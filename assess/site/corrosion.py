@@ -1,6 +1,6 @@
 """Per-zone distributions of corrosion initiation time t_i and corrosion rate i_corr.
 
-The remaining-life projection (`assess.life.projection`) needs, for each zone,
+The remaining-life projection (`assess.site.projection`) needs, for each zone,
 the joint distribution of the zone's corrosion initiation time t_i [yr of age]
 and corrosion current density after initiation i_corr [uA/cm2]. Three sources:
 
@@ -13,7 +13,7 @@ and corrosion current density after initiation i_corr [uA/cm2]. Three sources:
   log draws) and the copula correlation is the correlation of the log draws
   (for lognormal marginals the normal scores are the standardised logs).
 - **Prior of the update**: t_i from the site's own chloride profiles and
-  carbonation depths (`assess.life.initiation`: chloride and carbonation
+  carbonation depths (`assess.site.initiation`: chloride and carbonation
   posteriors per exposure class, the earlier of the two fronts at the zone's
   mean measured cover), matched to a lognormal by its 16/50/84 % quantiles
   (`ZoneCorrosionPrior.from_initiation_draws`); i_corr from the exposure class
@@ -47,8 +47,6 @@ References
 from __future__ import annotations
 
 import dataclasses
-import datetime as dt
-import hashlib
 import json
 import math
 
@@ -57,24 +55,13 @@ import numpy as np
 from assess.distributions import make_distribution
 from assess.errors import InputError
 from assess.reliability.crude import resolve_seed
-
-DAYS_PER_YEAR = 365.25
-"""Julian year [days]."""
+from assess.site.dates import age_at, construction_date
+from assess.site.paths import has_ledger, ledger_path
+from assess.site.settings import RunSettings
+from assess.updating.cache import cached_posterior
 
 INITIATION_NAME = "initiation_time"
 RATE_NAME = "corrosion_rate"
-
-
-def construction_date(site) -> dt.date:
-    """Start of exposure: 1 July of the year of construction (common practice)."""
-    return dt.date(int(site.site.year_built), 7, 1)
-
-
-def age_at(site, date) -> float:
-    """Age of the structure at a date [yr] (Julian years from `construction_date`)."""
-    if isinstance(date, str):
-        date = dt.date.fromisoformat(date)
-    return (date - construction_date(site)).days / DAYS_PER_YEAR
 
 
 @dataclasses.dataclass(frozen=True)
@@ -223,8 +210,8 @@ def initiation_time_prior_draws(site, zone_id, n=20_000, seed=0) -> np.ndarray:
         Initiation times since construction [yr]; +inf where neither process
         reaches the bar.
     """
-    from assess.assessment.knowledge import design_knowledge
-    from assess.life.initiation import default_carbonation_draws, default_chloride_draws
+    from assess.site.knowledge import design_knowledge
+    from assess.site.initiation import default_carbonation_draws, default_chloride_draws
 
     rng, _ = resolve_seed(seed, "initiation_time_prior_draws")
     cover = design_knowledge(site)[zone_id]["cover"].predictive().rvs(size=n, random_state=rng)
@@ -275,12 +262,11 @@ def corrosion_evidence(site, until_date=None, include_flagged=()) -> CorrosionEv
     from inspection_io.ledger import Ledger
     from inspection_io.screening import usable_mask
 
-    ledger_path = site.folder / "ledger.sqlite"
     zones = list(site.zones)
     counts = {z: {"section_loss": 0, "half_cell": 0} for z in zones}
-    if not ledger_path.exists():
+    if not has_ledger(site.folder):
         return CorrosionEvidence((), None, None, counts)
-    with Ledger(ledger_path) as ledger:
+    with Ledger(ledger_path(site.folder)) as ledger:
         loss = ledger.observations(kind="section_loss", until_date=until_date)
         cells = ledger.observations(kind="halfcell", until_date=until_date)
     frames = {}
@@ -319,45 +305,23 @@ def corrosion_evidence(site, until_date=None, include_flagged=()) -> CorrosionEv
     return CorrosionEvidence(used, section_loss, half_cell, counts)
 
 
-def _evidence_hash(evidence, priors, settings) -> str:
-    import assess
-
-    def listed(data):
-        if data is None:
-            return None
-        return {f.name: np.round(np.asarray(getattr(data, f.name), dtype=float), 9).tolist()
-                for f in dataclasses.fields(data)}
-
-    payload = {"code_version": assess.__version__, "zones": list(evidence.zones),
-               "section_loss": listed(evidence.section_loss),
-               "half_cell": listed(evidence.half_cell),
-               "priors": {z: dataclasses.asdict(p) for z, p in priors.items()},
-               "settings": settings}
-    text = json.dumps(payload, sort_keys=True, default=str)
-    return hashlib.sha256(text.encode()).hexdigest()
-
-
-def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
-                     until_date=None, evidence=None, prior_samples=20_000, store=True,
-                     settings=None, initiation=None):
+def update_corrosion(site, *, settings: RunSettings | None = None, until_date=None,
+                     evidence=None, prior_samples=20_000, store=True, model=None,
+                     initiation=None):
     """Posterior of (t_i, i_corr) per zone from the site's break-outs and half-cell surveys.
 
     Runs `assess.updating.corrosion.fit_corrosion` (PyMC, convergence-gated)
     on the zones that have records. The t_i prior of each zone comes from the
-    site's chloride profiles and carbonation depths (`assess.life.initiation`,
-    fitted with the same sampler settings and cached the same way); i_corr
-    from the exposure class. With ``store`` the InferenceData is written to
-    ``results/posteriors/corrosion-<hash12>.nc`` in the site folder; a later call
-    with the same data, priors and settings (SHA-256 hash) reuses it, after
-    passing the same convergence gate.
+    site's chloride profiles and carbonation depths (`assess.site.initiation`,
+    fitted and cached the same way); i_corr from the exposure class. With
+    ``store`` the fit goes through `assess.updating.cache` (content hash, stored
+    InferenceData, the same gate for a stored fit).
 
     Parameters
     ----------
     site : inspection_io.site.Site
-    seed : int
-        Seed of every sampler run and of the initiation-time draws.
-    draws, tune, chains : int
-        NUTS settings of every fit [-].
+    settings : RunSettings, optional
+        Seed and the ``"corrosion"`` (and chloride, carbonation) sampler settings.
     until_date : date, optional
         Use only records up to this date.
     evidence : CorrosionEvidence, optional
@@ -366,10 +330,10 @@ def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
         Monte Carlo draws of t_i for a zone without chloride or carbonation fit [-].
     store : bool
         Read and write the fits in ``results/posteriors``.
-    settings : CorrosionModelSettings, optional
+    model : CorrosionModelSettings, optional
         Break-out quantile q and spatial scatter s; default q = 0.1 (break-outs
         opened where corrosion is expected first) and s per zone from its cover
-        scatter and initiation mechanism (`assess.life.initiation.spatial_log_sd`).
+        scatter and initiation mechanism (`assess.site.initiation.spatial_log_sd`).
     initiation : InitiationFits, optional
         Chloride and carbonation fits; default `update_initiation` of the
         zones with records.
@@ -384,48 +348,58 @@ def update_corrosion(site, *, seed=20261202, draws=1000, tune=1000, chains=4,
     ConvergenceError
         When an MCMC run (chloride, carbonation or corrosion) fails the gate.
     """
-    from assess.updating.storage import posterior_path, read_posterior, write_posterior
-    from assess.life.initiation import initiation_prior, update_initiation
+    from assess.site.initiation import initiation_prior, update_initiation
     from assess.updating.corrosion import (PARAMETER_NAMES, CorrosionFit,
                                            CorrosionModelSettings, fit_corrosion)
-    from assess.updating.gate import require_convergence
 
-    settings = CorrosionModelSettings() if settings is None else settings
-    if not isinstance(settings, CorrosionModelSettings):
-        raise InputError("The 'settings' parameter of update_corrosion must be a "
-                         f"CorrosionModelSettings. Got {type(settings).__name__}.",
-                         column="settings")
+    settings = settings or RunSettings()
+    seed = settings.seed
+    model = CorrosionModelSettings() if model is None else model
+    if not isinstance(model, CorrosionModelSettings):
+        raise InputError("The 'model' parameter of update_corrosion must be a "
+                         f"CorrosionModelSettings. Got {type(model).__name__}.",
+                         column="model")
     evidence = evidence if evidence is not None else corrosion_evidence(site, until_date)
     if not evidence.zones:
         return None
     if initiation is None:
-        initiation = update_initiation(site, evidence.zones, seed=seed, draws=draws, tune=tune,
-                                       chains=chains, until_date=until_date, store=store)
+        initiation = update_initiation(site, evidence.zones, settings=settings,
+                                       until_date=until_date, store=store)
     priors, scatter = {}, {}
     for i, zone in enumerate(evidence.zones):
         priors[zone], scatter[zone] = initiation_prior(
             site, zone, initiation, seed=np.random.default_rng([int(seed), i]), n=prior_samples)
-    if settings.spatial_log_sd is not None:
-        scatter = {z: settings.spatial_log_sd for z in evidence.zones}
-    sampler = {"seed": int(seed), "draws": int(draws), "tune": int(tune), "chains": int(chains),
-               "breakout_quantile": settings.breakout_quantile,
-               "spatial_log_sd": {z: round(float(v), 9) for z, v in scatter.items()}}
-    digest = _evidence_hash(evidence, priors, sampler)
-    path = posterior_path(site.folder, "corrosion", digest)
-    if store and path.exists():
-        idata = read_posterior(path)
-        names = [n for n in PARAMETER_NAMES if n in idata.posterior]
-        gate = require_convergence(idata, names, what="corrosion initiation and rate")
+    if model.spatial_log_sd is not None:
+        scatter = {z: model.spatial_log_sd for z in evidence.zones}
+    fit = settings.fit("corrosion")
+
+    def listed(data):
+        if data is None:
+            return None
+        return {f.name: np.asarray(getattr(data, f.name), dtype=float)
+                for f in dataclasses.fields(data)}
+
+    payload = {"zones": list(evidence.zones), "section_loss": listed(evidence.section_loss),
+               "half_cell": listed(evidence.half_cell), "priors": priors, "seed": seed,
+               "fit": fit, "breakout_quantile": model.breakout_quantile,
+               "spatial_log_sd": scatter}
+
+    def sample():
+        return fit_corrosion(list(evidence.zones), priors=priors, seed=seed,
+                             section_loss=evidence.section_loss, half_cell=evidence.half_cell,
+                             spatial_log_sd=scatter, breakout_quantile=model.breakout_quantile,
+                             draws=fit.draws, tune=fit.tune, chains=fit.chains,
+                             target_accept=fit.target_accept, sampler=fit.sampler)
+
+    def rebuild(idata, gate):
         return CorrosionFit(idata=idata, gate=gate, zones=tuple(evidence.zones), priors=priors,
                             spatial_log_sd=scatter, seed=int(seed),
-                            breakout_quantile=settings.breakout_quantile)
-    fit = fit_corrosion(list(evidence.zones), priors=priors, seed=seed,
-                        section_loss=evidence.section_loss, half_cell=evidence.half_cell,
-                        spatial_log_sd=scatter, breakout_quantile=settings.breakout_quantile,
-                        draws=draws, tune=tune, chains=chains)
-    if store:
-        write_posterior(fit.idata, path)
-    return fit
+                            breakout_quantile=model.breakout_quantile)
+
+    cached = cached_posterior(site.folder if store else None, "corrosion", payload,
+                              sample=sample, rebuild=rebuild, parameter_names=PARAMETER_NAMES,
+                              what="corrosion initiation and rate", fit="corrosion")
+    return cached.fit
 
 
 def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000,
@@ -441,11 +415,11 @@ def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000
     seed : int
         Seed of the prior Monte Carlo of t_i.
     initiation : InitiationFits, optional
-        Chloride and carbonation fits (`assess.life.initiation.update_initiation`);
+        Chloride and carbonation fits (`assess.site.initiation.update_initiation`);
         a zone outside ``fit`` that has one of them gets its t_i prior from
         them, else from the fib 34 defaults (`prior_corrosion`).
     """
-    from assess.life.initiation import initiation_prior
+    from assess.site.initiation import initiation_prior
 
     out = {}
     for zone_id in site.zones:

@@ -56,6 +56,41 @@ QUANTITIES = {
 }
 
 
+LABELS = {
+    "concrete": ("In-situ concrete compressive strength", "MPa"),
+    "steel": ("Reinforcement yield strength", "MPa"),
+    "cover": ("Concrete cover", "mm"),
+    "area_ratio": ("Residual bar area ratio", "-"),
+}
+"""Plain-words label and unit of each population."""
+
+
+def predictive_draws(population, log: bool, n: int = 4000, seed: int = 0) -> np.ndarray:
+    """Draws of the physical value from a population's Student-t predictive [units]."""
+    rng = np.random.default_rng(seed)
+    precision = rng.gamma(population.shape, 1.0 / population.rate, n)
+    sigma = 1.0 / np.sqrt(precision)
+    z = rng.normal(population.z_mean, population.z_std, n)
+    y = population.center + z * sigma + sigma * rng.standard_normal(n)
+    return np.exp(y) if log else y
+
+
+def knowledge_rows(site, update) -> list[dict]:
+    """Per zone and quantity: tests used, predictive mean and sd before and after [units]."""
+    rows = []
+    for zone in site.zones:
+        for name, spec in QUANTITIES.items():
+            frame = update.data[name]
+            n = 0 if frame.empty else int((frame["zone"] == zone).sum())
+            prior = predictive_draws(update.before[zone][name], spec.log)
+            post = predictive_draws(update.after[zone][name], spec.log)
+            rows.append({"zone": zone, "quantity": name, "label": LABELS[name][0],
+                         "unit": spec.unit, "tests": n,
+                         "prior_mean": float(prior.mean()), "prior_std": float(prior.std()),
+                         "posterior_mean": float(post.mean()), "posterior_std": float(post.std())})
+    return rows
+
+
 def weak_normal_gamma(mean: float, predictive_std: float, n: float, nu: float,
                       source: str) -> NormalGamma:
     """Normal-gamma prior whose Student-t predictive has the given mean and std.

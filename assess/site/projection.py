@@ -11,8 +11,8 @@ At the assessment date t0 the residual bar area ratio of a member is the
 (uniform corrosion by Faraday's law, `assess.deterioration.corrosion`), with the
 zone's corrosion initiation time t_i [yr of age] and corrosion rate i_corr
 [uA/cm2] as two more random variables of the member model
-(`assess.life.corrosion_inputs`). Hence beta(t0) is the "after" beta of
-`assess.assessment.before_after.assess_members` by construction, and beta(t)
+(`assess.site.corrosion`). Hence beta(t0) is the "after" beta of
+`assess.site.before_after.assess_members` by construction, and beta(t)
 cannot increase while only deterioration acts.
 
 Reference period
@@ -65,7 +65,7 @@ from scipy.special import logsumexp
 from assess.deterioration.corrosion import (penetration_depth, residual_area_ratio,
                                             time_since_initiation)
 from assess.errors import AnalysisError, InputError
-from assess.life.corrosion_inputs import INITIATION_NAME, RATE_NAME, age_at
+from assess.site.corrosion import INITIATION_NAME, RATE_NAME, age_at
 from assess.reliability.crude import check_int, resolve_seed
 from assess.reliability.form import form
 
@@ -235,7 +235,7 @@ def first_crossing(times, beta, target: float) -> float:
     ``times[0]`` when beta starts below the target; NaN when it never falls
     below within ``times``.
     """
-    from assess.report.plots import target_crossing_time
+    from assess.life.crossing import target_crossing_time
 
     return target_crossing_time(times, beta, target)
 
@@ -495,8 +495,8 @@ def project_member(site, member_id: str, update, *, corrosion: dict | None = Non
     list of LifeCurve
         One per mode, then ``"system"`` when the member has several modes.
     """
-    from assess.assessment.members import build_member_model
-    from assess.life.corrosion_inputs import zone_corrosion_inputs
+    from assess.site.member_models import build_member_model
+    from assess.site.corrosion import zone_corrosion_inputs
     from assess.reliability.subset import subset_simulation
 
     if member_id not in site.members:
@@ -575,7 +575,7 @@ def project_site(site, update, *, corrosion: dict | None = None, members=None,
                  check_years: Sequence[float] = (),
                  progress: Callable[[str], None] | None = None, pitting: bool = False) -> list:
     """`project_member` for every member (or those given); curves of all modes and systems."""
-    from assess.life.corrosion_inputs import zone_corrosion_inputs
+    from assess.site.corrosion import zone_corrosion_inputs
 
     if corrosion is None:
         corrosion = zone_corrosion_inputs(site, seed=seed)

@@ -16,8 +16,10 @@ from typing import Callable
 
 import numpy as np
 
-from assess.assessment.members import build_member_model
+from assess.site.member_models import build_member_model
 from assess.reliability.dispatch import run_method
+from assess.site.record import LedgerRow
+from assess.site.settings import DEFAULT_SEED
 from assess.targets import target_beta, verdict
 
 DEFAULT_METHOD = "subset_simulation"
@@ -70,6 +72,15 @@ class Assessment:
     notes: list
     method: str
     seed: int
+    options: dict = dataclasses.field(default_factory=dict)
+    posterior_hash: str = ""
+
+    def ledger_rows(self) -> list[LedgerRow]:
+        """One ``"reliability"`` row per member and mode."""
+        settings = {"method": self.method, "options": self.options,
+                    "posterior_hash": self.posterior_hash}
+        return [LedgerRow("reliability", r.to_dict(), member=r.member, mode=r.mode,
+                          seed=r.after.seed, settings=settings) for r in self.results]
 
     def to_dict(self) -> dict:
         return {
@@ -91,7 +102,7 @@ def _analysis_seed(seed: int, member: str, mode: str) -> int:
     return (int(seed) + zlib.crc32(f"{member}/{mode}".encode())) % (2**32)
 
 
-def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = 20261202,
+def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = DEFAULT_SEED,
                    options: dict | None = None, importance: bool = True, members=None,
                    progress: Callable[[str], None] | None = None) -> Assessment:
     """Beta before and after updating for every member, mode and member system.
@@ -100,7 +111,7 @@ def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = 20
     ----------
     site : inspection_io.site.Site
     update : SiteUpdate
-        From `assess.assessment.site_update.update_site` (its ``before`` and ``after``).
+        From `assess.site.materials.update_site` (its ``before`` and ``after``).
     method : str
         Reliability method for the betas (default subset simulation).
     seed : int
@@ -143,4 +154,5 @@ def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = 20
                 verdict=_verdict(beta_after, target)))
         if progress:
             progress(member_id)
-    return Assessment(results, target, period, notes, method, seed)
+    return Assessment(results, target, period, notes, method, seed, options,
+                      getattr(update, "data_hash", ""))

@@ -13,8 +13,11 @@ from __future__ import annotations
 import dataclasses
 import datetime as dt
 
-from assess.assessment.before_after import assess_members
-from assess.assessment.site_update import UpdateSettings, update_site
+from assess.site.before_after import assess_members
+from assess.site.materials import update_site
+from assess.site.paths import has_ledger, ledger_path
+from assess.site.record import LedgerRow
+from assess.site.settings import RunSettings
 from inspection_io.ledger import Ledger
 
 
@@ -53,33 +56,39 @@ def campaign_cutoffs(ledger: Ledger) -> list[tuple[str, dt.date, dt.date]]:
     return cutoffs
 
 
-def reassess_history(site, *, settings: UpdateSettings | None = None,
-                     method: str = "subset_simulation", seed: int = 20261202,
-                     options: dict | None = None, record: bool = True,
-                     progress=None) -> list[CampaignAssessment]:
-    """Re-assess the site as of each campaign; append each result to the ledger."""
-    settings = settings or UpdateSettings(seed=seed)
-    with Ledger(site.folder / "ledger.sqlite") as ledger:
+def reassess_history(site, *, settings: RunSettings | None = None,
+                     method: str = "subset_simulation", progress=None) -> list[CampaignAssessment]:
+    """Re-assess the site as of each campaign, with only the data known then.
+
+    Each cut-off gets its own materials update (cached like every fit) and
+    before/after table; `history_ledger_rows` gives the rows to record.
+    """
+    settings = settings or RunSettings()
+    if not has_ledger(site.folder):
+        return []
+    with Ledger(ledger_path(site.folder)) as ledger:
         cutoffs = campaign_cutoffs(ledger)
     history = []
     for name, date, until in cutoffs:
-        update = update_site(site, settings=settings, until_date=until, record=record)
-        assessment = assess_members(site, update, method=method, seed=seed, options=options,
-                                    importance=False)
-        entry = CampaignAssessment(name, date, until, update.counts(), assessment)
-        history.append(entry)
-        if record:
-            with Ledger(site.folder / "ledger.sqlite") as ledger:
-                for row in entry.rows():
-                    ledger.append_result("history", row, member=row["member"], mode=row["mode"],
-                                         seed=row["seed"],
-                                         settings={"method": method, "options": options or {},
-                                                   "posterior_hash": update.data_hash,
-                                                   "data_until": until.isoformat(),
-                                                   "update": dataclasses.asdict(settings)})
+        update = update_site(site, settings=settings, until_date=until)
+        assessment = assess_members(site, update, method=method, seed=settings.seed,
+                                    options=settings.reliability_options, importance=False)
+        history.append(CampaignAssessment(name, date, until, update.counts(), assessment))
         if progress:
             progress(name)
     return history
+
+
+def history_ledger_rows(history: list[CampaignAssessment]) -> list[LedgerRow]:
+    """One ``"history"`` row per campaign, member and mode."""
+    rows = []
+    for entry in history:
+        a = entry.assessment
+        settings = {"method": a.method, "options": a.options, "posterior_hash": a.posterior_hash,
+                    "data_until": entry.data_until.isoformat()}
+        rows.extend(LedgerRow("history", row, member=row["member"], mode=row["mode"],
+                              seed=row["seed"], settings=settings) for row in entry.rows())
+    return rows
 
 
 def governing_rows(history: list[CampaignAssessment]) -> dict[str, list[float]]:

@@ -2,28 +2,9 @@
 
 from __future__ import annotations
 
-import numpy as np
-
-from assess.assessment.knowledge import QUANTITIES
-from assess.report.plots import plot_beta_before_after, plot_prior_posterior
-
-LABELS = {
-    "concrete": ("In-situ concrete compressive strength", "MPa"),
-    "steel": ("Reinforcement yield strength", "MPa"),
-    "cover": ("Concrete cover", "mm"),
-    "area_ratio": ("Residual bar area ratio", "-"),
-}
-
-
-def predictive_draws(population, log: bool, n: int = 4000, seed: int = 0) -> np.ndarray:
-    """Draws of the physical value from a population's Student-t predictive [units]."""
-    rng = np.random.default_rng(seed)
-    precision = rng.gamma(population.shape, 1.0 / population.rate, n)
-    sigma = 1.0 / np.sqrt(precision)
-    z = rng.normal(population.z_mean, population.z_std, n)
-    y = population.center + z * sigma + sigma * rng.standard_normal(n)
-    return np.exp(y) if log else y
-
+from assess.site.knowledge import LABELS, QUANTITIES, predictive_draws
+from assess.report.plots import (plot_beta_before_after, plot_beta_over_time,
+                                 plot_preposterior_beta, plot_prior_posterior)
 
 def prior_posterior_figures(update) -> dict:
     """One figure per (quantity, zone) that has data: design prior vs posterior predictive."""
@@ -50,3 +31,19 @@ def before_after_figure(assessment):
     return plot_beta_before_after([r.member for r in rows], [r.before.beta for r in rows],
                                   [r.after.beta for r in rows], assessment.target.beta,
                                   modes=[r.mode for r in rows])
+
+
+def life_figure(life):
+    """beta(t) of each member's governing curve against the annual target."""
+    return plot_beta_over_time(
+        life.main[0].years_from_assessment, {c.member: c.beta for c in life.main},
+        life.target.beta, bands={c.member: (c.beta_lower, c.beta_upper) for c in life.main},
+        time_label="Years after the assessment (annual beta)")
+
+
+def worth_figure(worth):
+    """Posterior beta each test programme could lead to, against the horizon target."""
+    results = worth.ranking.results
+    return plot_preposterior_beta({r.programme: r.posterior_beta for r in results},
+                                  worth.decision.horizon_target_beta,
+                                  current_beta=results[0].prior_beta)

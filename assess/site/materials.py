@@ -6,46 +6,34 @@ quantity is then described by a fitted `NormalGamma` (decision 4 of the design
 notes) that the member reliability models take in place of the design prior.
 
 The run is identified by a SHA-256 hash of everything that made it (data,
-priors, settings, code version). Its InferenceData is written to
-``results/posteriors/posterior-<hash12>.nc`` in the site folder and a ledger
-row of kind ``"posterior"`` records it; a later run with the same hash reuses
-the stored posterior instead of sampling again.
+priors, settings, code version) and stored through `assess.updating.cache`
+(``results/posteriors/materials-<hash12>.nc``); a later run with the same hash
+reuses the stored posterior instead of sampling again. `SiteUpdate.ledger_rows`
+gives the ledger row of kind ``"posterior"`` that the run step records.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import datetime as dt
-import hashlib
-import json
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-import assess
-from assess.assessment.knowledge import QUANTITIES, design_knowledge
-from assess.updating.gate import GateReport, check_convergence
+from assess.site.knowledge import QUANTITIES, design_knowledge
+from assess.site.paths import has_ledger, ledger_path
+from assess.site.record import LedgerRow
+from assess.site.settings import RunSettings
+from assess.updating.cache import cached_posterior, content_hash
+from assess.updating.gate import GateReport
 from assess.updating.normal_gamma import NormalGamma
-from assess.updating.storage import posterior_path, read_posterior, write_posterior
-from assess.errors import ConvergenceError
 from inspection_io.ledger import Ledger
 from inspection_io.screening import usable_mask
 
-
-
-@dataclasses.dataclass(frozen=True)
-class UpdateSettings:
-    """MCMC settings of a site update (NUTS, Hoffman & Gelman 2014)."""
-
-    draws: int = 1000
-    tune: int = 1000
-    chains: int = 4
-    seed: int = 20261202
-    target_accept: float = 0.95
-    sampler: str = "pymc"
-    concrete_tau_scale: float = 0.10
-    include_flagged: tuple = ()
+#: Half-normal scale of the between-zone spread of ln f_c [-] (judgement: zones of one
+#: structure and one concrete supply differ by a few per cent in mean strength).
+CONCRETE_TAU_SCALE = 0.10
 
 
 @dataclasses.dataclass
@@ -69,6 +57,8 @@ class SiteUpdate:
     idata : arviz.InferenceData or None
     until_date : date or None
         Only data dated on or before this day were used.
+    seed : int
+        Sampler seed [-].
     """
 
     before: dict
@@ -80,10 +70,30 @@ class SiteUpdate:
     reused: bool
     idata: object
     until_date: dt.date | None
+    seed: int = 0
+
+    @property
+    def has_data(self) -> bool:
+        """True when any test result entered the update."""
+        return any(not df.empty for df in self.data.values())
 
     def counts(self) -> dict:
         """Number of observations used per quantity and zone."""
         return {q: df.groupby("zone").size().to_dict() for q, df in self.data.items()}
+
+    def ledger_rows(self) -> list[LedgerRow]:
+        """The ``"posterior"`` row of a run with data (none for a design-only site)."""
+        if self.gate is None:
+            return []
+        # results/posteriors/<file>: the path relative to the site folder
+        path = (str(Path(*self.posterior_path.parts[-3:]))
+                if self.posterior_path is not None else None)
+        return [LedgerRow("posterior", {
+            "hash": self.data_hash, "path": path, "reused": self.reused,
+            "until_date": self.until_date.isoformat() if self.until_date else None,
+            "counts": self.counts(), "gate": self.gate.to_dict(),
+            "after": {z: {q: dataclasses.asdict(ng) for q, ng in qs.items()}
+                      for z, qs in self.after.items()}}, seed=self.seed)]
 
 
 def collect_data(ledger: Ledger, until_date: dt.date | None = None,
@@ -106,19 +116,21 @@ def collect_data(ledger: Ledger, until_date: dt.date | None = None,
     return data
 
 
-def _hash(site, data: dict, before: dict, settings: UpdateSettings) -> str:
-    payload = {
-        "code_version": assess.__version__,
-        "zones": list(site.zones),
-        "settings": dataclasses.asdict(settings),
+def _payload(site, data: dict, before: dict, settings: RunSettings, include_flagged=()) -> dict:
+    return {
+        "zones": list(site.zones), "include_flagged": sorted(include_flagged),
+        "settings": {"fit": dataclasses.asdict(settings.fit("materials")), "seed": settings.seed,
+                     "concrete_tau_scale": CONCRETE_TAU_SCALE},
         "priors": {z: {q: dataclasses.asdict(ng) for q, ng in qs.items()} for z, qs in before.items()},
         "data": {q: [[str(r.zone), float(r.value)] for r in df.itertuples()] for q, df in data.items()},
     }
-    text = json.dumps(payload, sort_keys=True, default=str)
-    return hashlib.sha256(text.encode()).hexdigest()
 
 
-def _build_joint_model(site, data, before, settings):
+def _hash(site, data: dict, before: dict, settings: RunSettings, include_flagged=()) -> str:
+    return content_hash("materials", _payload(site, data, before, settings, include_flagged))
+
+
+def _build_joint_model(site, data, before):
     import pymc as pm
 
     from assess.updating.models import hierarchical_normal_model
@@ -140,7 +152,7 @@ def _build_joint_model(site, data, before, settings):
             else:
                 hierarchical_normal_model(values, groups, zones, before[first][name],
                                           pooling=spec.pooling, name=name,
-                                          tau_scale=settings.concrete_tau_scale)
+                                          tau_scale=CONCRETE_TAU_SCALE)
     return joint
 
 
@@ -158,47 +170,61 @@ def _zone_priors_model(pm, name, values, groups, zones, before):
         pm.Normal("y", mu=mu[groups], sigma=sigma[groups], observed=values)
 
 
-def update_site(site, *, settings: UpdateSettings | None = None, until_date: dt.date | None = None,
-                progressbar: bool = False, record: bool = True) -> SiteUpdate:
+@dataclasses.dataclass(frozen=True)
+class _Fit:
+    idata: object
+    gate: GateReport
+
+
+def update_site(site, *, settings: RunSettings | None = None, until_date: dt.date | None = None,
+                include_flagged=(), progressbar: bool = False) -> SiteUpdate:
     """Update every zone's knowledge with the ledger's data up to ``until_date``.
+
+    Parameters
+    ----------
+    site : inspection_io.site.Site
+    settings : RunSettings, optional
+        Seed and the ``"materials"`` sampler settings.
+    until_date : date, optional
+        Use only data dated on or before this day.
+    include_flagged : sequence of str
+        Screening flags whose rows are used anyway.
 
     Raises
     ------
     ConvergenceError
-        When the MCMC run fails the convergence gate (nothing is recorded then).
+        When the MCMC run fails the convergence gate (nothing is stored then).
     """
+    from assess.updating.gate import require_convergence
     from assess.updating.models import free_parameter_names, group_draws, sample_posterior
 
-    settings = settings or UpdateSettings()
+    settings = settings or RunSettings()
+    fit = settings.fit("materials")
     before = design_knowledge(site)
-    ledger_path = site.folder / "ledger.sqlite"
-    if not ledger_path.exists():
+    if not has_ledger(site.folder):
         return SiteUpdate(before, before, {q: pd.DataFrame(columns=["zone", "value"]) for q in QUANTITIES},
-                          None, None, "", False, None, until_date)
-    with Ledger(ledger_path) as ledger:
-        data = collect_data(ledger, until_date, settings.include_flagged)
-    data_hash = _hash(site, data, before, settings)
+                          None, None, "", False, None, until_date, settings.seed)
+    with Ledger(ledger_path(site.folder)) as ledger:
+        data = collect_data(ledger, until_date, include_flagged)
+    payload = _payload(site, data, before, settings, include_flagged)
+    data_hash = content_hash("materials", payload)
     if all(df.empty for df in data.values()):
-        return SiteUpdate(before, before, data, None, None, data_hash, False, None, until_date)
+        return SiteUpdate(before, before, data, None, None, data_hash, False, None, until_date,
+                          settings.seed)
 
-    path = posterior_path(site.folder, "posterior", data_hash)
-    joint = _build_joint_model(site, data, before, settings)
+    joint = _build_joint_model(site, data, before)
     names = free_parameter_names(joint)
-    reused = path.exists()
-    if reused:
-        idata = read_posterior(path)
-    else:
-        idata = sample_posterior(joint, draws=settings.draws, tune=settings.tune,
-                                 chains=settings.chains, seed=settings.seed,
-                                 target_accept=settings.target_accept, sampler=settings.sampler,
-                                 progressbar=progressbar)
-    gate = check_convergence(idata, names)
-    if not gate.passed:
-        listing = "\n  - ".join(gate.problems)
-        raise ConvergenceError(
-            "updating the site with its test data failed the convergence gate, so no "
-            f"reliability is reported from it:\n  - {listing}\nTry more draws (--draws), a "
-            "higher target acceptance, or check the data flagged in 'assess site summary'.")
+    what = "zone materials (cores, tensile tests, cover, section loss)"
+
+    def sample() -> _Fit:
+        idata = sample_posterior(joint, draws=fit.draws, tune=fit.tune, chains=fit.chains,
+                                 seed=settings.seed, target_accept=fit.target_accept,
+                                 sampler=fit.sampler, progressbar=progressbar)
+        return _Fit(idata, require_convergence(idata, names, what=what, fit="materials"))
+
+    cached = cached_posterior(site.folder, "materials", payload, sample=sample,
+                              rebuild=_Fit, parameter_names=names, what=what, fit="materials")
+    idata, gate = cached.fit.idata, cached.fit.gate
     after = {z: dict(qs) for z, qs in before.items()}
     for name in QUANTITIES:
         if data[name].empty:
@@ -208,17 +234,5 @@ def update_site(site, *, settings: UpdateSettings | None = None, until_date: dt.
             after[zone][name] = NormalGamma.fit_draws(
                 mu, sigma, source=f"posterior of {name} in zone {zone} from site tests "
                                   f"(MCMC, {data_hash[:12]})")
-    if not reused:
-        write_posterior(idata, path)
-    if record:
-        with Ledger(ledger_path) as ledger:
-            ledger.append_result(
-                "posterior",
-                {"hash": data_hash, "path": str(path.relative_to(site.folder)), "reused": reused,
-                 "until_date": until_date.isoformat() if until_date else None,
-                 "counts": {q: df.groupby("zone").size().to_dict() for q, df in data.items()},
-                 "gate": gate.to_dict(),
-                 "after": {z: {q: dataclasses.asdict(ng) for q, ng in qs.items()}
-                           for z, qs in after.items()}},
-                seed=settings.seed, settings=dataclasses.asdict(settings))
-    return SiteUpdate(before, after, data, gate, path, data_hash, reused, idata, until_date)
+    return SiteUpdate(before, after, data, gate, cached.path, data_hash, cached.reused, idata,
+                      until_date, settings.seed)

@@ -1,6 +1,7 @@
 """Value of information for one member of a site: computation and its summary.
 
-Shared by ``assess worth`` and the main job (`assess.main_job`).
+The step behind ``assess worth`` and the main job; the figure is drawn by the report
+layer (`assess.report.figures.worth_figure`).
 """
 
 from __future__ import annotations
@@ -10,6 +11,9 @@ import math
 import warnings
 
 import numpy as np
+
+from assess.site.record import LedgerRow
+from assess.site.settings import RunSettings
 
 #: Posterior draws used as theta (the MCMC draws are thinned to this) [-].
 THETA_DRAWS = 3000
@@ -39,6 +43,8 @@ class SiteWorth:
     ranking: object
     setup: object
     outcomes: int
+    posterior_hash: str = ""
+    decision_file: str = ""
 
     @property
     def recommendation(self) -> str:
@@ -55,14 +61,6 @@ class SiteWorth:
                  f"net value [{currency}]": r.net_value,
                  "P(beta >= target)": r.probability_adequate}
                 for r in self.ranking.results]
-
-    def figure(self):
-        from assess.report.plots import plot_preposterior_beta
-
-        first = self.ranking.results[0]
-        return plot_preposterior_beta({r.programme: r.posterior_beta for r in self.ranking.results},
-                                      self.decision.horizon_target_beta,
-                                      current_beta=first.prior_beta)
 
     def to_dict(self) -> dict:
         decision, problem = self.decision, self.decision.problem
@@ -86,33 +84,54 @@ class SiteWorth:
             "design_points": DESIGN_POINTS,
         }
 
+    def ledger_rows(self) -> list[LedgerRow]:
+        """One ``"worth"`` row per test programme."""
+        decision, problem = self.decision, self.decision.problem
+        settings = {"outcomes": self.outcomes, "theta_draws": problem.n_draws,
+                    "design_points": DESIGN_POINTS, "posterior_hash": self.posterior_hash,
+                    "horizon_years": decision.horizon_years,
+                    "discount_rate": self.setup.discount_rate,
+                    "decision_file": str(self.decision_file)}
+        return [LedgerRow("worth", summary, member=decision.member, mode=summary["programme"],
+                          seed=summary["seed"], settings=settings)
+                for summary in self.summaries()]
+
     def largest_surrogate_error(self) -> float:
         errors = self.decision.surrogate_errors()
         return max((v for modes in errors.values() for v in modes.values()), default=math.nan)
 
 
-def compute_site_worth(site, update, setup, *, member=None, outcomes: int = 500,
-                       seed: int = 20261202, progress=None) -> SiteWorth:
-    """Build the member's decision problem and rank the setup's test programmes."""
-    from assess.worth import rank_programmes
-    from assess.worth.site import build_site_decision
+def compute_site_worth(site, update, setup, *, member=None, settings: RunSettings | None = None,
+                       decision_file="", progress=None) -> SiteWorth:
+    """Build the member's decision problem and rank the setup's test programmes.
 
+    Parameters
+    ----------
+    site : inspection_io.site.Site
+    update : SiteUpdate
+    setup : DecisionSetup
+        From `assess.worth.decision_file.read_decision_setup`.
+    member : str, optional
+        Default the decision file's member, else the member with the lowest beta.
+    settings : RunSettings, optional
+        Seed and the number of simulated outcomes per programme.
+    """
+    from assess.site.worth_decision import build_site_decision
+    from assess.worth import rank_programmes
+
+    settings = settings or RunSettings()
+    outcomes = settings.worth_outcome_count
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", UserWarning)  # carried in the notes and recommendation
         if progress:
             progress("Conditional reliability of each alternative (FORM design, surrogate)")
         decision = build_site_decision(site, update, setup, member=member, n_draws=THETA_DRAWS,
-                                       n_design=DESIGN_POINTS, seed=seed)
+                                       n_design=DESIGN_POINTS, seed=settings.seed)
         if progress:
             progress("Preposterior analysis of the test programmes")
         ranking = rank_programmes(decision.problem, decision.programmes, n_outcomes=outcomes,
-                                  seed=seed, target_beta=decision.horizon_target_beta)
-    return SiteWorth(decision, ranking, setup, outcomes)
+                                  seed=settings.seed, target_beta=decision.horizon_target_beta)
+    return SiteWorth(decision, ranking, setup, outcomes, update.data_hash, str(decision_file))
 
 
-def site_worth_summary(site, update, *, seed: int = 20261202, quick: bool = False) -> SiteWorth:
-    """The main job's step: the site folder's decisions.toml, default member."""
-    from assess.worth.decision_file import DEFAULT_FILE_NAME, read_decision_setup
-
-    setup = read_decision_setup(site.folder / DEFAULT_FILE_NAME)
-    return compute_site_worth(site, update, setup, outcomes=200 if quick else 500, seed=seed)
+__all__ = ["DESIGN_POINTS", "SiteWorth", "THETA_DRAWS", "compute_site_worth", "result_summary"]

@@ -1,6 +1,6 @@
 """The value-of-information decision problem of one member of a real site.
 
-From the site's updated knowledge (`assess.assessment.site_update.update_site`)
+From the site's updated knowledge (`assess.site.materials.update_site`)
 and a decision set-up (`assess.worth.decision_file`), build the
 `DecisionProblem` of one member and the candidate test programmes:
 
@@ -12,7 +12,7 @@ and a decision set-up (`assess.worth.decision_file`), build the
 2. **Conditional reliability.** Given theta the populations are known: f_c is
    lognormal with (mu, sigma) of ln f_c, f_y, cover and the area ratio are normal
    with (mu, sigma). Loads and model uncertainties stay random as in
-   `assess.assessment.members.build_member_model`. The annual reliability index
+   `assess.site.member_models.build_member_model`. The annual reliability index
    beta(theta) of each failure mode and each alternative comes from FORM.
 3. **Surrogate.** FORM at every draw would be too slow, so FORM runs at a design
    of ~50 draws chosen by farthest-point selection in standardised theta, and a
@@ -58,8 +58,8 @@ from typing import Callable, Sequence
 import numpy as np
 from scipy import special, stats
 
-from assess.assessment.knowledge import QUANTITIES
-from assess.assessment.members import MemberModel, build_member_model
+from assess.site.knowledge import QUANTITIES
+from assess.site.member_models import MemberModel, build_member_model
 from assess.distributions import make_distribution
 from assess.errors import AnalysisError, InputError
 from assess.model import ProbabilisticModel
@@ -75,7 +75,7 @@ from assess.worth.programmes import (BreakoutSurvey, CoreSampling, HalfCellSurve
 #: Physical variable of each population in the member models and its distribution given theta.
 PHYSICAL = {"concrete": ("fc", "lognormal"), "steel": ("fy", "normal"),
             "cover": ("cover", "normal"), "area_ratio": ("area_ratio", "normal")}
-#: Resistance model-uncertainty variables of the member models (`assess.assessment.members`).
+#: Resistance model-uncertainty variables of the member models (`assess.site.member_models`).
 RESISTANCE_UNCERTAINTY = ("theta_flexure", "theta_shear", "theta_punching")
 #: Imposed (vehicle) load variable of the member models.
 IMPOSED_LOAD = "imposed"

@@ -1,6 +1,6 @@
 """Corrosion initiation time of each zone from the site's chloride and carbonation data.
 
-The corrosion update (`assess.life.corrosion_inputs.update_corrosion`) needs a
+The corrosion update (`assess.site.corrosion.update_corrosion`) needs a
 prior of each zone's median initiation time t_i. This module chains the site's
 own evidence into it, instead of the fib Bulletin 34 models with default
 parameters:
@@ -25,13 +25,13 @@ parameters:
 4. The zone's mean cover is the mean of the cover survey in the ledger, with
    its standard error s / sqrt(n) as the uncertainty of that mean; without a
    survey, the mean of the JCSS cover prior of the zone's members
-   (`assess.assessment.knowledge.design_knowledge`) with its uncertainty.
+   (`assess.site.knowledge.design_knowledge`) with its uncertainty.
 
 A mechanism without data in a zone falls back to its fib 34 model with the
 default parameters of `initiation_time_prior_draws`. Every fit passes the
 convergence gate (`assess.updating.gate.require_convergence`), also when it is
-read back from its cache file ``results/posteriors/<kind>-<hash12>.nc``, keyed
-by the SHA-256 hash of data, priors, sampler settings and code version.
+read back from its cache file (`assess.updating.cache`), keyed by the SHA-256
+hash of data, priors, sampler settings and code version.
 
 References
 ----------
@@ -46,7 +46,6 @@ References
 from __future__ import annotations
 
 import dataclasses
-import hashlib
 import json
 import math
 
@@ -57,6 +56,9 @@ from assess.deterioration import chloride as chloride_forward
 from assess.deterioration.defaults import CRITICAL_CHLORIDE, DistributionSpec
 from assess.errors import InputError
 from assess.reliability.crude import resolve_seed
+from assess.site.paths import has_ledger, ledger_path
+from assess.site.settings import RunSettings
+from assess.updating.cache import cached_posterior
 
 CHLORIDE_UNIT = "% binder"
 """Unit of the chloride values the ledger holds (readers convert to it)."""
@@ -64,7 +66,7 @@ CHLORIDE_UNIT = "% binder"
 COVER_READING_SD_MM = 3.0
 """Standard deviation of a cover-meter reading about the true cover [mm]: the
 middle of the 1-5 mm quoted for cover meters on site (BS 1881-204, from memory;
-the same range as `assess.worth.site.CoverSurvey`). Used to take the reading
+the same range as `assess.site.worth_decision.CoverSurvey`). Used to take the reading
 error out of the scatter of a survey."""
 
 
@@ -154,7 +156,7 @@ def _observations(site, kind, quantity, until_date, include_flagged):
     from inspection_io.ledger import Ledger
     from inspection_io.screening import usable_mask
 
-    with Ledger(site.folder / "ledger.sqlite") as ledger:
+    with Ledger(ledger_path(site.folder)) as ledger:
         frame = ledger.observations(kind=kind, until_date=until_date)
     frame = frame[(frame["quantity"] == quantity) & frame["zone"].isin(list(site.zones))]
     if len(frame):
@@ -180,10 +182,10 @@ def initiation_data(site, until_date=None, include_flagged=()) -> InitiationData
         % binder, or with a value <= 0 (enter a value below the detection limit
         at the limit); the message names file, row and column.
     """
-    from assess.life.corrosion_inputs import age_at
+    from assess.site.dates import age_at
 
     empty = {"depth_mm": np.zeros(0), "age_years": np.zeros(0), "zone": np.zeros(0, str)}
-    if not (site.folder / "ledger.sqlite").exists():
+    if not has_ledger(site.folder):
         return InitiationData({**empty, "chloride": np.zeros(0)}, dict(empty),
                               {z: design_cover(site, z) for z in site.zones})
     frame = _observations(site, "chloride", "chloride", until_date, include_flagged)
@@ -258,7 +260,7 @@ def design_cover(site, zone_id) -> ZoneCover:
     the nominal covers), the prior uncertainty of the mean, s / sqrt(n'), and
     the scatter s.
     """
-    from assess.assessment.knowledge import design_knowledge
+    from assess.site.knowledge import design_knowledge
 
     jcss = design_knowledge(site)[zone_id]["cover"].jcss
     return ZoneCover(zone=zone_id, mean_mm=float(jcss["m"]),
@@ -292,45 +294,7 @@ def chloride_priors(site, zones):
                                     mean_annual_temperature_c=temperature)
 
 
-def _plain(value):
-    if isinstance(value, DistributionSpec):
-        return {"kind": value.kind, "params": dict(value.params)}
-    if dataclasses.is_dataclass(value):
-        return {f.name: _plain(getattr(value, f.name)) for f in dataclasses.fields(value)}
-    if isinstance(value, np.ndarray):
-        return (np.round(value, 9).tolist() if value.dtype.kind == "f" else value.tolist())
-    return value
-
-
-def fit_hash(kind, data, priors, settings) -> str:
-    """SHA-256 of the inputs of one fit (data, priors, sampler settings, code version)."""
-    import assess
-
-    payload = {"code_version": assess.__version__, "kind": kind,
-               "data": {k: _plain(np.asarray(v)) for k, v in data.items()},
-               "priors": _plain(priors), "settings": settings}
-    text = json.dumps(payload, sort_keys=True, default=str)
-    return hashlib.sha256(text.encode()).hexdigest()
-
-
-def _cached_fit(site, kind, data, priors, settings, store, run, rebuild, parameter_names,
-                what):
-    """Run ``run()`` or read its stored InferenceData; either way pass the gate."""
-    from assess.updating.storage import posterior_path, read_posterior, write_posterior
-    from assess.updating.gate import require_convergence
-
-    path = posterior_path(site.folder, kind, fit_hash(kind, data, priors, settings))
-    if store and path.exists():
-        idata = read_posterior(path)
-        names = [n for n in parameter_names if n in idata.posterior]
-        return rebuild(idata, require_convergence(idata, names, what=what))
-    fit = run()
-    if store:
-        write_posterior(fit.idata, path)
-    return fit
-
-
-def update_initiation(site, zones=None, *, seed=20261202, draws=1000, tune=1000, chains=4,
+def update_initiation(site, zones=None, *, settings: RunSettings | None = None,
                       until_date=None, include_flagged=(), data=None,
                       store=True) -> InitiationFits:
     """Chloride and carbonation posteriors of the zones, one fit per exposure class.
@@ -340,10 +304,8 @@ def update_initiation(site, zones=None, *, seed=20261202, draws=1000, tune=1000,
     site : inspection_io.site.Site
     zones : sequence of str, optional
         Zones to fit (default all); zones without data of a kind get no fit of it.
-    seed : int
-        Sampler seed of every fit.
-    draws, tune, chains : int
-        NUTS settings of every fit [-].
+    settings : RunSettings, optional
+        Seed and the ``"chloride"`` and ``"carbonation"`` sampler settings.
     until_date : date, optional
         Use only records up to this date.
     include_flagged : sequence of str
@@ -351,7 +313,8 @@ def update_initiation(site, zones=None, *, seed=20261202, draws=1000, tune=1000,
     data : InitiationData, optional
         Default `initiation_data` of the site.
     store : bool
-        Read and write the fits in ``results/posteriors`` under their hash.
+        Read and write the fits in ``results/posteriors`` under their hash
+        (`assess.updating.cache`).
 
     Raises
     ------
@@ -361,10 +324,11 @@ def update_initiation(site, zones=None, *, seed=20261202, draws=1000, tune=1000,
     from assess.updating import carbonation as carbonation_update
     from assess.updating import chloride as chloride_update
 
+    settings = settings or RunSettings()
+    seed = settings.seed
+    folder = site.folder if store else None
     data = data if data is not None else initiation_data(site, until_date, include_flagged)
     zones = list(site.zones) if zones is None else [z for z in site.zones if z in zones]
-    settings = {"seed": int(seed), "draws": int(draws), "tune": int(tune),
-                "chains": int(chains)}
     chloride_fits, carbonation_fits = {}, {}
     for exposure, group in exposure_groups(site, zones).items():
         present = [z for z in group if (data.chloride["zone"] == z).any()]
@@ -372,40 +336,51 @@ def update_initiation(site, zones=None, *, seed=20261202, draws=1000, tune=1000,
             subset = _subset(data.chloride, present)
             priors = chloride_priors(site, present)
 
-            def run_chloride(subset=subset, present=present, priors=priors):
+            fit = settings.fit("chloride")
+
+            def run_chloride(subset=subset, present=present, priors=priors, fit=fit):
                 return chloride_update.fit_chloride(
                     subset["depth_mm"], subset["age_years"], subset["chloride"],
-                    subset["zone_index"], present, priors=priors, seed=seed, draws=draws,
-                    tune=tune, chains=chains)
+                    subset["zone_index"], present, priors=priors, seed=seed, draws=fit.draws,
+                    tune=fit.tune, chains=fit.chains, target_accept=fit.target_accept,
+                    sampler=fit.sampler)
 
             def rebuild_chloride(idata, gate, present=present, priors=priors):
                 return chloride_update.ChlorideFit(idata=idata, gate=gate, zones=tuple(present),
                                                    priors=priors, seed=int(seed))
 
-            fit = _cached_fit(site, "chloride", subset, priors, {**settings, "zones": present},
-                              store, run_chloride, rebuild_chloride,
-                              chloride_update.PARAMETER_NAMES, "chloride-ingress parameters")
-            chloride_fits.update({z: fit for z in present})
+            cached = cached_posterior(
+                folder, "chloride", {"data": subset, "priors": priors, "zones": present,
+                                     "seed": seed, "fit": fit},
+                sample=run_chloride, rebuild=rebuild_chloride,
+                parameter_names=chloride_update.PARAMETER_NAMES,
+                what="chloride-ingress parameters", fit="chloride")
+            chloride_fits.update({z: cached.fit for z in present})
         present = [z for z in group if (data.carbonation["zone"] == z).any()]
         if present:
             subset = _subset(data.carbonation, present)
             priors = carbonation_update.CarbonationPriors.from_exposure(exposure)
 
-            def run_carbonation(subset=subset, present=present, priors=priors):
+            fit = settings.fit("carbonation")
+
+            def run_carbonation(subset=subset, present=present, priors=priors, fit=fit):
                 return carbonation_update.fit_carbonation(
                     subset["depth_mm"], subset["age_years"], subset["zone_index"], present,
-                    priors=priors, seed=seed, draws=draws, tune=tune, chains=chains)
+                    priors=priors, seed=seed, draws=fit.draws, tune=fit.tune,
+                    chains=fit.chains, target_accept=fit.target_accept, sampler=fit.sampler)
 
             def rebuild_carbonation(idata, gate, present=present, priors=priors):
                 return carbonation_update.CarbonationFit(idata=idata, gate=gate,
                                                          zones=tuple(present), priors=priors,
                                                          seed=int(seed))
 
-            fit = _cached_fit(site, "carbonation", subset, priors,
-                              {**settings, "zones": present}, store, run_carbonation,
-                              rebuild_carbonation, carbonation_update.PARAMETER_NAMES,
-                              "carbonation rates")
-            carbonation_fits.update({z: fit for z in present})
+            cached = cached_posterior(
+                folder, "carbonation", {"data": subset, "priors": priors, "zones": present,
+                                        "seed": seed, "fit": fit},
+                sample=run_carbonation, rebuild=rebuild_carbonation,
+                parameter_names=carbonation_update.PARAMETER_NAMES, what="carbonation rates",
+                fit="carbonation")
+            carbonation_fits.update({z: cached.fit for z in present})
     return InitiationFits(chloride_fits, carbonation_fits,
                           {z: data.covers[z] for z in zones})
 
@@ -568,5 +543,5 @@ def initiation_prior(site, zone_id, fits: InitiationFits, *, seed=0, n=4000):
 __all__ = ["COVER_READING_SD_MM", "InitiationData", "InitiationFits", "ZoneCover",
            "chloride_priors",
            "default_carbonation_draws", "default_chloride_draws", "design_cover",
-           "exposure_groups", "fit_hash", "initiation_data", "initiation_prior",
+           "exposure_groups", "initiation_data", "initiation_prior",
            "initiation_time_draws", "spatial_log_sd", "surveyed_cover", "update_initiation"]

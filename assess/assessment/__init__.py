@@ -1,1 +1,0 @@
-"""Site assessment: design knowledge, site updating and member reliability, before and after."""
