@@ -45,8 +45,15 @@ def data_summaries(folder: Path) -> tuple[dict, list]:
             tables[kind] = summarise(kind, observations)
             marked = observations[observations["flags"] != ""]
             for row in marked.drop_duplicates(["file", "source_row"]).itertuples():
-                flagged.append({"file": row.file, "row": int(row.source_row), "item": row.item_id,
-                                "flags": row.flags, "campaign": row.campaign})
+                flagged.append(
+                    {
+                        "file": row.file,
+                        "row": int(row.source_row),
+                        "item": row.item_id,
+                        "flags": row.flags,
+                        "campaign": row.campaign,
+                    }
+                )
     return tables, flagged
 
 
@@ -56,8 +63,9 @@ def main_job_steps(settings: RunSettings) -> list[str]:
     return [name for name in STEP_TITLES if wanted.get(name, True)]
 
 
-def run_site(folder: Path, settings: RunSettings | None = None, *,
-             say: Callable[[str], None] | None = None) -> SiteRun:
+def run_site(
+    folder: Path, settings: RunSettings | None = None, *, say: Callable[[str], None] | None = None
+) -> SiteRun:
     """Run the main job on a site folder; every step's outcome is in the returned run.
 
     Raises
@@ -94,5 +102,12 @@ def exit_code(run: SiteRun) -> int:
     return 2 if any(r.input_problem for r in failed) else 1
 
 
-__all__ = ["RECORD_KINDS", "RunSettings", "data_summaries", "exit_code", "main_job_steps",
-           "run_site", "settings_for_site"]
+__all__ = [
+    "RECORD_KINDS",
+    "RunSettings",
+    "data_summaries",
+    "exit_code",
+    "main_job_steps",
+    "run_site",
+    "settings_for_site",
+]

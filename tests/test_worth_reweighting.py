@@ -139,7 +139,7 @@ def test_reweighted_update_agrees_with_a_full_mcmc_update():
     """
     from assess.updating.gate import require_convergence
     from assess.updating.models import group_draws, hierarchical_normal_model, sample_posterior
-    from assess.updating.normal_gamma import NormalGamma
+    from assess.priors.normal_gamma import NormalGamma
 
     prior = NormalGamma.from_jcss(M0, N0, S0, NU0)
     theta = _prior_draws(40_000, seed=8)

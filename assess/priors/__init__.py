@@ -1,7 +1,7 @@
 """Documented prior models from design information (JCSS PMC, Eurocodes).
 
 Every table is a module-level dict naming its source; every function returns a
-small dataclass (`Prior` or `NormalGammaPrior`) carrying its source string.
+small dataclass (`Prior` or `NormalGamma`) carrying its source string.
 """
 
 from assess.priors.actions import (IMPOSED_LOAD_CATEGORIES, IMPOSED_LOAD_MODELS,
@@ -18,13 +18,13 @@ from assess.priors.model_uncertainty import (DEFAULT_RESISTANCE_MODEL_UNCERTAINT
                                              MODEL_UNCERTAINTY, check_model_uncertainty_pairing,
                                              model_uncertainty_prior,
                                              resistance_model_uncertainty)
-from assess.priors.normal_gamma import (NormalGammaPrior, predictive_cdf, predictive_lognormal,
+from assess.priors.normal_gamma import (NormalGamma, predictive_cdf, predictive_lognormal,
                                         predictive_quantile, update_normal_gamma,
                                         update_normal_gamma_summary)
 from assess.priors.steel import bar_area_prior, parse_steel_grade, steel_yield_prior
 
 __all__ = [
-    "Prior", "NormalGammaPrior",
+    "Prior", "NormalGamma",
     "CONCRETE_PRIORS", "concrete_prior", "parse_concrete_class",
     "update_normal_gamma", "update_normal_gamma_summary", "predictive_quantile",
     "predictive_cdf", "predictive_lognormal",

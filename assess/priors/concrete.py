@@ -11,13 +11,13 @@ import re
 import warnings
 
 from assess.errors import InputError
-from assess.priors.normal_gamma import NormalGammaPrior
+from assess.priors.normal_gamma import NormalGamma
 
 _JCSS_SOURCE = "JCSS PMC Part 3.1 (concrete properties), prior table for ln f_c"
 
 #: Normal-gamma prior parameters for ln f_c (f_c in MPa) by production and class.
 #: Keys: production -> class number -> (m', n', s', nu'). Override by passing your
-#: own table to `concrete_prior(..., table=...)` or by building a `NormalGammaPrior`.
+#: own table to `concrete_prior(..., table=...)` or by building a `NormalGamma`.
 #: The JCSS text does not say whether "C25" is the cylinder or the cube class; the
 #: medians e^m' (38.5 MPa for C25) lie above EN 1992-1-1 f_cm = f_ck + 8 = 33 MPa for
 #: a cylinder class C25/30, so check against local production records.
@@ -64,7 +64,7 @@ def _normalise_production(production: str, table: dict) -> str:
 
 
 def concrete_prior(concrete_class, production: str = "ready-mixed", *,
-                   table: dict | None = None) -> NormalGammaPrior:
+                   table: dict | None = None) -> NormalGamma:
     """Normal-gamma prior (m', n', s', nu') for ln f_c, f_c in MPa.
 
     Parameters
@@ -78,7 +78,7 @@ def concrete_prior(concrete_class, production: str = "ready-mixed", *,
 
     Returns
     -------
-    NormalGammaPrior
+    NormalGamma
         Prior parameters for ln f_c [ln MPa], with their source.
 
     Notes
@@ -87,7 +87,7 @@ def concrete_prior(concrete_class, production: str = "ready-mixed", *,
     for m' and s', taking the smaller n' and nu' of the two rows (less prior
     weight); classes outside the table take the nearest row. Both cases warn.
     The JCSS table does not state whether its classes are cylinder or cube
-    classes (domain notes 1.1); give the class in the same convention as your
+    classes; give the class in the same convention as your
     production records, and override the table where they disagree.
     """
     table = CONCRETE_PRIORS if table is None else table
@@ -98,7 +98,7 @@ def concrete_prior(concrete_class, production: str = "ready-mixed", *,
     source = f"{_JCSS_SOURCE}, {key} C{number}"
     if number in rows:
         m, n, s, nu = rows[number]
-        return NormalGammaPrior(m=m, n=n, s=s, nu=nu, source=source)
+        return NormalGamma.from_jcss(m, n, s, nu, source=source)
     if number < classes[0] or number > classes[-1]:
         nearest = classes[0] if number < classes[0] else classes[-1]
         side = ("overestimates the strength (unconservative)" if number < nearest
@@ -108,8 +108,8 @@ def concrete_prior(concrete_class, production: str = "ready-mixed", *,
             f"nearest row C{nearest}, which {side}. Give a prior from local records if you can.",
             stacklevel=2)
         m, n, s, nu = rows[nearest]
-        return NormalGammaPrior(m=m, n=n, s=s, nu=nu,
-                                source=f"{_JCSS_SOURCE}, {key} C{nearest} used for C{number}")
+        return NormalGamma.from_jcss(m, n, s, nu,
+                                     source=f"{_JCSS_SOURCE}, {key} C{nearest} used for C{number}")
     lower = max(c for c in classes if c < number)
     upper = min(c for c in classes if c > number)
     w = (number - lower) / (upper - lower)
@@ -117,7 +117,7 @@ def concrete_prior(concrete_class, production: str = "ready-mixed", *,
     warnings.warn(
         f"concrete class C{number} ({key}) is not in the JCSS prior table; interpolating "
         f"between C{lower} and C{upper}.", stacklevel=2)
-    return NormalGammaPrior(
-        m=(1 - w) * lo[0] + w * hi[0], n=min(lo[1], hi[1]), s=(1 - w) * lo[2] + w * hi[2],
-        nu=min(lo[3], hi[3]),
+    return NormalGamma.from_jcss(
+        (1 - w) * lo[0] + w * hi[0], min(lo[1], hi[1]), (1 - w) * lo[2] + w * hi[2],
+        min(lo[3], hi[3]),
         source=f"{_JCSS_SOURCE}, {key}, interpolated between C{lower} and C{upper}")

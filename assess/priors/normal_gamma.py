@@ -1,8 +1,23 @@
-"""Normal-gamma conjugate model for the log of a strength, and its Student-t predictive.
+"""The normal-gamma description of an uncertain normal population, and its updating.
 
-Source: JCSS Probabilistic Model Code, Part 3.0 "General principles", Annex A
-(Bayesian updating of a normal variable with unknown mean and standard deviation),
-and Part 3.1 "Concrete properties" (use on ln f_c).
+A quantity Y (for concrete Y = ln f_c) is normal with unknown mean mu and
+standard deviation sigma. The prior from design information, the conjugate
+posterior after tests and the posterior known only through MCMC draws are all
+described by one type, `NormalGamma`:
+
+    q = 1 / sigma^2 ~ Gamma(shape, rate)          (precision)
+    z = (mu - center) / sigma ~ N(z_mean, z_std^2) (standardised location)
+    corr(Phi^-1(F_q(q)), Phi^-1(F_z(z))) = rho     (Gaussian copula)
+
+For the conjugate normal-gamma model of the JCSS Probabilistic Model Code
+(Part 3.0, Annex A: parameters m, n, s, nu; Part 3.1 for ln f_c) this is exact
+with center = m, z_std = 1/sqrt(n), shape = nu/2, rate = nu s^2 / 2, rho = 0,
+and the predictive of a new Y is the Student-t Y = m + t_nu s sqrt(1 + 1/n);
+n = nu = 0 is the vague prior. For a posterior known only through MCMC draws,
+the same family is fitted to the draws (`NormalGamma.fit_draws`): smooth
+parametric marginals and a Gaussian copula, so the far tail of the physical
+quantity comes from its analytic conditional distribution, not from a
+histogram of draws.
 """
 
 from __future__ import annotations
@@ -17,57 +32,131 @@ from assess.errors import InputError
 
 
 @dataclasses.dataclass(frozen=True)
-class NormalGammaPrior:
-    """Parameters (m, n, s, nu) of a normal-gamma model in the JCSS notation.
-
-    The same type holds a prior (m', n', s', nu') and a posterior (m'', n'', s'', nu''),
-    so a posterior can serve as the prior of the next inspection campaign.
+class NormalGamma:
+    """Uncertain mean and standard deviation of a normal quantity Y.
 
     Attributes
     ----------
-    m : float
-        Mean of the modelled variable (here ln f_c with f_c in MPa) [ln MPa].
-    n : float
-        Equivalent number of observations behind ``m`` [-]; 0 = no information.
-    s : float
-        Standard deviation of the modelled variable [ln MPa].
-    nu : float
-        Degrees of freedom behind ``s`` [-]; 0 = no information.
+    center : float
+        Central value of the mean mu [units of Y].
+    z_std : float
+        Standard deviation of (mu - center)/sigma [-]; 1/sqrt(n) in the JCSS
+        notation (inf for the vague prior, n = 0).
+    shape, rate : float
+        Gamma distribution of the precision 1/sigma^2 (shape [-], rate
+        [units of Y squared]); shape = nu/2, rate = nu s^2 / 2 (0 for nu = 0).
+    rho : float
+        Normal-space correlation between precision and standardised location [-].
     source : str
-        Where the parameters come from.
+        Where the numbers come from.
+    z_mean : float
+        Mean of the standardised location [-]; 0 for a conjugate normal-gamma.
     log_scale : bool
-        True when the model is for ln X (the predictive is then reported for X).
-
-    Notes
-    -----
-    Equivalent to the textbook normal-gamma posterior with kappa = n, mu = m,
-    alpha = nu/2, beta = nu s^2/2 (from memory).
+        True when Y is the logarithm of the physical quantity X (the predictive
+        functions then report X).
     """
 
-    m: float
-    n: float
-    s: float
-    nu: float
-    source: str
+    center: float
+    z_std: float
+    shape: float
+    rate: float
+    rho: float = 0.0
+    source: str = ""
+    z_mean: float = 0.0
     log_scale: bool = True
 
     def __post_init__(self):
-        for name in ("m", "n", "s", "nu"):
-            value = getattr(self, name)
+        for name in ("center", "rho", "z_mean"):
+            if not math.isfinite(getattr(self, name)):
+                raise InputError(f"normal-gamma parameter {name} must be finite, got "
+                                 f"{getattr(self, name)!r} ({self.source})")
+        if not (self.z_std > 0) or self.shape < 0 or self.rate < 0 or not abs(self.rho) < 1:
+            raise InputError(f"normal-gamma parameters need z_std > 0, shape >= 0, rate >= 0 "
+                             f"and |rho| < 1; got z_std={self.z_std}, shape={self.shape}, "
+                             f"rate={self.rate}, rho={self.rho} ({self.source})")
+
+    @classmethod
+    def from_jcss(cls, m: float, n: float, s: float, nu: float, source: str = "",
+                  log_scale: bool = True) -> "NormalGamma":
+        """From the JCSS parameters (m, n, s, nu); n = nu = 0 is the vague prior."""
+        for name, value in (("m", m), ("n", n), ("s", s), ("nu", nu)):
             if not math.isfinite(value):
                 raise InputError(f"normal-gamma parameter {name} must be finite, got {value!r}")
-        if self.n < 0 or self.nu < 0 or self.s < 0:
-            raise InputError(
-                f"normal-gamma parameters n, nu and s must be >= 0, got n={self.n}, "
-                f"nu={self.nu}, s={self.s} ({self.source})")
+        if n < 0 or nu < 0 or s < 0:
+            raise InputError(f"normal-gamma parameters n, nu and s must be >= 0, got n={n}, "
+                             f"nu={nu}, s={s} ({source})")
+        z_std = math.inf if n == 0 else float(1.0 / math.sqrt(n))
+        return cls(center=float(m), z_std=z_std, shape=nu / 2.0, rate=nu * s * s / 2.0,
+                   source=source, log_scale=log_scale)
+
+    @classmethod
+    def fit_draws(cls, mu_draws, sigma_draws, source: str = "fitted to MCMC draws",
+                  log_scale: bool = True) -> "NormalGamma":
+        """Fit the family to posterior draws of (mu, sigma).
+
+        The precision marginal is a gamma fitted by maximum likelihood (location
+        fixed at 0); the standardised location is normal with the draws' mean and
+        standard deviation (centre absorbs the mean); the copula correlation is the
+        Pearson correlation of the normal scores of the ranks.
+        """
+        mu = np.asarray(mu_draws, dtype=float).ravel()
+        sigma = np.asarray(sigma_draws, dtype=float).ravel()
+        if mu.shape != sigma.shape or mu.size < 50:
+            raise InputError("need at least 50 paired draws of mu and sigma")
+        precision = 1.0 / sigma**2
+        shape, _, scale = stats.gamma.fit(precision, floc=0.0)
+        center = float(np.mean(mu))
+        z = (mu - center) / sigma
+        z_mean, z_std = float(np.mean(z)), float(np.std(z, ddof=1))
+        scores_q = stats.norm.ppf(stats.rankdata(precision) / (precision.size + 1))
+        scores_z = stats.norm.ppf(stats.rankdata(z) / (z.size + 1))
+        rho = float(np.corrcoef(scores_q, scores_z)[0, 1])
+        return cls(center=center, z_std=z_std, shape=float(shape), rate=float(1.0 / scale),
+                   rho=rho, source=source, z_mean=z_mean, log_scale=log_scale)
+
+    # JCSS notation (exact when rho = 0 and z_mean = 0)
+    @property
+    def m(self) -> float:
+        return self.center
+
+    @property
+    def n(self) -> float:
+        # 12 significant digits: a count of tests stored as 1/sqrt(n) comes back whole
+        return 0.0 if math.isinf(self.z_std) else float(f"{1.0 / self.z_std**2:.12g}")
+
+    @property
+    def nu(self) -> float:
+        return 2.0 * self.shape
+
+    @property
+    def s(self) -> float:
+        return 0.0 if self.shape == 0 else float(math.sqrt(self.rate / self.shape))
+
+    @property
+    def jcss(self) -> dict:
+        """Equivalent JCSS parameters m, n, s, nu (exact only when rho = 0 and z_mean = 0)."""
+        return {"m": self.m, "n": self.n, "s": self.s, "nu": self.nu}
+
+    def predictive(self) -> stats.rv_continuous:
+        """Student-t predictive of a new Y (exact for rho = 0) [units of Y]."""
+        return stats.t(df=self.nu, loc=self.m, scale=_predictive_scale(self))
+
+    def update(self, values) -> "NormalGamma":
+        """Conjugate update with observations of Y (JCSS PMC Part 3.0 Annex A).
+
+        Valid only for rho = 0 and z_mean = 0 (a conjugate normal-gamma).
+        """
+        if abs(self.rho) > 1e-12 or abs(self.z_mean) > 1e-12:
+            raise InputError("the conjugate update needs rho = 0 and z_mean = 0")
+        return update_normal_gamma(self, values)
 
 
-def update_normal_gamma(prior: NormalGammaPrior, log_values) -> NormalGammaPrior:
+def update_normal_gamma(prior: NormalGamma, log_values) -> NormalGamma:
     """Posterior after observing values of the modelled variable (JCSS PMC 3.0 Annex A).
 
     Parameters
     ----------
-    prior : NormalGammaPrior
+    prior : NormalGamma
         Prior parameters (m', n', s', nu'); n' = nu' = 0 is the vague prior.
     log_values : array-like
         Observations of the modelled variable, i.e. ln of the measured strengths
@@ -75,7 +164,7 @@ def update_normal_gamma(prior: NormalGammaPrior, log_values) -> NormalGammaPrior
 
     Returns
     -------
-    NormalGammaPrior
+    NormalGamma
         Posterior (m'', n'', s'', nu'').
 
     Notes
@@ -102,8 +191,8 @@ def update_normal_gamma(prior: NormalGammaPrior, log_values) -> NormalGammaPrior
     return update_normal_gamma_summary(prior, n=n, mean=mean, std=std)
 
 
-def update_normal_gamma_summary(prior: NormalGammaPrior, *, n: int, mean: float,
-                                std: float) -> NormalGammaPrior:
+def update_normal_gamma_summary(prior: NormalGamma, *, n: int, mean: float,
+                                std: float) -> NormalGamma:
     """Same as `update_normal_gamma` from summary statistics of the logs.
 
     Parameters
@@ -130,10 +219,10 @@ def update_normal_gamma_summary(prior: NormalGammaPrior, *, n: int, mean: float,
     else:
         s2 = 0.0
     source = f"{prior.source}; updated with {n} observation(s) (JCSS PMC 3.0 Annex A)"
-    return NormalGammaPrior(m=m2, n=n2, s=s2, nu=nu2, source=source, log_scale=prior.log_scale)
+    return NormalGamma.from_jcss(m2, n2, s2, nu2, source=source, log_scale=prior.log_scale)
 
 
-def _predictive_scale(post: NormalGammaPrior) -> float:
+def _predictive_scale(post: NormalGamma) -> float:
     if post.n <= 0 or post.nu <= 0 or post.s <= 0:
         raise InputError(
             "the Student-t predictive needs n > 0, nu > 0 and s > 0; got "
@@ -142,7 +231,7 @@ def _predictive_scale(post: NormalGammaPrior) -> float:
     return post.s * math.sqrt(1.0 + 1.0 / post.n)
 
 
-def predictive_quantile(post: NormalGammaPrior, p):
+def predictive_quantile(post: NormalGamma, p):
     """p-quantile of the predictive distribution of one new value.
 
     .. math:: \\ln f = m'' + t_{\\nu''}(p)\\, s'' \\sqrt{1 + 1/n''}
@@ -152,7 +241,7 @@ def predictive_quantile(post: NormalGammaPrior, p):
 
     Parameters
     ----------
-    post : NormalGammaPrior
+    post : NormalGamma
         Prior or posterior parameters.
     p : float or array-like
         Probability level(s) in (0, 1) [-], e.g. 0.05 for the characteristic value.
@@ -165,7 +254,7 @@ def predictive_quantile(post: NormalGammaPrior, p):
     return float(q) if q.ndim == 0 else q
 
 
-def predictive_cdf(post: NormalGammaPrior, x):
+def predictive_cdf(post: NormalGamma, x):
     """Predictive probability P(X <= x) of one new value (JCSS PMC 3.1).
 
     .. math:: F(x) = T_{\\nu''}\\left[(\\ln x - m'') / (s'' \\sqrt{1 + 1/n''})\\right]
@@ -186,15 +275,19 @@ def predictive_cdf(post: NormalGammaPrior, x):
     return float(out) if out.ndim == 0 else out
 
 
-def predictive_lognormal(post: NormalGammaPrior) -> tuple[float, float]:
+def predictive_lognormal(post: NormalGamma) -> tuple[float, float]:
     """Lognormal approximation (mu_ln, sigma_ln) of the predictive [ln MPa].
 
     Uses the exact variance of the scaled Student-t,
     sigma_ln^2 = s''^2 (1 + 1/n'') nu''/(nu'' - 2), valid for nu'' > 2 (standard
     result, from memory). JCSS PMC 3.1 calls the lognormal adequate for
     n'' nu'' > 10; its printed factor n''/(n'' - 1) appears to be a typo for
-    (n'' + 1)/n'' (domain notes 1.1).
+    (n'' + 1)/n'' (our reading of the JCSS text).
     """
     if post.nu <= 2:
         raise InputError(f"the predictive variance is finite only for nu > 2, got nu={post.nu}")
     return post.m, _predictive_scale(post) * math.sqrt(post.nu / (post.nu - 2.0))
+
+
+__all__ = ["NormalGamma", "predictive_cdf", "predictive_lognormal", "predictive_quantile",
+           "update_normal_gamma", "update_normal_gamma_summary"]

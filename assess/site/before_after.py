@@ -12,12 +12,12 @@ from __future__ import annotations
 
 import dataclasses
 import zlib
-from typing import Callable
+from typing import Any, Callable
 
 import numpy as np
 
-from assess.site.member_models import build_member_model
 from assess.reliability.dispatch import run_method
+from assess.site.member_models import build_member_model
 from assess.site.record import LedgerRow
 from assess.site.settings import DEFAULT_SEED
 from assess.targets import target_beta, verdict
@@ -33,9 +33,9 @@ class MemberResult:
     zone: str
     kind: str
     mode: str
-    before: object
-    after: object
-    form_after: object | None
+    before: Any
+    after: Any
+    form_after: Any | None
     target: float
     verdict: str
 
@@ -51,11 +51,21 @@ class MemberResult:
 
     def to_dict(self) -> dict:
         return {
-            "member": self.member, "zone": self.zone, "kind": self.kind, "mode": self.mode,
-            "beta_before": self.before.beta, "pf_before": self.before.pf, "cov_before": self.before.cov,
-            "beta_after": self.after.beta, "pf_after": self.after.pf, "cov_after": self.after.cov,
-            "n_calls": self.before.n_calls + self.after.n_calls, "method": self.after.method,
-            "seed": self.after.seed, "target": self.target, "verdict": self.verdict,
+            "member": self.member,
+            "zone": self.zone,
+            "kind": self.kind,
+            "mode": self.mode,
+            "beta_before": self.before.beta,
+            "pf_before": self.before.pf,
+            "cov_before": self.before.cov,
+            "beta_after": self.after.beta,
+            "pf_after": self.after.pf,
+            "cov_after": self.after.cov,
+            "n_calls": self.before.n_calls + self.after.n_calls,
+            "method": self.after.method,
+            "seed": self.after.seed,
+            "target": self.target,
+            "verdict": self.verdict,
             "drivers": [{"variable": n, "alpha2": a} for n, a in self.drivers()],
             "form_converged": None if self.form_after is None else bool(self.form_after.converged),
             "warnings": list(self.before.warnings) + list(self.after.warnings),
@@ -67,7 +77,7 @@ class Assessment:
     """The before/after table of a site and what it rests on."""
 
     results: list
-    target: object
+    target: Any
     reference_period_years: float
     notes: list
     method: str
@@ -77,17 +87,34 @@ class Assessment:
 
     def ledger_rows(self) -> list[LedgerRow]:
         """One ``"reliability"`` row per member and mode."""
-        settings = {"method": self.method, "options": self.options,
-                    "posterior_hash": self.posterior_hash}
-        return [LedgerRow("reliability", r.to_dict(), member=r.member, mode=r.mode,
-                          seed=r.after.seed, settings=settings) for r in self.results]
+        settings = {
+            "method": self.method,
+            "options": self.options,
+            "posterior_hash": self.posterior_hash,
+        }
+        return [
+            LedgerRow(
+                "reliability",
+                r.to_dict(),
+                member=r.member,
+                mode=r.mode,
+                seed=r.after.seed,
+                settings=settings,
+            )
+            for r in self.results
+        ]
 
     def to_dict(self) -> dict:
         return {
-            "target": {"beta": self.target.beta, "reference_period_years": self.target.reference_period_years,
-                       "source": self.target.source, "note": self.target.note},
+            "target": {
+                "beta": self.target.beta,
+                "reference_period_years": self.target.reference_period_years,
+                "source": self.target.source,
+                "note": self.target.note,
+            },
             "reference_period_years": self.reference_period_years,
-            "method": self.method, "seed": self.seed,
+            "method": self.method,
+            "seed": self.seed,
             "results": [r.to_dict() for r in self.results],
             "notes": list(self.notes),
         }
@@ -102,9 +129,17 @@ def _analysis_seed(seed: int, member: str, mode: str) -> int:
     return (int(seed) + zlib.crc32(f"{member}/{mode}".encode())) % (2**32)
 
 
-def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = DEFAULT_SEED,
-                   options: dict | None = None, importance: bool = True, members=None,
-                   progress: Callable[[str], None] | None = None) -> Assessment:
+def assess_members(
+    site,
+    update,
+    *,
+    method: str = DEFAULT_METHOD,
+    seed: int = DEFAULT_SEED,
+    options: dict | None = None,
+    importance: bool = True,
+    members=None,
+    progress: Callable[[str], None] | None = None,
+) -> Assessment:
     """Beta before and after updating for every member, mode and member system.
 
     Parameters
@@ -128,31 +163,49 @@ def assess_members(site, update, *, method: str = DEFAULT_METHOD, seed: int = DE
     target = target_beta(site.target.consequence_class, period, site.target.cost_of_safety)
     chosen = list(members) if members is not None else list(site.members)
     use = getattr(getattr(site, "priors", None), "imposed_use", None) or "commercial"
-    results, notes = [], []
+    results: list[MemberResult] = []
+    notes: list[str] = []
     for member_id in chosen:
         member = site.members[member_id]
-        models = {state: build_member_model(site, member, knowledge[member.zone],
-                                            reference_period_years=period, car_park_use=use)
-                  for state, knowledge in (("before", update.before), ("after", update.after))}
+        models = {
+            state: build_member_model(
+                site,
+                member,
+                knowledge[member.zone],
+                reference_period_years=period,
+                car_park_use=use,
+            )
+            for state, knowledge in (("before", update.before), ("after", update.after))
+        }
         notes.extend(n for n in models["after"].notes if n not in notes)
         modes = list(models["after"].modes)
         groups = [[m] for m in modes] + ([modes] if len(modes) > 1 else [])
         for group in groups:
             label = group[0] if len(group) == 1 else "system"
             run_seed = _analysis_seed(seed, member_id, label)
-            outcome = {state: run_method(models[state].problem(group), method, seed=run_seed,
-                                         **options)
-                       for state in ("before", "after")}
+            outcome = {
+                state: run_method(models[state].problem(group), method, seed=run_seed, **options)
+                for state in ("before", "after")
+            }
             form_after = None
             if importance and label != "system":
                 form_after = run_method(models["after"].problem(group), "form")
             beta_after = outcome["after"].beta
-            results.append(MemberResult(
-                member=member_id, zone=member.zone, kind=member.kind, mode=label,
-                before=outcome["before"], after=outcome["after"], form_after=form_after,
-                target=target.beta,
-                verdict=_verdict(beta_after, target)))
+            results.append(
+                MemberResult(
+                    member=member_id,
+                    zone=member.zone,
+                    kind=member.kind,
+                    mode=label,
+                    before=outcome["before"],
+                    after=outcome["after"],
+                    form_after=form_after,
+                    target=target.beta,
+                    verdict=_verdict(beta_after, target),
+                )
+            )
         if progress:
             progress(member_id)
-    return Assessment(results, target, period, notes, method, seed, options,
-                      getattr(update, "data_hash", ""))
+    return Assessment(
+        results, target, period, notes, method, seed, options, getattr(update, "data_hash", "")
+    )

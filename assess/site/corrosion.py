@@ -49,6 +49,7 @@ from __future__ import annotations
 import dataclasses
 import json
 import math
+from typing import Any
 
 import numpy as np
 
@@ -99,15 +100,23 @@ class CorrosionInputs:
         for name in ("initiation_log_sd", "rate_log_sd"):
             value = getattr(self, name)
             if not (math.isfinite(value) and value > 0):
-                raise InputError(f"The {name!r} of CorrosionInputs for zone {self.zone!r} must "
-                                 f"be > 0. Got {value!r}.", column=name)
+                raise InputError(
+                    f"The {name!r} of CorrosionInputs for zone {self.zone!r} must "
+                    f"be > 0. Got {value!r}.",
+                    column=name,
+                )
         for name in ("initiation_log_mean", "rate_log_mean"):
             if not math.isfinite(getattr(self, name)):
-                raise InputError(f"The {name!r} of CorrosionInputs for zone {self.zone!r} must "
-                                 "be finite.", column=name)
+                raise InputError(
+                    f"The {name!r} of CorrosionInputs for zone {self.zone!r} must be finite.",
+                    column=name,
+                )
         if not -1.0 < self.log_correlation < 1.0:
-            raise InputError(f"The copula correlation of zone {self.zone!r} must lie in (-1, 1). "
-                             f"Got {self.log_correlation!r}.", column="log_correlation")
+            raise InputError(
+                f"The copula correlation of zone {self.zone!r} must lie in (-1, 1). "
+                f"Got {self.log_correlation!r}.",
+                column="log_correlation",
+            )
 
     @classmethod
     def from_draws(cls, zone, initiation_draws, rate_draws, source="posterior draws"):
@@ -125,27 +134,47 @@ class CorrosionInputs:
         t_i = np.asarray(initiation_draws, dtype=float).ravel()
         rate = np.asarray(rate_draws, dtype=float).ravel()
         if t_i.shape != rate.shape or t_i.size < 50:
-            raise InputError(f"zone {zone!r}: need at least 50 paired draws of t_i and i_corr, "
-                             f"got {t_i.size} and {rate.size}.", column="draws")
-        if not (np.all(np.isfinite(t_i)) and np.all(t_i > 0) and np.all(np.isfinite(rate))
-                and np.all(rate > 0)):
-            raise InputError(f"zone {zone!r}: draws of t_i and i_corr must be finite and > 0.",
-                             column="draws")
+            raise InputError(
+                f"zone {zone!r}: need at least 50 paired draws of t_i and i_corr, "
+                f"got {t_i.size} and {rate.size}.",
+                column="draws",
+            )
+        if not (
+            np.all(np.isfinite(t_i))
+            and np.all(t_i > 0)
+            and np.all(np.isfinite(rate))
+            and np.all(rate > 0)
+        ):
+            raise InputError(
+                f"zone {zone!r}: draws of t_i and i_corr must be finite and > 0.", column="draws"
+            )
         log_t, log_r = np.log(t_i), np.log(rate)
         rho = float(np.corrcoef(log_t, log_r)[0, 1])
-        return cls(zone=str(zone), initiation_log_mean=float(log_t.mean()),
-                   initiation_log_sd=float(log_t.std(ddof=1)),
-                   rate_log_mean=float(log_r.mean()), rate_log_sd=float(log_r.std(ddof=1)),
-                   log_correlation=float(np.clip(rho, -0.999, 0.999)), origin="posterior",
-                   source=source, n_draws=int(t_i.size))
+        return cls(
+            zone=str(zone),
+            initiation_log_mean=float(log_t.mean()),
+            initiation_log_sd=float(log_t.std(ddof=1)),
+            rate_log_mean=float(log_r.mean()),
+            rate_log_sd=float(log_r.std(ddof=1)),
+            log_correlation=float(np.clip(rho, -0.999, 0.999)),
+            origin="posterior",
+            source=source,
+            n_draws=int(t_i.size),
+        )
 
     @classmethod
     def from_prior(cls, zone, prior):
         """From an `assess.updating.corrosion.ZoneCorrosionPrior` (independent t_i, i_corr)."""
-        return cls(zone=str(zone), initiation_log_mean=math.log(prior.initiation_median_years),
-                   initiation_log_sd=float(prior.initiation_log_sd),
-                   rate_log_mean=math.log(prior.rate_median), rate_log_sd=float(prior.rate_log_sd),
-                   log_correlation=0.0, origin="prior", source=prior.source)
+        return cls(
+            zone=str(zone),
+            initiation_log_mean=math.log(prior.initiation_median_years),
+            initiation_log_sd=float(prior.initiation_log_sd),
+            rate_log_mean=math.log(prior.rate_median),
+            rate_log_sd=float(prior.rate_log_sd),
+            log_correlation=0.0,
+            origin="prior",
+            source=prior.source,
+        )
 
     @property
     def initiation_median(self) -> float:
@@ -164,17 +193,26 @@ class CorrosionInputs:
         ln i_corr | t_i ~ N(m_r + rho s_r (ln t_i - m_t) / s_t, s_r^2 (1 - rho^2)),
         which gives exactly the lognormal marginals and the copula correlation rho.
         """
-        model.add(initiation_name, make_distribution(
-            "lognormal", mu_ln=self.initiation_log_mean, sigma_ln=self.initiation_log_sd,
-            name=initiation_name))
+        model.add(
+            initiation_name,
+            make_distribution(
+                "lognormal",
+                mu_ln=self.initiation_log_mean,
+                sigma_ln=self.initiation_log_sd,
+                name=initiation_name,
+            ),
+        )
         rho = self.log_correlation
         conditional_sd = self.rate_log_sd * math.sqrt(1.0 - rho * rho)
 
         def rate_params(values):
-            score = (np.log(values[initiation_name]) - self.initiation_log_mean) \
-                / self.initiation_log_sd
-            return {"mu_ln": self.rate_log_mean + rho * self.rate_log_sd * score,
-                    "sigma_ln": np.full_like(score, conditional_sd)}
+            score = (
+                np.log(values[initiation_name]) - self.initiation_log_mean
+            ) / self.initiation_log_sd
+            return {
+                "mu_ln": self.rate_log_mean + rho * self.rate_log_sd * score,
+                "sigma_ln": np.full_like(score, conditional_sd),
+            }
 
         model.add_conditional(rate_name, "lognormal", [initiation_name], rate_params)
 
@@ -184,8 +222,10 @@ class CorrosionInputs:
         z1, z2 = rng.standard_normal((2, int(n)))
         rho = self.log_correlation
         z2 = rho * z1 + math.sqrt(1.0 - rho * rho) * z2
-        return {INITIATION_NAME: np.exp(self.initiation_log_mean + self.initiation_log_sd * z1),
-                RATE_NAME: np.exp(self.rate_log_mean + self.rate_log_sd * z2)}
+        return {
+            INITIATION_NAME: np.exp(self.initiation_log_mean + self.initiation_log_sd * z1),
+            RATE_NAME: np.exp(self.rate_log_mean + self.rate_log_sd * z2),
+        }
 
     def to_dict(self) -> dict:
         out = dataclasses.asdict(self)
@@ -210,8 +250,8 @@ def initiation_time_prior_draws(site, zone_id, n=20_000, seed=0) -> np.ndarray:
         Initiation times since construction [yr]; +inf where neither process
         reaches the bar.
     """
-    from assess.site.knowledge import design_knowledge
     from assess.site.initiation import default_carbonation_draws, default_chloride_draws
+    from assess.site.knowledge import design_knowledge
 
     rng, _ = resolve_seed(seed, "initiation_time_prior_draws")
     cover = design_knowledge(site)[zone_id]["cover"].predictive().rvs(size=n, random_state=rng)
@@ -226,9 +266,13 @@ def prior_corrosion(site, zone_id, *, n=20_000, seed=0):
 
     draws = initiation_time_prior_draws(site, zone_id, n=n, seed=seed)
     prior = ZoneCorrosionPrior.from_initiation_draws(site.zones[zone_id].exposure, draws)
-    return dataclasses.replace(prior, source=prior.source.replace(
-        "fitted to posterior draws", "fib 34 chloride/carbonation initiation with default "
-                                     "parameters (prior)"))
+    return dataclasses.replace(
+        prior,
+        source=prior.source.replace(
+            "fitted to posterior draws",
+            "fib 34 chloride/carbonation initiation with default parameters (prior)",
+        ),
+    )
 
 
 @dataclasses.dataclass(frozen=True)
@@ -246,8 +290,8 @@ class CorrosionEvidence:
     """
 
     zones: tuple
-    section_loss: object
-    half_cell: object
+    section_loss: Any
+    half_cell: Any
     counts: dict
 
 
@@ -270,12 +314,13 @@ def corrosion_evidence(site, until_date=None, include_flagged=()) -> CorrosionEv
         loss = ledger.observations(kind="section_loss", until_date=until_date)
         cells = ledger.observations(kind="halfcell", until_date=until_date)
     frames = {}
-    for key, frame, quantity in (("section_loss", loss, "residual_area_ratio"),
-                                 ("half_cell", cells, "potential")):
+    for key, frame, quantity in (
+        ("section_loss", loss, "residual_area_ratio"),
+        ("half_cell", cells, "potential"),
+    ):
         frame = frame[(frame["quantity"] == quantity) & frame["zone"].isin(zones)]
         if len(frame):
-            frame = frame[usable_mask(frame["flags"],
-                                      include_flagged=set(include_flagged) or None)]
+            frame = frame[usable_mask(frame["flags"], include_flagged=set(include_flagged) or None)]
         frames[key] = frame.reset_index(drop=True)
         for zone, n in frame.groupby("zone").size().items():
             counts[zone][key] = int(n)
@@ -288,26 +333,40 @@ def corrosion_evidence(site, until_date=None, include_flagged=()) -> CorrosionEv
         for row in frame.itertuples():
             extra = json.loads(row.extra) if row.extra else {}
             if "bar_diameter" not in extra:
-                raise InputError("section-loss record has no original bar diameter",
-                                 file=row.file, row=row.source_row, column="bar_diameter")
+                raise InputError(
+                    "section-loss record has no original bar diameter",
+                    file=row.file,
+                    row=row.source_row,
+                    column="bar_diameter",
+                )
             diameters.append(float(extra["bar_diameter"]))
         section_loss = SectionLossData(
             age_years=np.array([age_at(site, d) for d in frame["date"]]),
             residual_area_ratio=frame["value"].to_numpy(dtype=float),
             bar_diameter_mm=np.array(diameters),
-            zone_index=frame["zone"].map(index).to_numpy(dtype=int))
+            zone_index=frame["zone"].map(index).to_numpy(dtype=int),
+        )
     frame = frames["half_cell"]
     if len(frame):
         half_cell = HalfCellData(
             age_years=np.array([age_at(site, d) for d in frame["date"]]),
             potential_mv_cse=frame["value"].to_numpy(dtype=float),
-            zone_index=frame["zone"].map(index).to_numpy(dtype=int))
+            zone_index=frame["zone"].map(index).to_numpy(dtype=int),
+        )
     return CorrosionEvidence(used, section_loss, half_cell, counts)
 
 
-def update_corrosion(site, *, settings: RunSettings | None = None, until_date=None,
-                     evidence=None, prior_samples=20_000, store=True, model=None,
-                     initiation=None):
+def update_corrosion(
+    site,
+    *,
+    settings: RunSettings | None = None,
+    until_date=None,
+    evidence=None,
+    prior_samples=20_000,
+    store=True,
+    model=None,
+    initiation=None,
+):
     """Posterior of (t_i, i_corr) per zone from the site's break-outs and half-cell surveys.
 
     Runs `assess.updating.corrosion.fit_corrosion` (PyMC, convergence-gated)
@@ -349,26 +408,34 @@ def update_corrosion(site, *, settings: RunSettings | None = None, until_date=No
         When an MCMC run (chloride, carbonation or corrosion) fails the gate.
     """
     from assess.site.initiation import initiation_prior, update_initiation
-    from assess.updating.corrosion import (PARAMETER_NAMES, CorrosionFit,
-                                           CorrosionModelSettings, fit_corrosion)
+    from assess.updating.corrosion import (
+        PARAMETER_NAMES,
+        CorrosionFit,
+        CorrosionModelSettings,
+        fit_corrosion,
+    )
 
     settings = settings or RunSettings()
     seed = settings.seed
     model = CorrosionModelSettings() if model is None else model
     if not isinstance(model, CorrosionModelSettings):
-        raise InputError("The 'model' parameter of update_corrosion must be a "
-                         f"CorrosionModelSettings. Got {type(model).__name__}.",
-                         column="model")
+        raise InputError(
+            "The 'model' parameter of update_corrosion must be a "
+            f"CorrosionModelSettings. Got {type(model).__name__}.",
+            column="model",
+        )
     evidence = evidence if evidence is not None else corrosion_evidence(site, until_date)
     if not evidence.zones:
         return None
     if initiation is None:
-        initiation = update_initiation(site, evidence.zones, settings=settings,
-                                       until_date=until_date, store=store)
+        initiation = update_initiation(
+            site, evidence.zones, settings=settings, until_date=until_date, store=store
+        )
     priors, scatter = {}, {}
     for i, zone in enumerate(evidence.zones):
         priors[zone], scatter[zone] = initiation_prior(
-            site, zone, initiation, seed=np.random.default_rng([int(seed), i]), n=prior_samples)
+            site, zone, initiation, seed=np.random.default_rng([int(seed), i]), n=prior_samples
+        )
     if model.spatial_log_sd is not None:
         scatter = {z: model.spatial_log_sd for z in evidence.zones}
     fit = settings.fit("corrosion")
@@ -376,34 +443,64 @@ def update_corrosion(site, *, settings: RunSettings | None = None, until_date=No
     def listed(data):
         if data is None:
             return None
-        return {f.name: np.asarray(getattr(data, f.name), dtype=float)
-                for f in dataclasses.fields(data)}
+        return {
+            f.name: np.asarray(getattr(data, f.name), dtype=float) for f in dataclasses.fields(data)
+        }
 
-    payload = {"zones": list(evidence.zones), "section_loss": listed(evidence.section_loss),
-               "half_cell": listed(evidence.half_cell), "priors": priors, "seed": seed,
-               "fit": fit, "breakout_quantile": model.breakout_quantile,
-               "spatial_log_sd": scatter}
+    payload = {
+        "zones": list(evidence.zones),
+        "section_loss": listed(evidence.section_loss),
+        "half_cell": listed(evidence.half_cell),
+        "priors": priors,
+        "seed": seed,
+        "fit": fit,
+        "breakout_quantile": model.breakout_quantile,
+        "spatial_log_sd": scatter,
+    }
 
     def sample():
-        return fit_corrosion(list(evidence.zones), priors=priors, seed=seed,
-                             section_loss=evidence.section_loss, half_cell=evidence.half_cell,
-                             spatial_log_sd=scatter, breakout_quantile=model.breakout_quantile,
-                             draws=fit.draws, tune=fit.tune, chains=fit.chains,
-                             target_accept=fit.target_accept, sampler=fit.sampler)
+        return fit_corrosion(
+            list(evidence.zones),
+            priors=priors,
+            seed=seed,
+            section_loss=evidence.section_loss,
+            half_cell=evidence.half_cell,
+            spatial_log_sd=scatter,
+            breakout_quantile=model.breakout_quantile,
+            draws=fit.draws,
+            tune=fit.tune,
+            chains=fit.chains,
+            target_accept=fit.target_accept,
+            sampler=fit.sampler,
+        )
 
     def rebuild(idata, gate):
-        return CorrosionFit(idata=idata, gate=gate, zones=tuple(evidence.zones), priors=priors,
-                            spatial_log_sd=scatter, seed=int(seed),
-                            breakout_quantile=model.breakout_quantile)
+        return CorrosionFit(
+            idata=idata,
+            gate=gate,
+            zones=tuple(evidence.zones),
+            priors=priors,
+            spatial_log_sd=scatter,
+            seed=int(seed),
+            breakout_quantile=model.breakout_quantile,
+        )
 
-    cached = cached_posterior(site.folder if store else None, "corrosion", payload,
-                              sample=sample, rebuild=rebuild, parameter_names=PARAMETER_NAMES,
-                              what="corrosion initiation and rate", fit="corrosion")
+    cached = cached_posterior(
+        site.folder if store else None,
+        "corrosion",
+        payload,
+        sample=sample,
+        rebuild=rebuild,
+        parameter_names=PARAMETER_NAMES,
+        what="corrosion initiation and rate",
+        fit="corrosion",
+    )
     return cached.fit
 
 
-def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000,
-                          initiation=None) -> dict:
+def zone_corrosion_inputs(
+    site, fit=None, *, seed=20261202, prior_samples=20_000, initiation=None
+) -> dict:
     """`CorrosionInputs` of every zone: posterior where ``fit`` covers the zone, else prior.
 
     Parameters
@@ -426,19 +523,32 @@ def zone_corrosion_inputs(site, fit=None, *, seed=20261202, prior_samples=20_000
         if fit is not None and zone_id in tuple(fit.zones):
             draws = fit.zone_draws(zone_id)
             out[zone_id] = CorrosionInputs.from_draws(
-                zone_id, draws["initiation_time"], draws["corrosion_rate"],
+                zone_id,
+                draws["initiation_time"],
+                draws["corrosion_rate"],
                 source=f"posterior of zone {zone_id} from break-outs and half-cell surveys "
-                       "(MCMC; lognormal marginals, Gaussian copula)")
-        elif initiation is not None and (zone_id in initiation.chloride
-                                         or zone_id in initiation.carbonation):
+                "(MCMC; lognormal marginals, Gaussian copula)",
+            )
+        elif initiation is not None and (
+            zone_id in initiation.chloride or zone_id in initiation.carbonation
+        ):
             prior, _ = initiation_prior(site, zone_id, initiation, seed=seed, n=prior_samples)
             out[zone_id] = CorrosionInputs.from_prior(zone_id, prior)
         else:
             out[zone_id] = CorrosionInputs.from_prior(
-                zone_id, prior_corrosion(site, zone_id, n=prior_samples, seed=seed))
+                zone_id, prior_corrosion(site, zone_id, n=prior_samples, seed=seed)
+            )
     return out
 
 
-__all__ = ["CorrosionEvidence", "CorrosionInputs", "age_at", "construction_date",
-           "corrosion_evidence", "initiation_time_prior_draws", "prior_corrosion",
-           "update_corrosion", "zone_corrosion_inputs"]
+__all__ = [
+    "CorrosionEvidence",
+    "CorrosionInputs",
+    "age_at",
+    "construction_date",
+    "corrosion_evidence",
+    "initiation_time_prior_draws",
+    "prior_corrosion",
+    "update_corrosion",
+    "zone_corrosion_inputs",
+]

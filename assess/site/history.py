@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+from typing import Any
 
 from assess.site.before_after import assess_members
 from assess.site.materials import update_site
@@ -29,13 +30,19 @@ class CampaignAssessment:
     date: dt.date
     data_until: dt.date
     counts: dict
-    assessment: object
+    assessment: Any
 
     def rows(self) -> list[dict]:
         """One row per member and mode: campaign, date, betas, verdict."""
-        return [{"campaign": self.campaign, "date": self.date.isoformat(),
-                 "data_until": self.data_until.isoformat(), **r.to_dict()}
-                for r in self.assessment.results]
+        return [
+            {
+                "campaign": self.campaign,
+                "date": self.date.isoformat(),
+                "data_until": self.data_until.isoformat(),
+                **r.to_dict(),
+            }
+            for r in self.assessment.results
+        ]
 
 
 def campaign_cutoffs(ledger: Ledger) -> list[tuple[str, dt.date, dt.date]]:
@@ -49,15 +56,16 @@ def campaign_cutoffs(ledger: Ledger) -> list[tuple[str, dt.date, dt.date]]:
     observations = ledger.observations()
     cutoffs = []
     for index, campaign in enumerate(campaigns):
-        names = {c.name for c in campaigns[:index + 1]}
+        names = {c.name for c in campaigns[: index + 1]}
         dates = observations.loc[observations["campaign"].isin(names), "date"]
         last = max(dates) if len(dates) else campaign.date
         cutoffs.append((campaign.name, campaign.date, max(last, campaign.date)))
     return cutoffs
 
 
-def reassess_history(site, *, settings: RunSettings | None = None,
-                     method: str = "subset_simulation", progress=None) -> list[CampaignAssessment]:
+def reassess_history(
+    site, *, settings: RunSettings | None = None, method: str = "subset_simulation", progress=None
+) -> list[CampaignAssessment]:
     """Re-assess the site as of each campaign, with only the data known then.
 
     Each cut-off gets its own materials update (cached like every fit) and
@@ -71,8 +79,14 @@ def reassess_history(site, *, settings: RunSettings | None = None,
     history = []
     for name, date, until in cutoffs:
         update = update_site(site, settings=settings, until_date=until)
-        assessment = assess_members(site, update, method=method, seed=settings.seed,
-                                    options=settings.reliability_options, importance=False)
+        assessment = assess_members(
+            site,
+            update,
+            method=method,
+            seed=settings.seed,
+            options=settings.reliability_options,
+            importance=False,
+        )
         history.append(CampaignAssessment(name, date, until, update.counts(), assessment))
         if progress:
             progress(name)
@@ -81,13 +95,26 @@ def reassess_history(site, *, settings: RunSettings | None = None,
 
 def history_ledger_rows(history: list[CampaignAssessment]) -> list[LedgerRow]:
     """One ``"history"`` row per campaign, member and mode."""
-    rows = []
+    rows: list[LedgerRow] = []
     for entry in history:
         a = entry.assessment
-        settings = {"method": a.method, "options": a.options, "posterior_hash": a.posterior_hash,
-                    "data_until": entry.data_until.isoformat()}
-        rows.extend(LedgerRow("history", row, member=row["member"], mode=row["mode"],
-                              seed=row["seed"], settings=settings) for row in entry.rows())
+        settings = {
+            "method": a.method,
+            "options": a.options,
+            "posterior_hash": a.posterior_hash,
+            "data_until": entry.data_until.isoformat(),
+        }
+        rows.extend(
+            LedgerRow(
+                "history",
+                row,
+                member=row["member"],
+                mode=row["mode"],
+                seed=row["seed"],
+                settings=settings,
+            )
+            for row in entry.rows()
+        )
     return rows
 
 

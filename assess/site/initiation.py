@@ -107,9 +107,12 @@ class ZoneCover:
         same as a normal for the small CoV of a surveyed mean, and never <= 0.
         """
         if self.standard_error_mm > 0:
-            return DistributionSpec("lognormal", {"mean": self.mean_mm,
-                                                  "sd": self.standard_error_mm}, "[mm]",
-                                    self.source)
+            return DistributionSpec(
+                "lognormal",
+                {"mean": self.mean_mm, "sd": self.standard_error_mm},
+                "[mm]",
+                self.source,
+            )
         return DistributionSpec("deterministic", {"value": self.mean_mm}, "[mm]", self.source)
 
 
@@ -186,31 +189,50 @@ def initiation_data(site, until_date=None, include_flagged=()) -> InitiationData
 
     empty = {"depth_mm": np.zeros(0), "age_years": np.zeros(0), "zone": np.zeros(0, str)}
     if not has_ledger(site.folder):
-        return InitiationData({**empty, "chloride": np.zeros(0)}, dict(empty),
-                              {z: design_cover(site, z) for z in site.zones})
+        return InitiationData(
+            {**empty, "chloride": np.zeros(0)},
+            dict(empty),
+            {z: design_cover(site, z) for z in site.zones},
+        )
     frame = _observations(site, "chloride", "chloride", until_date, include_flagged)
     depth = []
     for row in frame.itertuples():
         extra = _extra(row)
         if "depth_mid" not in extra:
-            raise InputError("chloride record has no increment mid-depth", file=row.file,
-                             row=row.source_row, column="depth_mid")
+            raise InputError(
+                "chloride record has no increment mid-depth",
+                file=row.file,
+                row=row.source_row,
+                column="depth_mid",
+            )
         if row.unit != CHLORIDE_UNIT:
-            raise InputError(f"chloride value in {row.unit!r}; expected {CHLORIDE_UNIT!r}",
-                             file=row.file, row=row.source_row, column="chloride")
+            raise InputError(
+                f"chloride value in {row.unit!r}; expected {CHLORIDE_UNIT!r}",
+                file=row.file,
+                row=row.source_row,
+                column="chloride",
+            )
         if not (math.isfinite(row.value) and row.value > 0):
-            raise InputError(f"chloride value {row.value!r} must be > 0 (enter a value below "
-                             "the detection limit at the limit)", file=row.file,
-                             row=row.source_row, column="chloride")
+            raise InputError(
+                f"chloride value {row.value!r} must be > 0 (enter a value below "
+                "the detection limit at the limit)",
+                file=row.file,
+                row=row.source_row,
+                column="chloride",
+            )
         depth.append(float(extra["depth_mid"]))
-    chloride = {"depth_mm": np.array(depth, dtype=float),
-                "age_years": np.array([age_at(site, d) for d in frame["date"]], dtype=float),
-                "chloride": frame["value"].to_numpy(dtype=float),
-                "zone": frame["zone"].to_numpy(dtype=str)}
+    chloride = {
+        "depth_mm": np.array(depth, dtype=float),
+        "age_years": np.array([age_at(site, d) for d in frame["date"]], dtype=float),
+        "chloride": frame["value"].to_numpy(dtype=float),
+        "zone": frame["zone"].to_numpy(dtype=str),
+    }
     frame = _observations(site, "carbonation", "carbonation_depth", until_date, include_flagged)
-    carbonation = {"depth_mm": frame["value"].to_numpy(dtype=float),
-                   "age_years": np.array([age_at(site, d) for d in frame["date"]], dtype=float),
-                   "zone": frame["zone"].to_numpy(dtype=str)}
+    carbonation = {
+        "depth_mm": frame["value"].to_numpy(dtype=float),
+        "age_years": np.array([age_at(site, d) for d in frame["date"]], dtype=float),
+        "zone": frame["zone"].to_numpy(dtype=str),
+    }
     frame = _observations(site, "cover", "cover", until_date, include_flagged)
     covers = {}
     for zone in site.zones:
@@ -241,16 +263,21 @@ def surveyed_cover(zone_id, readings, reading_sd_mm=COVER_READING_SD_MM) -> Zone
     """
     values = np.asarray(readings, dtype=float)
     if values.size < 2 or not np.all(np.isfinite(values)) or np.any(values <= 0):
-        raise InputError(f"zone {zone_id!r}: a cover survey needs at least 2 readings > 0 [mm].",
-                         column="cover")
+        raise InputError(
+            f"zone {zone_id!r}: a cover survey needs at least 2 readings > 0 [mm].", column="cover"
+        )
     sd = float(values.std(ddof=1))
     scatter = math.sqrt(max(sd * sd - reading_sd_mm**2, reading_sd_mm**2))
-    return ZoneCover(zone=zone_id, mean_mm=float(values.mean()),
-                     standard_error_mm=sd / math.sqrt(values.size), scatter_mm=scatter,
-                     n=int(values.size),
-                     source=f"cover survey of zone {zone_id}: mean of {values.size} readings "
-                            f"(standard error s/sqrt(n)); scatter without a {reading_sd_mm:g} mm "
-                            "reading error")
+    return ZoneCover(
+        zone=zone_id,
+        mean_mm=float(values.mean()),
+        standard_error_mm=sd / math.sqrt(values.size),
+        scatter_mm=scatter,
+        n=int(values.size),
+        source=f"cover survey of zone {zone_id}: mean of {values.size} readings "
+        f"(standard error s/sqrt(n)); scatter without a {reading_sd_mm:g} mm "
+        "reading error",
+    )
 
 
 def design_cover(site, zone_id) -> ZoneCover:
@@ -263,16 +290,19 @@ def design_cover(site, zone_id) -> ZoneCover:
     from assess.site.knowledge import design_knowledge
 
     jcss = design_knowledge(site)[zone_id]["cover"].jcss
-    return ZoneCover(zone=zone_id, mean_mm=float(jcss["m"]),
-                     standard_error_mm=float(jcss["s"] / math.sqrt(jcss["n"])),
-                     scatter_mm=float(jcss["s"]), n=0,
-                     source=f"design cover of zone {zone_id} (nominal covers, JCSS PMC "
-                            "Part 3.10)")
+    return ZoneCover(
+        zone=zone_id,
+        mean_mm=float(jcss["m"]),
+        standard_error_mm=float(jcss["s"] / math.sqrt(jcss["n"])),
+        scatter_mm=float(jcss["s"]),
+        n=0,
+        source=f"design cover of zone {zone_id} (nominal covers, JCSS PMC Part 3.10)",
+    )
 
 
 def exposure_groups(site, zones) -> dict:
     """Zones grouped by exposure class, in site order: exposure -> list of zone names."""
-    groups = {}
+    groups: dict[str, list[str]] = {}
     for zone in site.zones:
         if zone in zones:
             groups.setdefault(site.zones[zone].exposure, []).append(zone)
@@ -285,18 +315,27 @@ def chloride_priors(site, zones):
 
     exposure = site.zones[zones[0]].exposure
     temperatures = [site.zones[z].mean_annual_temperature for z in zones]
-    temperature = (None if any(t is None for t in temperatures)
-                   else float(np.mean(temperatures)))
+    temperature = None if any(t is None for t in temperatures) else float(np.mean(temperatures))
     materials = site.materials
     # the site file may omit the binder: CEM I and w/c 0.5 are then assumed (common practice)
-    return ChloridePriors.from_site(exposure, materials.cement_type or "CEM I",
-                                    materials.water_cement_ratio or 0.5,
-                                    mean_annual_temperature_c=temperature)
+    return ChloridePriors.from_site(
+        exposure,
+        materials.cement_type or "CEM I",
+        materials.water_cement_ratio or 0.5,
+        mean_annual_temperature_c=temperature,
+    )
 
 
-def update_initiation(site, zones=None, *, settings: RunSettings | None = None,
-                      until_date=None, include_flagged=(), data=None,
-                      store=True) -> InitiationFits:
+def update_initiation(
+    site,
+    zones=None,
+    *,
+    settings: RunSettings | None = None,
+    until_date=None,
+    include_flagged=(),
+    data=None,
+    store=True,
+) -> InitiationFits:
     """Chloride and carbonation posteriors of the zones, one fit per exposure class.
 
     Parameters
@@ -340,21 +379,35 @@ def update_initiation(site, zones=None, *, settings: RunSettings | None = None,
 
             def run_chloride(subset=subset, present=present, priors=priors, fit=fit):
                 return chloride_update.fit_chloride(
-                    subset["depth_mm"], subset["age_years"], subset["chloride"],
-                    subset["zone_index"], present, priors=priors, seed=seed, draws=fit.draws,
-                    tune=fit.tune, chains=fit.chains, target_accept=fit.target_accept,
-                    sampler=fit.sampler)
+                    subset["depth_mm"],
+                    subset["age_years"],
+                    subset["chloride"],
+                    subset["zone_index"],
+                    present,
+                    priors=priors,
+                    seed=seed,
+                    draws=fit.draws,
+                    tune=fit.tune,
+                    chains=fit.chains,
+                    target_accept=fit.target_accept,
+                    sampler=fit.sampler,
+                )
 
             def rebuild_chloride(idata, gate, present=present, priors=priors):
-                return chloride_update.ChlorideFit(idata=idata, gate=gate, zones=tuple(present),
-                                                   priors=priors, seed=int(seed))
+                return chloride_update.ChlorideFit(
+                    idata=idata, gate=gate, zones=tuple(present), priors=priors, seed=int(seed)
+                )
 
             cached = cached_posterior(
-                folder, "chloride", {"data": subset, "priors": priors, "zones": present,
-                                     "seed": seed, "fit": fit},
-                sample=run_chloride, rebuild=rebuild_chloride,
+                folder,
+                "chloride",
+                {"data": subset, "priors": priors, "zones": present, "seed": seed, "fit": fit},
+                sample=run_chloride,
+                rebuild=rebuild_chloride,
                 parameter_names=chloride_update.PARAMETER_NAMES,
-                what="chloride-ingress parameters", fit="chloride")
+                what="chloride-ingress parameters",
+                fit="chloride",
+            )
             chloride_fits.update({z: cached.fit for z in present})
         present = [z for z in group if (data.carbonation["zone"] == z).any()]
         if present:
@@ -365,24 +418,36 @@ def update_initiation(site, zones=None, *, settings: RunSettings | None = None,
 
             def run_carbonation(subset=subset, present=present, priors=priors, fit=fit):
                 return carbonation_update.fit_carbonation(
-                    subset["depth_mm"], subset["age_years"], subset["zone_index"], present,
-                    priors=priors, seed=seed, draws=fit.draws, tune=fit.tune,
-                    chains=fit.chains, target_accept=fit.target_accept, sampler=fit.sampler)
+                    subset["depth_mm"],
+                    subset["age_years"],
+                    subset["zone_index"],
+                    present,
+                    priors=priors,
+                    seed=seed,
+                    draws=fit.draws,
+                    tune=fit.tune,
+                    chains=fit.chains,
+                    target_accept=fit.target_accept,
+                    sampler=fit.sampler,
+                )
 
             def rebuild_carbonation(idata, gate, present=present, priors=priors):
-                return carbonation_update.CarbonationFit(idata=idata, gate=gate,
-                                                         zones=tuple(present), priors=priors,
-                                                         seed=int(seed))
+                return carbonation_update.CarbonationFit(
+                    idata=idata, gate=gate, zones=tuple(present), priors=priors, seed=int(seed)
+                )
 
             cached = cached_posterior(
-                folder, "carbonation", {"data": subset, "priors": priors, "zones": present,
-                                        "seed": seed, "fit": fit},
-                sample=run_carbonation, rebuild=rebuild_carbonation,
-                parameter_names=carbonation_update.PARAMETER_NAMES, what="carbonation rates",
-                fit="carbonation")
+                folder,
+                "carbonation",
+                {"data": subset, "priors": priors, "zones": present, "seed": seed, "fit": fit},
+                sample=run_carbonation,
+                rebuild=rebuild_carbonation,
+                parameter_names=carbonation_update.PARAMETER_NAMES,
+                what="carbonation rates",
+                fit="carbonation",
+            )
             carbonation_fits.update({z: cached.fit for z in present})
-    return InitiationFits(chloride_fits, carbonation_fits,
-                          {z: data.covers[z] for z in zones})
+    return InitiationFits(chloride_fits, carbonation_fits, {z: data.covers[z] for z in zones})
 
 
 def _subset(columns, zones):
@@ -403,16 +468,26 @@ def default_chloride_draws(site, zone_id, cover, rng) -> np.ndarray:
     """
     priors = chloride_priors(site, [zone_id])
     n = np.asarray(cover).size
-    surface = _lognormal_draws(rng, priors.surface_chloride_median,
-                               priors.surface_chloride_log_sd, n)
+    surface = _lognormal_draws(
+        rng, priors.surface_chloride_median, priors.surface_chloride_log_sd, n
+    )
     diffusion = _lognormal_draws(rng, priors.diffusion_ref_median, priors.diffusion_log_sd, n)
     ageing = priors.ageing_exponent.sample(n, rng)
-    initial = _lognormal_draws(rng, priors.initial_chloride_median,
-                               priors.initial_chloride_log_sd, n)
+    initial = _lognormal_draws(
+        rng, priors.initial_chloride_median, priors.initial_chloride_log_sd, n
+    )
     critical = CRITICAL_CHLORIDE.sample(n, rng)
     t = chloride_forward.initiation_time(
-        cover, critical, surface, diffusion, priors.age_ref_years, ageing,
-        np.minimum(initial, 0.5 * critical), priors.delta_x_mm, diffusion_convention="average")
+        cover,
+        critical,
+        surface,
+        diffusion,
+        priors.age_ref_years,
+        ageing,
+        np.minimum(initial, 0.5 * critical),
+        priors.delta_x_mm,
+        diffusion_convention="average",
+    )
     return _never_as_inf(t)
 
 
@@ -469,8 +544,9 @@ def initiation_time_draws(site, zone_id, fits: InitiationFits, *, n=4000, seed=0
         size = int(n)
     sources = {}
     if chloride_fit is not None:
-        t_chloride = _never_as_inf(chloride_fit.initiation_time_draws(zone_id, cover,
-                                                                      CRITICAL_CHLORIDE, rng))
+        t_chloride = _never_as_inf(
+            chloride_fit.initiation_time_draws(zone_id, cover, CRITICAL_CHLORIDE, rng)
+        )
         ageing = chloride_fit.zone_draws(zone_id)["ageing_exponent"]
         sources["chloride"] = "chloride profiles of the site (fit_chloride, fib 34 C_crit)"
     else:
@@ -486,9 +562,13 @@ def initiation_time_draws(site, zone_id, fits: InitiationFits, *, n=4000, seed=0
         t_carbonation = default_carbonation_draws(site, zone_id, cover.sample(size, rng), rng)
         sources["carbonation"] = "square-root law with the default rate prior"
     carbonation_first = t_carbonation < t_chloride
-    return {"initiation_time": np.minimum(t_chloride, t_carbonation),
-            "chloride": t_chloride, "carbonation": t_carbonation, "sources": sources,
-            "cover_exponent": np.where(carbonation_first, 2.0, 2.0 / (1.0 - ageing))}
+    return {
+        "initiation_time": np.minimum(t_chloride, t_carbonation),
+        "chloride": t_chloride,
+        "carbonation": t_carbonation,
+        "sources": sources,
+        "cover_exponent": np.where(carbonation_first, 2.0, 2.0 / (1.0 - ageing)),
+    }
 
 
 def spatial_log_sd(cover: ZoneCover, cover_exponent) -> float:
@@ -528,20 +608,36 @@ def initiation_prior(site, zone_id, fits: InitiationFits, *, seed=0, n=4000):
     from assess.updating.corrosion import ZoneCorrosionPrior
 
     draws = initiation_time_draws(site, zone_id, fits, n=n, seed=seed)
-    prior = ZoneCorrosionPrior.from_initiation_draws(site.zones[zone_id].exposure,
-                                                     draws["initiation_time"])
+    prior = ZoneCorrosionPrior.from_initiation_draws(
+        site.zones[zone_id].exposure, draws["initiation_time"]
+    )
     share = float(np.mean(draws["carbonation"] < draws["chloride"]))
     cover = fits.covers[zone_id]
-    text = (f"t_i: earlier of chloride ({draws['sources']['chloride']}) and carbonation "
-            f"({draws['sources']['carbonation']}) at mean cover {cover.mean_mm:.1f} mm; "
-            f"carbonation first in {share:.0%} of draws")
-    prior = dataclasses.replace(prior, source=prior.source.replace(
-        "t_i: fitted to posterior draws", text))
+    text = (
+        f"t_i: earlier of chloride ({draws['sources']['chloride']}) and carbonation "
+        f"({draws['sources']['carbonation']}) at mean cover {cover.mean_mm:.1f} mm; "
+        f"carbonation first in {share:.0%} of draws"
+    )
+    prior = dataclasses.replace(
+        prior, source=prior.source.replace("t_i: fitted to posterior draws", text)
+    )
     return prior, spatial_log_sd(cover, draws["cover_exponent"])
 
 
-__all__ = ["COVER_READING_SD_MM", "InitiationData", "InitiationFits", "ZoneCover",
-           "chloride_priors",
-           "default_carbonation_draws", "default_chloride_draws", "design_cover",
-           "exposure_groups", "initiation_data", "initiation_prior",
-           "initiation_time_draws", "spatial_log_sd", "surveyed_cover", "update_initiation"]
+__all__ = [
+    "COVER_READING_SD_MM",
+    "InitiationData",
+    "InitiationFits",
+    "ZoneCover",
+    "chloride_priors",
+    "default_carbonation_draws",
+    "default_chloride_draws",
+    "design_cover",
+    "exposure_groups",
+    "initiation_data",
+    "initiation_prior",
+    "initiation_time_draws",
+    "spatial_log_sd",
+    "surveyed_cover",
+    "update_initiation",
+]

@@ -20,9 +20,16 @@ import warnings
 
 import numpy as np
 
-from assess.priors import (CHARACTERISTIC_VALUES, bar_area_prior, concrete_prior, cover_prior,
-                           looks_characteristic, steel_yield_prior)
-from assess.updating.normal_gamma import NormalGamma
+from assess.errors import InputError
+from assess.priors import (
+    CHARACTERISTIC_VALUES,
+    bar_area_prior,
+    concrete_prior,
+    cover_prior,
+    looks_characteristic,
+    steel_yield_prior,
+)
+from assess.priors.normal_gamma import NormalGamma
 
 
 @dataclasses.dataclass(frozen=True)
@@ -41,18 +48,50 @@ class QuantitySpec:
 
 
 QUANTITIES = {
-    "concrete": QuantitySpec("concrete", "cores", "insitu_strength", True, "lognormal", "partial",
-                             "MPa", description="in-situ compressive strength f_c"),
-    "steel": QuantitySpec("steel", "tensile", "yield_strength", False, "normal", "complete",
-                          "MPa", description="reinforcement yield strength f_y"),
-    "cover": QuantitySpec("cover", "cover", "cover", False, "normal", "none", "mm",
-                          description="concrete cover to the main bars"),
+    "concrete": QuantitySpec(
+        "concrete",
+        "cores",
+        "insitu_strength",
+        True,
+        "lognormal",
+        "partial",
+        "MPa",
+        description="in-situ compressive strength f_c",
+    ),
+    "steel": QuantitySpec(
+        "steel",
+        "tensile",
+        "yield_strength",
+        False,
+        "normal",
+        "complete",
+        "MPa",
+        description="reinforcement yield strength f_y",
+    ),
+    "cover": QuantitySpec(
+        "cover",
+        "cover",
+        "cover",
+        False,
+        "normal",
+        "none",
+        "mm",
+        description="concrete cover to the main bars",
+    ),
     # Section loss is a state that changes with time: only the most recent
     # break-outs describe the present state (the time path is the job of the
     # deterioration models).
-    "area_ratio": QuantitySpec("area_ratio", "section_loss", "residual_area_ratio", False,
-                               "normal", "none", "-", latest_campaign_only=True,
-                               description="residual / original bar area"),
+    "area_ratio": QuantitySpec(
+        "area_ratio",
+        "section_loss",
+        "residual_area_ratio",
+        False,
+        "normal",
+        "none",
+        "-",
+        latest_campaign_only=True,
+        description="residual / original bar area",
+    ),
 }
 
 
@@ -84,15 +123,25 @@ def knowledge_rows(site, update) -> list[dict]:
             n = 0 if frame.empty else int((frame["zone"] == zone).sum())
             prior = predictive_draws(update.before[zone][name], spec.log)
             post = predictive_draws(update.after[zone][name], spec.log)
-            rows.append({"zone": zone, "quantity": name, "label": LABELS[name][0],
-                         "unit": spec.unit, "tests": n,
-                         "prior_mean": float(prior.mean()), "prior_std": float(prior.std()),
-                         "posterior_mean": float(post.mean()), "posterior_std": float(post.std())})
+            rows.append(
+                {
+                    "zone": zone,
+                    "quantity": name,
+                    "label": LABELS[name][0],
+                    "unit": spec.unit,
+                    "tests": n,
+                    "prior_mean": float(prior.mean()),
+                    "prior_std": float(prior.std()),
+                    "posterior_mean": float(post.mean()),
+                    "posterior_std": float(post.std()),
+                }
+            )
     return rows
 
 
-def weak_normal_gamma(mean: float, predictive_std: float, n: float, nu: float,
-                      source: str) -> NormalGamma:
+def weak_normal_gamma(
+    mean: float, predictive_std: float, n: float, nu: float, source: str
+) -> NormalGamma:
     """Normal-gamma prior whose Student-t predictive has the given mean and std.
 
     The published models give one distribution (mean, std) of the physical
@@ -102,7 +151,7 @@ def weak_normal_gamma(mean: float, predictive_std: float, n: float, nu: float,
     s sqrt(1 + 1/n) sqrt(nu / (nu - 2)) equals ``predictive_std``.
     """
     if nu <= 2:
-        raise ValueError("nu must exceed 2 for a finite predictive variance")
+        raise InputError("nu must exceed 2 for a finite predictive variance")
     s = predictive_std / (math.sqrt(1.0 + 1.0 / n) * math.sqrt(nu / (nu - 2.0)))
     return NormalGamma.from_jcss(mean, n, s, nu, source=source)
 
@@ -130,11 +179,15 @@ def concrete_override(mean: float, cov: float) -> NormalGamma:
     with parameters (m', s') has the given mean and CoV.
     """
     s = math.sqrt(math.log1p(cov * cov))
-    return NormalGamma.from_jcss(math.log(mean) - 0.5 * s * s, CONCRETE_OVERRIDE_N, s,
-                                 CONCRETE_OVERRIDE_NU,
-                                 source=f"{OVERRIDE_SOURCE}: concrete_mean {mean:g} MPa, "
-                                        f"concrete_cov {cov:g}; n' = 3, nu' = 10 as JCSS PMC "
-                                        "Part 3.1")
+    return NormalGamma.from_jcss(
+        math.log(mean) - 0.5 * s * s,
+        CONCRETE_OVERRIDE_N,
+        s,
+        CONCRETE_OVERRIDE_NU,
+        source=f"{OVERRIDE_SOURCE}: concrete_mean {mean:g} MPa, "
+        f"concrete_cov {cov:g}; n' = 3, nu' = 10 as JCSS PMC "
+        "Part 3.1",
+    )
 
 
 def _warn_if_characteristic(value: float, kind: str, key: str) -> None:
@@ -144,7 +197,9 @@ def _warn_if_characteristic(value: float, kind: str, key: str) -> None:
             f"({CHARACTERISTIC_VALUES[kind][1]}); reliability needs mean values (design "
             "decision 6). Give the mean in-situ value from tests or records, or remove the key "
             "to use the published prior of the specified class or grade.",
-            UserWarning, stacklevel=3)
+            UserWarning,
+            stacklevel=3,
+        )
 
 
 def _member_kind_for_cover(kind: str) -> str:
@@ -182,38 +237,58 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
         _warn_if_characteristic(overrides.concrete_mean, "concrete_strength", "concrete_mean")
         concrete = concrete_override(overrides.concrete_mean, overrides.concrete_cov)
     else:
-        concrete = NormalGamma.from_prior(concrete_prior(site.materials.concrete_class,
-                                                         site.materials.production))
+        concrete = concrete_prior(site.materials.concrete_class, site.materials.production)
     if overrides is not None and overrides.steel_mean is not None:
         _warn_if_characteristic(overrides.steel_mean, "steel_yield", "steel_mean")
-        steel = weak_normal_gamma(overrides.steel_mean, overrides.steel_std, STEEL_N, STEEL_NU,
-                                  source=f"{OVERRIDE_SOURCE}: steel_mean {overrides.steel_mean:g} "
-                                         f"MPa, steel_std {overrides.steel_std:g} MPa; prior "
-                                         "weight as JCSS PMC Part 3.2")
+        steel = weak_normal_gamma(
+            overrides.steel_mean,
+            overrides.steel_std,
+            STEEL_N,
+            STEEL_NU,
+            source=f"{OVERRIDE_SOURCE}: steel_mean {overrides.steel_mean:g} "
+            f"MPa, steel_std {overrides.steel_std:g} MPa; prior "
+            "weight as JCSS PMC Part 3.2",
+        )
     else:
         steel_model = steel_yield_prior(site.materials.steel_grade)
-        steel = weak_normal_gamma(steel_model.mean, steel_model.std, STEEL_N, STEEL_NU,
-                                  source=steel_model.source + "; mill-to-mill 19 MPa as "
-                                         "uncertainty of the job mean")
+        steel = weak_normal_gamma(
+            steel_model.mean,
+            steel_model.std,
+            STEEL_N,
+            STEEL_NU,
+            source=steel_model.source + "; mill-to-mill 19 MPa as uncertainty of the job mean",
+        )
     area = bar_area_prior()
     area_ratio = weak_normal_gamma(area.mean, area.std, 0.5, 10.0, source=area.source)
     knowledge = {}
     for zone_id in site.zones:
         members = [m for m in site.members.values() if m.zone == zone_id]
         if overrides is not None and overrides.cover_mean is not None:
-            cover = weak_normal_gamma(overrides.cover_mean, overrides.cover_std, COVER_N, COVER_NU,
-                                      source=f"{OVERRIDE_SOURCE}: cover_mean "
-                                             f"{overrides.cover_mean:g} mm, cover_std "
-                                             f"{overrides.cover_std:g} mm")
+            cover = weak_normal_gamma(
+                overrides.cover_mean,
+                overrides.cover_std,
+                COVER_N,
+                COVER_NU,
+                source=f"{OVERRIDE_SOURCE}: cover_mean "
+                f"{overrides.cover_mean:g} mm, cover_std "
+                f"{overrides.cover_std:g} mm",
+            )
         elif members:
-            covers = [cover_prior(m.cover, _member_kind_for_cover(m.kind), m.tension_face)
-                      for m in members]
+            covers = [
+                cover_prior(m.cover, _member_kind_for_cover(m.kind), m.tension_face)
+                for m in members
+            ]
             mean = float(np.mean([c.mean for c in covers]))
-            std = float(np.sqrt(np.mean([c.std ** 2 for c in covers])
-                                + np.var([c.mean for c in covers])))
+            std = float(
+                np.sqrt(np.mean([c.std**2 for c in covers]) + np.var([c.mean for c in covers]))
+            )
             cover = weak_normal_gamma(mean, std, COVER_N, COVER_NU, source=covers[0].source)
         else:
             cover = weak_normal_gamma(30.0, 10.0, 2.0, 6.0, source="no members in zone")
-        knowledge[zone_id] = {"concrete": concrete, "steel": steel, "cover": cover,
-                              "area_ratio": area_ratio}
+        knowledge[zone_id] = {
+            "concrete": concrete,
+            "steel": steel,
+            "cover": cover,
+            "area_ratio": area_ratio,
+        }
     return knowledge

@@ -11,11 +11,13 @@ import dataclasses
 from assess.site.record import LedgerRow
 from assess.site.settings import RunSettings
 
-EXPLANATION = ("beta(t) is the annual reliability index of year t: the annual maximum load "
-               "against the resistance of year t, with the bars corroding after the assessment "
-               "date by Faraday's law from the zone's corrosion initiation time and rate "
-               "(updated with break-outs and half-cell surveys). It is compared with the annual "
-               "target. The band is +/- 2 standard errors of the sampling estimate only.")
+EXPLANATION = (
+    "beta(t) is the annual reliability index of year t: the annual maximum load "
+    "against the resistance of year t, with the bars corroding after the assessment "
+    "date by Faraday's law from the zone's corrosion initiation time and rate "
+    "(updated with break-outs and half-cell surveys). It is compared with the annual "
+    "target. The band is +/- 2 standard errors of the sampling estimate only."
+)
 
 
 @dataclasses.dataclass
@@ -36,30 +38,63 @@ class SiteLife:
         return self.main[0].target
 
     def table_rows(self) -> list[dict]:
-        return [{"member": c.member, "governing mode": c.governing_mode,
-                 "beta now": c.beta_now, "beta at horizon": float(c.beta[-1]),
-                 "remaining life": c.remaining_life.text(), "reference": "annual"}
-                for c in self.main]
+        return [
+            {
+                "member": c.member,
+                "governing mode": c.governing_mode,
+                "beta now": c.beta_now,
+                "beta at horizon": float(c.beta[-1]),
+                "remaining life": c.remaining_life.text(),
+                "reference": "annual",
+            }
+            for c in self.main
+        ]
 
     def to_dict(self) -> dict:
-        return {"reference": "annual", "horizon_years": self.horizon_years,
-                "target": {"beta": self.target.beta, "source": self.target.source,
-                           "reference_period_years": 1.0},
-                "corrosion": {z: c.to_dict() for z, c in self.corrosion.items()},
-                "curves": [c.to_dict() for c in self.curves], "explanation": self.explanation}
+        return {
+            "reference": "annual",
+            "horizon_years": self.horizon_years,
+            "target": {
+                "beta": self.target.beta,
+                "source": self.target.source,
+                "reference_period_years": 1.0,
+            },
+            "corrosion": {z: c.to_dict() for z, c in self.corrosion.items()},
+            "curves": [c.to_dict() for c in self.curves],
+            "explanation": self.explanation,
+        }
 
     def ledger_rows(self) -> list[LedgerRow]:
         """One ``"remaining_life"`` row per curve (member and mode)."""
-        settings = {"horizon_years": self.horizon_years, "n_samples": self.n_samples,
-                    "pitting": self.pitting, "posterior_hash": self.posterior_hash,
-                    "reference": "annual"}
-        return [LedgerRow("remaining_life", curve.to_dict(), member=curve.member,
-                          mode=curve.mode, seed=curve.seed, settings=settings)
-                for curve in self.curves]
+        settings = {
+            "horizon_years": self.horizon_years,
+            "n_samples": self.n_samples,
+            "pitting": self.pitting,
+            "posterior_hash": self.posterior_hash,
+            "reference": "annual",
+        }
+        return [
+            LedgerRow(
+                "remaining_life",
+                curve.to_dict(),
+                member=curve.member,
+                mode=curve.mode,
+                seed=curve.seed,
+                settings=settings,
+            )
+            for curve in self.curves
+        ]
 
 
-def compute_site_life(site, update, corrosion: dict, *, settings: RunSettings | None = None,
-                      members=None, progress=None) -> SiteLife:
+def compute_site_life(
+    site,
+    update,
+    corrosion: dict,
+    *,
+    settings: RunSettings | None = None,
+    members=None,
+    progress=None,
+) -> SiteLife:
     """Project every member (or those given) with the zones' corrosion inputs.
 
     Parameters
@@ -75,12 +110,26 @@ def compute_site_life(site, update, corrosion: dict, *, settings: RunSettings | 
     from assess.site.projection import governing_curves, project_site
 
     settings = settings or RunSettings()
-    curves = project_site(site, update, corrosion=corrosion, members=members,
-                          horizon_years=settings.horizon_years,
-                          n_samples=settings.life_sample_count, seed=settings.seed,
-                          progress=progress, pitting=settings.pitting)
-    return SiteLife(corrosion, curves, governing_curves(curves), settings.horizon_years,
-                    settings.life_sample_count, settings.pitting, update.data_hash)
+    curves = project_site(
+        site,
+        update,
+        corrosion=corrosion,
+        members=members,
+        horizon_years=settings.horizon_years,
+        n_samples=settings.life_sample_count,
+        seed=settings.seed,
+        progress=progress,
+        pitting=settings.pitting,
+    )
+    return SiteLife(
+        corrosion,
+        curves,
+        governing_curves(curves),
+        settings.horizon_years,
+        settings.life_sample_count,
+        settings.pitting,
+        update.data_hash,
+    )
 
 
 __all__ = ["EXPLANATION", "SiteLife", "compute_site_life"]

@@ -17,17 +17,18 @@ from __future__ import annotations
 import dataclasses
 import datetime as dt
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pandas as pd
 
+from assess.priors.normal_gamma import NormalGamma
 from assess.site.knowledge import QUANTITIES, design_knowledge
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
 from assess.site.settings import RunSettings
 from assess.updating.cache import cached_posterior, content_hash
 from assess.updating.gate import GateReport
-from assess.updating.normal_gamma import NormalGamma
 from inspection_io.ledger import Ledger
 from inspection_io.screening import usable_mask
 
@@ -68,7 +69,7 @@ class SiteUpdate:
     posterior_path: Path | None
     data_hash: str
     reused: bool
-    idata: object
+    idata: Any
     until_date: dt.date | None
     seed: int = 0
 
@@ -86,18 +87,32 @@ class SiteUpdate:
         if self.gate is None:
             return []
         # results/posteriors/<file>: the path relative to the site folder
-        path = (str(Path(*self.posterior_path.parts[-3:]))
-                if self.posterior_path is not None else None)
-        return [LedgerRow("posterior", {
-            "hash": self.data_hash, "path": path, "reused": self.reused,
-            "until_date": self.until_date.isoformat() if self.until_date else None,
-            "counts": self.counts(), "gate": self.gate.to_dict(),
-            "after": {z: {q: dataclasses.asdict(ng) for q, ng in qs.items()}
-                      for z, qs in self.after.items()}}, seed=self.seed)]
+        path = (
+            str(Path(*self.posterior_path.parts[-3:])) if self.posterior_path is not None else None
+        )
+        return [
+            LedgerRow(
+                "posterior",
+                {
+                    "hash": self.data_hash,
+                    "path": path,
+                    "reused": self.reused,
+                    "until_date": self.until_date.isoformat() if self.until_date else None,
+                    "counts": self.counts(),
+                    "gate": self.gate.to_dict(),
+                    "after": {
+                        z: {q: dataclasses.asdict(ng) for q, ng in qs.items()}
+                        for z, qs in self.after.items()
+                    },
+                },
+                seed=self.seed,
+            )
+        ]
 
 
-def collect_data(ledger: Ledger, until_date: dt.date | None = None,
-                 include_flagged=()) -> dict[str, pd.DataFrame]:
+def collect_data(
+    ledger: Ledger, until_date: dt.date | None = None, include_flagged=()
+) -> dict[str, pd.DataFrame]:
     """Observations for each quantity (flagged rows left out unless included).
 
     For quantities marked ``latest_campaign_only`` (section loss) only each
@@ -118,11 +133,19 @@ def collect_data(ledger: Ledger, until_date: dt.date | None = None,
 
 def _payload(site, data: dict, before: dict, settings: RunSettings, include_flagged=()) -> dict:
     return {
-        "zones": list(site.zones), "include_flagged": sorted(include_flagged),
-        "settings": {"fit": dataclasses.asdict(settings.fit("materials")), "seed": settings.seed,
-                     "concrete_tau_scale": CONCRETE_TAU_SCALE},
-        "priors": {z: {q: dataclasses.asdict(ng) for q, ng in qs.items()} for z, qs in before.items()},
-        "data": {q: [[str(r.zone), float(r.value)] for r in df.itertuples()] for q, df in data.items()},
+        "zones": list(site.zones),
+        "include_flagged": sorted(include_flagged),
+        "settings": {
+            "fit": dataclasses.asdict(settings.fit("materials")),
+            "seed": settings.seed,
+            "concrete_tau_scale": CONCRETE_TAU_SCALE,
+        },
+        "priors": {
+            z: {q: dataclasses.asdict(ng) for q, ng in qs.items()} for z, qs in before.items()
+        },
+        "data": {
+            q: [[str(r.zone), float(r.value)] for r in df.itertuples()] for q, df in data.items()
+        },
     }
 
 
@@ -150,9 +173,15 @@ def _build_joint_model(site, data, before):
                 # each zone its own prior (cover priors differ by zone)
                 _zone_priors_model(pm, name, values, groups, zones, before)
             else:
-                hierarchical_normal_model(values, groups, zones, before[first][name],
-                                          pooling=spec.pooling, name=name,
-                                          tau_scale=CONCRETE_TAU_SCALE)
+                hierarchical_normal_model(
+                    values,
+                    groups,
+                    zones,
+                    before[first][name],
+                    pooling=spec.pooling,
+                    name=name,
+                    tau_scale=CONCRETE_TAU_SCALE,
+                )
     return joint
 
 
@@ -172,12 +201,18 @@ def _zone_priors_model(pm, name, values, groups, zones, before):
 
 @dataclasses.dataclass(frozen=True)
 class _Fit:
-    idata: object
+    idata: Any
     gate: GateReport
 
 
-def update_site(site, *, settings: RunSettings | None = None, until_date: dt.date | None = None,
-                include_flagged=(), progressbar: bool = False) -> SiteUpdate:
+def update_site(
+    site,
+    *,
+    settings: RunSettings | None = None,
+    until_date: dt.date | None = None,
+    include_flagged=(),
+    progressbar: bool = False,
+) -> SiteUpdate:
     """Update every zone's knowledge with the ledger's data up to ``until_date``.
 
     Parameters
@@ -202,28 +237,54 @@ def update_site(site, *, settings: RunSettings | None = None, until_date: dt.dat
     fit = settings.fit("materials")
     before = design_knowledge(site)
     if not has_ledger(site.folder):
-        return SiteUpdate(before, before, {q: pd.DataFrame(columns=["zone", "value"]) for q in QUANTITIES},
-                          None, None, "", False, None, until_date, settings.seed)
+        return SiteUpdate(
+            before,
+            before,
+            {q: pd.DataFrame(columns=["zone", "value"]) for q in QUANTITIES},
+            None,
+            None,
+            "",
+            False,
+            None,
+            until_date,
+            settings.seed,
+        )
     with Ledger(ledger_path(site.folder)) as ledger:
         data = collect_data(ledger, until_date, include_flagged)
     payload = _payload(site, data, before, settings, include_flagged)
     data_hash = content_hash("materials", payload)
     if all(df.empty for df in data.values()):
-        return SiteUpdate(before, before, data, None, None, data_hash, False, None, until_date,
-                          settings.seed)
+        return SiteUpdate(
+            before, before, data, None, None, data_hash, False, None, until_date, settings.seed
+        )
 
     joint = _build_joint_model(site, data, before)
     names = free_parameter_names(joint)
     what = "zone materials (cores, tensile tests, cover, section loss)"
 
     def sample() -> _Fit:
-        idata = sample_posterior(joint, draws=fit.draws, tune=fit.tune, chains=fit.chains,
-                                 seed=settings.seed, target_accept=fit.target_accept,
-                                 sampler=fit.sampler, progressbar=progressbar)
+        idata = sample_posterior(
+            joint,
+            draws=fit.draws,
+            tune=fit.tune,
+            chains=fit.chains,
+            seed=settings.seed,
+            target_accept=fit.target_accept,
+            sampler=fit.sampler,
+            progressbar=progressbar,
+        )
         return _Fit(idata, require_convergence(idata, names, what=what, fit="materials"))
 
-    cached = cached_posterior(site.folder, "materials", payload, sample=sample,
-                              rebuild=_Fit, parameter_names=names, what=what, fit="materials")
+    cached = cached_posterior(
+        site.folder,
+        "materials",
+        payload,
+        sample=sample,
+        rebuild=_Fit,
+        parameter_names=names,
+        what=what,
+        fit="materials",
+    )
     idata, gate = cached.fit.idata, cached.fit.gate
     after = {z: dict(qs) for z, qs in before.items()}
     for name in QUANTITIES:
@@ -232,7 +293,20 @@ def update_site(site, *, settings: RunSettings | None = None, until_date: dt.dat
         for zone in site.zones:
             mu, sigma = group_draws(idata, zone, name=name)
             after[zone][name] = NormalGamma.fit_draws(
-                mu, sigma, source=f"posterior of {name} in zone {zone} from site tests "
-                                  f"(MCMC, {data_hash[:12]})")
-    return SiteUpdate(before, after, data, gate, cached.path, data_hash, cached.reused, idata,
-                      until_date, settings.seed)
+                mu,
+                sigma,
+                source=f"posterior of {name} in zone {zone} from site tests "
+                f"(MCMC, {data_hash[:12]})",
+            )
+    return SiteUpdate(
+        before,
+        after,
+        data,
+        gate,
+        cached.path,
+        data_hash,
+        cached.reused,
+        idata,
+        until_date,
+        settings.seed,
+    )

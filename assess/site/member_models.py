@@ -22,14 +22,20 @@ from typing import Callable
 import numpy as np
 
 from assess.distributions import make_distribution
+from assess.errors import InputError
 from assess.limit_states.flexure import flexural_capacity
-from assess.limit_states.load_effects import load_effect_model_uncertainty
-from assess.limit_states.load_effects import TRIBUTARY_SHARE
+from assess.limit_states.load_effects import (
+    TRIBUTARY_SHARE,
+    load_effect_model_uncertainty,
+)
 from assess.limit_states.punching import punching_capacity
 from assess.limit_states.shear import shear_capacity
 from assess.model import ProbabilisticModel
-from assess.priors import (resistance_model_uncertainty, self_weight_prior,
-                           superimposed_dead_prior)
+from assess.priors import (
+    resistance_model_uncertainty,
+    self_weight_prior,
+    superimposed_dead_prior,
+)
 from assess.priors.actions import car_park_vehicle_load_prior
 from assess.updating.to_model import add_uncertain_quantity
 
@@ -91,8 +97,14 @@ def _beam_tributary_width(member) -> float:
     return member.tributary_width if member.tributary_width else member.width / 1000.0
 
 
-def build_member_model(site, member, knowledge: dict, *, reference_period_years: float,
-                       car_park_use: str = "commercial") -> MemberModel:
+def build_member_model(
+    site,
+    member,
+    knowledge: dict,
+    *,
+    reference_period_years: float,
+    car_park_use: str = "commercial",
+) -> MemberModel:
     """Build the basic variables and limit states of ``member``.
 
     Parameters
@@ -108,8 +120,12 @@ def build_member_model(site, member, knowledge: dict, *, reference_period_years:
     model = ProbabilisticModel()
     sources: dict[str, str] = {}
     notes: list[str] = []
-    for name, kind in (("fc", "lognormal"), ("fy", "normal"), ("cover", "normal"),
-                       ("area_ratio", "normal")):
+    for name, kind in (
+        ("fc", "lognormal"),
+        ("fy", "normal"),
+        ("cover", "normal"),
+        ("area_ratio", "normal"),
+    ):
         key = {"fc": "concrete", "fy": "steel"}.get(name, name)
         add_uncertain_quantity(model, name, knowledge[key], kind=kind)
         sources[name] = knowledge[key].source
@@ -121,11 +137,15 @@ def build_member_model(site, member, knowledge: dict, *, reference_period_years:
         slab_depth = member.slab_depth
         web_line_load = unit_weight * member.width / 1000.0 * (member.depth - slab_depth) / 1000.0
     _add_prior(model, sources, "self_weight", self_weight_prior(slab_depth, unit_weight))
-    _add_prior(model, sources, "superimposed_dead",
-               superimposed_dead_prior(site.loads.superimposed_dead))
-    _add_prior(model, sources, "imposed",
-               car_park_vehicle_load_prior(loaded_area(member), reference_period_years,
-                                           use=car_park_use))
+    _add_prior(
+        model, sources, "superimposed_dead", superimposed_dead_prior(site.loads.superimposed_dead)
+    )
+    _add_prior(
+        model,
+        sources,
+        "imposed",
+        car_park_vehicle_load_prior(loaded_area(member), reference_period_years, use=car_park_use),
+    )
 
     b = member.width
     h = member.depth
@@ -161,8 +181,9 @@ def build_member_model(site, member, knowledge: dict, *, reference_period_years:
         def flexure(x):
             line = total_area_load(x) * width_m + web_line_load
             moment = x["theta_E_moment"] * line * span**2 / 8.0
-            capacity = flexural_capacity(steel_area(x), yield_strength(x), x["fc"], b,
-                                         np.clip(effective_depth(x), 1.0, None))
+            capacity = flexural_capacity(
+                steel_area(x), yield_strength(x), x["fc"], b, np.clip(effective_depth(x), 1.0, None)
+            )
             return x["theta_flexure"] * capacity - moment
 
         modes["flexure"] = flexure
@@ -172,36 +193,49 @@ def build_member_model(site, member, knowledge: dict, *, reference_period_years:
             _add_prior(model, sources, "theta_shear", resistance_model_uncertainty("shear", "mean"))
 
             def shear(x):
-                force = x["theta_E_shear"] * (total_area_load(x) * width_m + web_line_load) * span / 2.0
-                capacity = shear_capacity(steel_area(x), x["fc"], b,
-                                          np.clip(effective_depth(x), 1.0, None))
+                force = (
+                    x["theta_E_shear"] * (total_area_load(x) * width_m + web_line_load) * span / 2.0
+                )
+                capacity = shear_capacity(
+                    steel_area(x), x["fc"], b, np.clip(effective_depth(x), 1.0, None)
+                )
                 return x["theta_shear"] * capacity - force
 
             modes["shear"] = shear
         else:
-            notes.append(f"{member.member_id}: has shear reinforcement; shear with stirrups "
-                         "(EN 1992-1-1 6.2.3) is not modelled and must be checked separately")
+            notes.append(
+                f"{member.member_id}: has shear reinforcement; shear with stirrups "
+                "(EN 1992-1-1 6.2.3) is not modelled and must be checked separately"
+            )
         if member.kind == BEAM and not member.tributary_width:
-            notes.append(f"{member.member_id}: no tributary_width given; the beam carries only "
-                         f"its own width ({b:g} mm) of deck load")
+            notes.append(
+                f"{member.member_id}: no tributary_width given; the beam carries only "
+                f"its own width ({b:g} mm) of deck load"
+            )
     elif member.kind == CONNECTION:
         theta_e = load_effect_model_uncertainty("flat_slab", "reaction")
         _add_prior(model, sources, "theta_E_reaction", theta_e)
-        _add_prior(model, sources, "theta_punching", resistance_model_uncertainty("punching", "mean"))
+        _add_prior(
+            model, sources, "theta_punching", resistance_model_uncertainty("punching", "mean")
+        )
         c1, c2 = member.column_size
         area_per_m = area_nominal * 1000.0 / b
 
         def punching(x):
             d = np.clip(effective_depth(x, layers=2), 1.0, None)
             rho = area_per_m * np.clip(x["area_ratio"], _TINY, None) / (1000.0 * d)
-            capacity = punching_capacity(rho, rho, x["fc"], d, column_c1_mm=c1, column_c2_mm=c2,
-                                         position=member.position)
+            capacity = punching_capacity(
+                rho, rho, x["fc"], d, column_c1_mm=c1, column_c2_mm=c2, position=member.position
+            )
             reaction = TRIBUTARY_SHARE[member.position] * member.span_x * member.span_y
-            return x["theta_punching"] * capacity - x["theta_E_reaction"] * total_area_load(x) * reaction
+            return (
+                x["theta_punching"] * capacity
+                - x["theta_E_reaction"] * total_area_load(x) * reaction
+            )
 
         modes["punching"] = punching
     else:
-        raise ValueError(f"unknown member kind {member.kind!r}")
+        raise InputError(f"unknown member kind {member.kind!r}")
     return MemberModel(model=model, modes=modes, sources=sources, notes=notes)
 
 

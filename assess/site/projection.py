@@ -56,21 +56,27 @@ from __future__ import annotations
 import dataclasses
 import math
 import zlib
-from typing import Callable, Sequence
+from functools import partial
+from typing import Any, Callable, Sequence
 
 import numpy as np
 from scipy import stats
 from scipy.special import logsumexp
 
-from assess.deterioration.corrosion import (penetration_depth, residual_area_ratio,
-                                            time_since_initiation)
+from assess.deterioration.corrosion import (
+    penetration_depth,
+    residual_area_ratio,
+    time_since_initiation,
+)
 from assess.errors import AnalysisError, InputError
-from assess.site.corrosion import INITIATION_NAME, RATE_NAME, age_at
 from assess.reliability.crude import check_int, resolve_seed
 from assess.reliability.form import form
+from assess.site.corrosion import INITIATION_NAME, RATE_NAME, age_at
 
-ANNUAL_NOTE = ("annual reliability index: failure in year t under the annual maximum load "
-               "with the resistance of year t; compared with the annual target")
+ANNUAL_NOTE = (
+    "annual reliability index: failure in year t under the annual maximum load "
+    "with the resistance of year t; compared with the annual target"
+)
 DEFAULT_SAMPLES = 6000
 BAND_STANDARD_ERRORS = 2.0
 
@@ -110,9 +116,21 @@ class CurveEstimate:
     warnings: list
 
 
-def estimate_curves(model, limit_state_at: Callable, times: Sequence[float],
-                    groups: dict, *, mode_names: Sequence[str], n_samples: int = DEFAULT_SAMPLES,
-                    seed=None, centre_times: Sequence[float] | None = None) -> CurveEstimate:
+def _at_time(limit_state_at: Callable, x, t: float):
+    return limit_state_at(x, t)
+
+
+def estimate_curves(
+    model,
+    limit_state_at: Callable,
+    times: Any,
+    groups: dict,
+    *,
+    mode_names: Sequence[str],
+    n_samples: int = DEFAULT_SAMPLES,
+    seed=None,
+    centre_times: Sequence[float] | None = None,
+) -> CurveEstimate:
     """Probability of failure at each time, by importance sampling with common random numbers.
 
     Parameters
@@ -153,31 +171,48 @@ def estimate_curves(model, limit_state_at: Callable, times: Sequence[float],
     mode_names = list(mode_names)
 
     warnings: list[str] = []
-    centres, info = [], []
+    centres: Any = []
+    info: list[dict] = []
     n_calls = 0
     for t in centre_times:
-        problem = model.problem(lambda x, _t=t: limit_state_at(x, _t), mode_names=mode_names)
+        problem = model.problem(partial(_at_time, limit_state_at, t=t), mode_names=mode_names)
         result = form(problem)
         n_calls += problem.n_calls
-        modes = result.details.get("modes") or [{
-            "mode": mode_names[0], "beta": result.beta, "converged": result.converged,
-            "design_point_u": result.design_point_u}]
+        modes = result.details.get("modes") or [
+            {
+                "mode": mode_names[0],
+                "beta": result.beta,
+                "converged": result.converged,
+                "design_point_u": result.design_point_u,
+            }
+        ]
         for m in modes:
             point = np.asarray(m["design_point_u"], dtype=float)
             if not (np.all(np.isfinite(point)) and np.isfinite(m["beta"])):
-                warnings.append(f"FORM gave no finite design point for {m['mode']} at t = "
-                                f"{t:g} yr; that centre is left out of the sampling mixture")
+                warnings.append(
+                    f"FORM gave no finite design point for {m['mode']} at t = "
+                    f"{t:g} yr; that centre is left out of the sampling mixture"
+                )
                 continue
             if not m["converged"]:
-                warnings.append(f"FORM did not converge for {m['mode']} at t = {t:g} yr; its "
-                                "last iterate centres a mixture component")
+                warnings.append(
+                    f"FORM did not converge for {m['mode']} at t = {t:g} yr; its "
+                    "last iterate centres a mixture component"
+                )
             centres.append(point)
-            info.append({"time": float(t), "mode": m["mode"], "beta": float(m["beta"]),
-                         "converged": bool(m["converged"])})
+            info.append(
+                {
+                    "time": float(t),
+                    "mode": m["mode"],
+                    "beta": float(m["beta"]),
+                    "converged": bool(m["converged"]),
+                }
+            )
     if not centres:
         centres = [np.zeros(model.dim)]
-        info.append({"time": float(times[0]), "mode": "origin", "beta": math.nan,
-                     "converged": False})
+        info.append(
+            {"time": float(times[0]), "mode": "origin", "beta": math.nan, "converged": False}
+        )
     centres = np.array(centres)
     k = centres.shape[0]
     component = rng.integers(0, k, size=n_samples)
@@ -196,8 +231,10 @@ def estimate_curves(model, limit_state_at: Callable, times: Sequence[float],
             g = g[:, None]
         n_calls += n_samples
         if not np.all(np.isfinite(g)):
-            raise AnalysisError(f"the limit state returned a non-finite value at t = {t:g} yr; "
-                                "check the member data and the corrosion inputs")
+            raise AnalysisError(
+                f"the limit state returned a non-finite value at t = {t:g} yr; "
+                "check the member data and the corrosion inputs"
+            )
         for label, columns in groups.items():
             failed = g[:, list(columns)].min(axis=1) <= 0.0
             contribution = weights * failed
@@ -207,8 +244,17 @@ def estimate_curves(model, limit_state_at: Callable, times: Sequence[float],
             if estimate > 0:
                 variance = float(contribution.var(ddof=1))
                 cov[label][j] = math.sqrt(variance / n_samples) / estimate
-    return CurveEstimate(times=times, pf=pf, cov=cov, n_failures=n_fail, centres=info,
-                         n_samples=n_samples, n_calls=n_calls, seed=recorded, warnings=warnings)
+    return CurveEstimate(
+        times=times,
+        pf=pf,
+        cov=cov,
+        n_failures=n_fail,
+        centres=info,
+        n_samples=n_samples,
+        n_calls=n_calls,
+        seed=recorded,
+        warnings=warnings,
+    )
 
 
 def beta_band(pf, cov, standard_errors: float = BAND_STANDARD_ERRORS):
@@ -269,17 +315,21 @@ class RemainingLife:
         if self.status == ALREADY_BELOW:
             return "already below target"
         if self.status == BEYOND:
-            lower = (f" (band: may cross from {self.earliest:.1f} yr)"
-                     if math.isfinite(self.earliest) else "")
+            lower = (
+                f" (band: may cross from {self.earliest:.1f} yr)"
+                if math.isfinite(self.earliest)
+                else ""
+            )
             return f"more than {self.horizon_years:g} yr{lower}"
-        latest = f"{self.latest:.1f}" if math.isfinite(self.latest) else \
-            f">{self.horizon_years:g}"
+        latest = f"{self.latest:.1f}" if math.isfinite(self.latest) else f">{self.horizon_years:g}"
         earliest = f"{self.earliest:.1f}" if math.isfinite(self.earliest) else "0"
         return f"{self.years:.1f} yr ({earliest}-{latest})"
 
     def to_dict(self) -> dict:
-        clean = {k: (v if not isinstance(v, float) or math.isfinite(v) else None)
-                 for k, v in dataclasses.asdict(self).items()}
+        clean = {
+            k: (v if not isinstance(v, float) or math.isfinite(v) else None)
+            for k, v in dataclasses.asdict(self).items()
+        }
         clean["text"] = self.text()
         return clean
 
@@ -298,10 +348,13 @@ def remaining_life(times, beta, lower, upper, target: float) -> RemainingLife:
     else:
         status, years = BEYOND, math.nan
     shift = float(times[0])
-    return RemainingLife(status=status, years=float(years),
-                         earliest=float(earliest - shift) if math.isfinite(earliest) else math.nan,
-                         latest=float(latest - shift) if math.isfinite(latest) else math.nan,
-                         horizon_years=horizon)
+    return RemainingLife(
+        status=status,
+        years=float(years),
+        earliest=float(earliest - shift) if math.isfinite(earliest) else math.nan,
+        latest=float(latest - shift) if math.isfinite(latest) else math.nan,
+        horizon_years=horizon,
+    )
 
 
 # -- members -------------------------------------------------------------------------------
@@ -353,7 +406,7 @@ class LifeCurve:
     cov: np.ndarray
     beta_lower: np.ndarray
     beta_upper: np.ndarray
-    target: object
+    target: Any
     remaining_life: RemainingLife
     governing_mode: str
     corrosion: dict
@@ -375,26 +428,48 @@ class LifeCurve:
             return [float(v) if math.isfinite(v) else None for v in np.asarray(a, dtype=float)]
 
         return {
-            "member": self.member, "zone": self.zone, "kind": self.kind, "mode": self.mode,
-            "reference_period_years": 1.0, "reference": self.reference,
+            "member": self.member,
+            "zone": self.zone,
+            "kind": self.kind,
+            "mode": self.mode,
+            "reference_period_years": 1.0,
+            "reference": self.reference,
             "years_from_assessment": values(self.years_from_assessment),
-            "calendar_year": values(self.calendar_year), "age_years": values(self.age_years),
-            "beta": values(self.beta), "pf": values(self.pf), "cov": values(self.cov),
-            "beta_lower": values(self.beta_lower), "beta_upper": values(self.beta_upper),
-            "target": {"beta": self.target.beta, "reference_period_years":
-                       self.target.reference_period_years, "source": self.target.source},
+            "calendar_year": values(self.calendar_year),
+            "age_years": values(self.age_years),
+            "beta": values(self.beta),
+            "pf": values(self.pf),
+            "cov": values(self.cov),
+            "beta_lower": values(self.beta_lower),
+            "beta_upper": values(self.beta_upper),
+            "target": {
+                "beta": self.target.beta,
+                "reference_period_years": self.target.reference_period_years,
+                "source": self.target.source,
+            },
             "remaining_life": self.remaining_life.to_dict(),
-            "governing_mode": self.governing_mode, "corrosion": self.corrosion,
-            "n_samples": self.n_samples, "n_calls": self.n_calls, "seed": self.seed,
-            "centres": self.centres, "warnings": list(self.warnings), "checks": self.checks,
+            "governing_mode": self.governing_mode,
+            "corrosion": self.corrosion,
+            "n_samples": self.n_samples,
+            "n_calls": self.n_calls,
+            "seed": self.seed,
+            "centres": self.centres,
+            "warnings": list(self.warnings),
+            "checks": self.checks,
         }
 
 
 PITTING_NAME = "pitting_factor"
 
 
-def area_factor(initiation_time, corrosion_rate, age_years: float, age_now_years: float,
-                bar_diameter_mm: float, pitting_factor=None):
+def area_factor(
+    initiation_time,
+    corrosion_rate,
+    age_years: float,
+    age_now_years: float,
+    bar_diameter_mm: float,
+    pitting_factor=None,
+):
     """A(age) / A(age_now) of a bar under Faraday corrosion [-].
 
     Uniform corrosion by default. With ``pitting_factor`` R the bar also carries
@@ -404,12 +479,14 @@ def area_factor(initiation_time, corrosion_rate, age_years: float, age_now_years
     ``age_now`` (then nothing is left to lose, and the model's measured state is
     taken as lost at once - a conservative edge case).
     """
+
     def ratio(age):
         penetration = penetration_depth(corrosion_rate, time_since_initiation(age, initiation_time))
         if pitting_factor is None:
             return residual_area_ratio(bar_diameter_mm, penetration, rule="uniform")
-        return residual_area_ratio(bar_diameter_mm, penetration, pitting_factor,
-                                   rule="uniform_then_pit")
+        return residual_area_ratio(
+            bar_diameter_mm, penetration, pitting_factor, rule="uniform_then_pit"
+        )
 
     if age_years == age_now_years:
         return np.ones(np.shape(initiation_time))
@@ -419,8 +496,13 @@ def area_factor(initiation_time, corrosion_rate, age_years: float, age_now_years
         return np.where(now > 0.0, later / np.where(now > 0.0, now, 1.0), 0.0)
 
 
-def deteriorating_limit_state(member_model, bar_diameter_mm: float, age_now_years: float,
-                              mode_names: Sequence[str], pitting: bool = False):
+def deteriorating_limit_state(
+    member_model,
+    bar_diameter_mm: float,
+    age_now_years: float,
+    mode_names: Sequence[str],
+    pitting: bool = False,
+):
     """``limit_state_at(x, t)`` of a member whose bar area corrodes after the assessment.
 
     t is the time since the assessment date [yr]; ``x["area_ratio"]`` is scaled
@@ -430,9 +512,14 @@ def deteriorating_limit_state(member_model, bar_diameter_mm: float, age_now_year
     funcs = [member_model.modes[m] for m in mode_names]
 
     def limit_state_at(x, t):
-        factor = area_factor(x[INITIATION_NAME], x[RATE_NAME], age_now_years + float(t),
-                             age_now_years, bar_diameter_mm,
-                             x[PITTING_NAME] if pitting else None)
+        factor = area_factor(
+            x[INITIATION_NAME],
+            x[RATE_NAME],
+            age_now_years + float(t),
+            age_now_years,
+            bar_diameter_mm,
+            x[PITTING_NAME] if pitting else None,
+        )
         shifted = dict(x)
         shifted["area_ratio"] = x["area_ratio"] * factor
         return np.column_stack([f(shifted) for f in funcs])
@@ -456,11 +543,20 @@ def _decimal_year(date) -> float:
     return date.year + (date - start).days / 365.25
 
 
-def project_member(site, member_id: str, update, *, corrosion: dict | None = None,
-                   horizon_years: float = 50.0, step_years: float = 1.0,
-                   n_samples: int = DEFAULT_SAMPLES, seed: int = 20261202,
-                   check_years: Sequence[float] = (), check_samples: int = 1000,
-                   pitting: bool = False) -> list:
+def project_member(
+    site,
+    member_id: str,
+    update,
+    *,
+    corrosion: dict | None = None,
+    horizon_years: float = 50.0,
+    step_years: float = 1.0,
+    n_samples: int = DEFAULT_SAMPLES,
+    seed: int = 20261202,
+    check_years: Sequence[float] = (),
+    check_samples: int = 1000,
+    pitting: bool = False,
+) -> list:
     """Annual beta(t) and remaining life of every mode and the system of one member.
 
     Parameters
@@ -495,22 +591,28 @@ def project_member(site, member_id: str, update, *, corrosion: dict | None = Non
     list of LifeCurve
         One per mode, then ``"system"`` when the member has several modes.
     """
-    from assess.site.member_models import build_member_model
-    from assess.site.corrosion import zone_corrosion_inputs
     from assess.reliability.subset import subset_simulation
+    from assess.site.corrosion import zone_corrosion_inputs
+    from assess.site.member_models import build_member_model
 
     if member_id not in site.members:
-        raise InputError(f"member {member_id!r} is not in the site file; members are "
-                         f"{', '.join(site.members)}", column="member")
+        raise InputError(
+            f"member {member_id!r} is not in the site file; members are {', '.join(site.members)}",
+            column="member",
+        )
     if not (horizon_years > 0 and step_years > 0 and step_years <= horizon_years):
-        raise InputError(f"horizon and step must be positive years with step <= horizon, got "
-                         f"{horizon_years!r} and {step_years!r}", column="horizon")
+        raise InputError(
+            f"horizon and step must be positive years with step <= horizon, got "
+            f"{horizon_years!r} and {step_years!r}",
+            column="horizon",
+        )
     member = site.members[member_id]
     if corrosion is None:
         corrosion = zone_corrosion_inputs(site, seed=seed)
     inputs = corrosion[member.zone]
-    member_model = build_member_model(site, member, update.after[member.zone],
-                                      reference_period_years=1.0)
+    member_model = build_member_model(
+        site, member, update.after[member.zone], reference_period_years=1.0
+    )
     inputs.add_to_model(member_model.model)
     if pitting:
         from assess.deterioration.corrosion import pitting_factor_distribution
@@ -518,20 +620,29 @@ def project_member(site, member_id: str, update, *, corrosion: dict | None = Non
 
         gumbel = pitting_factor_distribution()  # frozen scipy gumbel_r(loc=..., scale=...)
         location, scale = gumbel.kwds["loc"], gumbel.kwds["scale"]
-        member_model.model.add(PITTING_NAME, make_distribution("gumbel", loc=location,
-                                                               scale=scale, name=PITTING_NAME))
+        member_model.model.add(
+            PITTING_NAME, make_distribution("gumbel", loc=location, scale=scale, name=PITTING_NAME)
+        )
     mode_names = list(member_model.modes)
     age_now = age_at(site, site.site.assessment_date)
-    limit_state_at = deteriorating_limit_state(member_model, float(member.bar_diameter), age_now,
-                                               mode_names, pitting=pitting)
+    limit_state_at = deteriorating_limit_state(
+        member_model, float(member.bar_diameter), age_now, mode_names, pitting=pitting
+    )
     n_steps = int(round(horizon_years / step_years))
     times = np.arange(n_steps + 1) * float(step_years)
     groups = {name: [j] for j, name in enumerate(mode_names)}
     if len(mode_names) > 1:
         groups["system"] = list(range(len(mode_names)))
     run_seed = _member_seed(seed, member_id)
-    estimate = estimate_curves(member_model.model, limit_state_at, times, groups,
-                               mode_names=mode_names, n_samples=n_samples, seed=run_seed)
+    estimate = estimate_curves(
+        member_model.model,
+        limit_state_at,
+        times,
+        groups,
+        mode_names=mode_names,
+        n_samples=n_samples,
+        seed=run_seed,
+    )
     target = annual_target(site)
     start_year = _decimal_year(site.site.assessment_date)
     curves = []
@@ -543,37 +654,70 @@ def project_member(site, member_id: str, update, *, corrosion: dict | None = Non
         warnings = list(estimate.warnings)
         if np.any(estimate.n_failures[label] == 0):
             first = int(np.flatnonzero(estimate.n_failures[label] == 0)[0])
-            warnings.append(f"no failed sample at t = {times[first]:g} yr: beta there is beyond "
-                            "what the sample set resolves (shown as +inf)")
-        curves.append(LifeCurve(
-            member=member_id, zone=member.zone, kind=member.kind, mode=label,
-            years_from_assessment=times, calendar_year=start_year + times,
-            age_years=age_now + times, beta=beta, pf=estimate.pf[label],
-            cov=estimate.cov[label], beta_lower=lower, beta_upper=upper, target=target,
-            remaining_life=remaining_life(times, beta, lower, upper, target.beta),
-            governing_mode=governing, corrosion=inputs.to_dict(),
-            n_samples=estimate.n_samples, n_calls=estimate.n_calls, seed=estimate.seed,
-            centres=estimate.centres, warnings=warnings))
+            warnings.append(
+                f"no failed sample at t = {times[first]:g} yr: beta there is beyond "
+                "what the sample set resolves (shown as +inf)"
+            )
+        curves.append(
+            LifeCurve(
+                member=member_id,
+                zone=member.zone,
+                kind=member.kind,
+                mode=label,
+                years_from_assessment=times,
+                calendar_year=start_year + times,
+                age_years=age_now + times,
+                beta=beta,
+                pf=estimate.pf[label],
+                cov=estimate.cov[label],
+                beta_lower=lower,
+                beta_upper=upper,
+                target=target,
+                remaining_life=remaining_life(times, beta, lower, upper, target.beta),
+                governing_mode=governing,
+                corrosion=inputs.to_dict(),
+                n_samples=estimate.n_samples,
+                n_calls=estimate.n_calls,
+                seed=estimate.seed,
+                centres=estimate.centres,
+                warnings=warnings,
+            )
+        )
     system = curves[-1]
     for t in check_years:
         j = int(np.argmin(np.abs(times - float(t))))
-        problem = member_model.model.problem(lambda x, _t=times[j]: limit_state_at(x, _t),
-                                             mode_names=mode_names)
+        problem = member_model.model.problem(
+            partial(_at_time, limit_state_at, t=times[j]), mode_names=mode_names
+        )
         check = subset_simulation(problem, n_per_level=check_samples, seed=run_seed + j + 1)
         combined = math.hypot(check.cov * check.pf, system.cov[j] * system.pf[j])
-        system.checks.append({
-            "years_from_assessment": float(times[j]), "beta_importance_sampling":
-            float(system.beta[j]), "beta_subset_simulation": float(check.beta),
-            "cov_subset_simulation": float(check.cov), "n_calls": int(check.n_calls),
-            "agree_within_3_cov": bool(abs(check.pf - system.pf[j]) <= 3.0 * combined)})
+        system.checks.append(
+            {
+                "years_from_assessment": float(times[j]),
+                "beta_importance_sampling": float(system.beta[j]),
+                "beta_subset_simulation": float(check.beta),
+                "cov_subset_simulation": float(check.cov),
+                "n_calls": int(check.n_calls),
+                "agree_within_3_cov": bool(abs(check.pf - system.pf[j]) <= 3.0 * combined),
+            }
+        )
     return curves
 
 
-def project_site(site, update, *, corrosion: dict | None = None, members=None,
-                 horizon_years: float = 50.0, step_years: float = 1.0,
-                 n_samples: int = DEFAULT_SAMPLES, seed: int = 20261202,
-                 check_years: Sequence[float] = (),
-                 progress: Callable[[str], None] | None = None, pitting: bool = False) -> list:
+def project_site(
+    site,
+    update,
+    *,
+    corrosion: dict | None = None,
+    members=None,
+    horizon_years: float = 50.0,
+    step_years: float = 1.0,
+    n_samples: int = DEFAULT_SAMPLES,
+    seed: int = 20261202,
+    check_years: Sequence[float] = (),
+    progress: Callable[[str], None] | None = None,
+    pitting: bool = False,
+) -> list:
     """`project_member` for every member (or those given); curves of all modes and systems."""
     from assess.site.corrosion import zone_corrosion_inputs
 
@@ -582,14 +726,27 @@ def project_site(site, update, *, corrosion: dict | None = None, members=None,
     chosen = list(members) if members else list(site.members)
     unknown = [m for m in chosen if m not in site.members]
     if unknown:
-        raise InputError(f"member(s) {', '.join(unknown)} not in the site file; members are "
-                         f"{', '.join(site.members)}", column="--member")
+        raise InputError(
+            f"member(s) {', '.join(unknown)} not in the site file; members are "
+            f"{', '.join(site.members)}",
+            column="--member",
+        )
     curves = []
     for member_id in chosen:
-        curves.extend(project_member(site, member_id, update, corrosion=corrosion,
-                                     horizon_years=horizon_years, step_years=step_years,
-                                     n_samples=n_samples, seed=seed, check_years=check_years,
-                                     pitting=pitting))
+        curves.extend(
+            project_member(
+                site,
+                member_id,
+                update,
+                corrosion=corrosion,
+                horizon_years=horizon_years,
+                step_years=step_years,
+                n_samples=n_samples,
+                seed=seed,
+                check_years=check_years,
+                pitting=pitting,
+            )
+        )
         if progress:
             progress(member_id)
     return curves
@@ -604,7 +761,19 @@ def governing_curves(curves) -> list:
     return list(by_member.values())
 
 
-__all__ = ["ANNUAL_NOTE", "CurveEstimate", "LifeCurve", "RemainingLife", "annual_target",
-           "area_factor", "beta_band", "deteriorating_limit_state", "estimate_curves",
-           "first_crossing", "governing_curves", "project_member", "project_site",
-           "remaining_life"]
+__all__ = [
+    "ANNUAL_NOTE",
+    "CurveEstimate",
+    "LifeCurve",
+    "RemainingLife",
+    "annual_target",
+    "area_factor",
+    "beta_band",
+    "deteriorating_limit_state",
+    "estimate_curves",
+    "first_crossing",
+    "governing_curves",
+    "project_member",
+    "project_site",
+    "remaining_life",
+]

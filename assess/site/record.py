@@ -34,8 +34,7 @@ def site_file_hash(site) -> str:
     return hashlib.sha256(Path(site.path).read_bytes()).hexdigest()
 
 
-def record_rows(site, rows: Iterable[LedgerRow], *, step: str,
-                settings: dict[str, Any]) -> int:
+def record_rows(site, rows: Iterable[LedgerRow], *, step: str, settings: dict[str, Any]) -> int:
     """Append ``rows`` to the site's ledger; returns how many were written.
 
     Each row's settings hold the step name, the run settings and the site-file hash,
@@ -47,8 +46,14 @@ def record_rows(site, rows: Iterable[LedgerRow], *, step: str,
     common = {"step": step, "run": settings, "site_file_sha256": site_file_hash(site)}
     with Ledger(ledger_path(site.folder)) as ledger:
         for row in rows:
-            ledger.append_result(row.kind, row.payload, member=row.member, mode=row.mode,
-                                 seed=row.seed, settings={**common, **row.settings})
+            ledger.append_result(
+                row.kind,
+                row.payload,
+                member=row.member,
+                mode=row.mode,
+                seed=row.seed,
+                settings={**common, **row.settings},
+            )
     return len(rows)
 
 

@@ -87,10 +87,17 @@ class SiteCorrosion:
     def ledger_rows(self) -> list[LedgerRow]:
         if self.fit is None:
             return []
-        return [LedgerRow("corrosion", {"zones": list(self.fit.zones),
-                                        "gate": self.fit.gate.to_dict(),
-                                        "inputs": {z: c.to_dict() for z, c in self.inputs.items()}},
-                          seed=int(self.fit.seed))]
+        return [
+            LedgerRow(
+                "corrosion",
+                {
+                    "zones": list(self.fit.zones),
+                    "gate": self.fit.gate.to_dict(),
+                    "inputs": {z: c.to_dict() for z, c in self.inputs.items()},
+                },
+                seed=int(self.fit.seed),
+            )
+        ]
 
 
 @dataclasses.dataclass
@@ -124,9 +131,17 @@ class SiteRun:
         Called with the title of each step as it starts.
     """
 
-    def __init__(self, site, settings: RunSettings | None = None, *, members=None,
-                 worth_member: str | None = None, decisions_file: Path | None = None,
-                 record: bool = True, say: Callable[[str], None] | None = None):
+    def __init__(
+        self,
+        site,
+        settings: RunSettings | None = None,
+        *,
+        members=None,
+        worth_member: str | None = None,
+        decisions_file: Path | None = None,
+        record: bool = True,
+        say: Callable[[str], None] | None = None,
+    ):
         self.site = site
         self.settings = settings or RunSettings()
         self.members = list(members) if members else None
@@ -175,8 +190,14 @@ def _members(run: SiteRun):
     from assess.site.before_after import assess_members
 
     update = run.step("materials")
-    return assess_members(run.site, update, method=run.settings.method, seed=run.settings.seed,
-                          options=run.settings.reliability_options, members=run.members)
+    return assess_members(
+        run.site,
+        update,
+        method=run.settings.method,
+        seed=run.settings.seed,
+        options=run.settings.reliability_options,
+        members=run.members,
+    )
 
 
 def _corrosion(run: SiteRun):
@@ -191,8 +212,9 @@ def _life(run: SiteRun):
 
     update = run.step("materials")
     corrosion = run.step("corrosion")
-    return compute_site_life(run.site, update, corrosion.inputs, settings=run.settings,
-                             members=run.members)
+    return compute_site_life(
+        run.site, update, corrosion.inputs, settings=run.settings, members=run.members
+    )
 
 
 def _worth(run: SiteRun):
@@ -202,8 +224,9 @@ def _worth(run: SiteRun):
     path = _decisions_path(run)
     setup = read_decision_setup(path)
     update = run.step("materials")
-    return compute_site_worth(run.site, update, setup, member=run.worth_member,
-                              settings=run.settings, decision_file=path)
+    return compute_site_worth(
+        run.site, update, setup, member=run.worth_member, settings=run.settings, decision_file=path
+    )
 
 
 def _history(run: SiteRun):
@@ -213,8 +236,12 @@ def _history(run: SiteRun):
 
 
 _STEPS: dict[str, Callable[[SiteRun], Any]] = {
-    "materials": _materials, "members": _members, "corrosion": _corrosion, "life": _life,
-    "worth": _worth, "history": _history,
+    "materials": _materials,
+    "members": _members,
+    "corrosion": _corrosion,
+    "life": _life,
+    "worth": _worth,
+    "history": _history,
 }
 
 
@@ -223,8 +250,10 @@ def skip_reason(run: SiteRun, name: str) -> str:
     from assess.site.paths import has_ledger
 
     if name == "worth" and not _decisions_path(run).is_file():
-        return (f"no decision set-up file ({_decisions_path(run).name}) in the site folder; "
-                "write one to value further testing (see docs/decision-file.md)")
+        return (
+            f"no decision set-up file ({_decisions_path(run).name}) in the site folder; "
+            "write one to value further testing (see docs/decision-file.md)"
+        )
     if name == "history" and not has_ledger(run.site.folder):
         return "no inspection campaign has been imported yet"
     return ""
@@ -246,8 +275,9 @@ def run_step(run: SiteRun, name: str) -> Any:
     if record is not None:
         if record.status == DONE:
             return run.results[name]
-        raise StepUnavailable(f"the step '{record.title}' did not run: {record.reason}",
-                              fix=record.fix or None)
+        raise StepUnavailable(
+            f"the step '{record.title}' did not run: {record.reason}", fix=record.fix or None
+        )
     reason = skip_reason(run, name)
     if reason:
         run.records[name] = StepRecord(name, STEP_TITLES[name], SKIPPED, reason=reason)
@@ -280,8 +310,15 @@ def _failure(run: SiteRun, name: str, exc: Exception, seconds: float) -> StepRec
     fix = getattr(exc, "fix", None) or ""
     if isinstance(exc, InputError) and not fix:
         fix = "Correct the file, row and column named and run again."
-    record = StepRecord(name, STEP_TITLES[name], FAILED, reason=reason, fix=fix,
-                        input_problem=isinstance(exc, InputError), seconds=seconds)
+    record = StepRecord(
+        name,
+        STEP_TITLES[name],
+        FAILED,
+        reason=reason,
+        fix=fix,
+        input_problem=isinstance(exc, InputError),
+        seconds=seconds,
+    )
     run.records[name] = record
     return record
 
@@ -302,10 +339,24 @@ def _keep_warnings(run: SiteRun, record: StepRecord, caught) -> None:
 def _record_status(run: SiteRun, record: StepRecord) -> None:
     if not run.record:
         return
-    record_rows(run.site, [LedgerRow("step", record.to_dict(), mode=record.name,
-                                     seed=run.settings.seed)],
-                step=record.name, settings=run.settings.to_dict())
+    record_rows(
+        run.site,
+        [LedgerRow("step", record.to_dict(), mode=record.name, seed=run.settings.seed)],
+        step=record.name,
+        settings=run.settings.to_dict(),
+    )
 
 
-__all__ = ["DONE", "FAILED", "SKIPPED", "STEP_TITLES", "SiteCorrosion", "SiteHistory", "SiteRun",
-           "StepRecord", "StepUnavailable", "run_step", "skip_reason"]
+__all__ = [
+    "DONE",
+    "FAILED",
+    "SKIPPED",
+    "STEP_TITLES",
+    "SiteCorrosion",
+    "SiteHistory",
+    "SiteRun",
+    "StepRecord",
+    "StepUnavailable",
+    "run_step",
+    "skip_reason",
+]

@@ -71,18 +71,27 @@ class FitSettings:
 
 def check_fit_settings(fit: FitSettings, where: str) -> None:
     """Refuse impossible sampler settings with an `InputError` naming ``where``."""
-    for key, low, high in (("draws", 100, MAX_DRAWS), ("tune", 0, MAX_DRAWS),
-                           ("chains", 1, MAX_CHAINS)):
+    for key, low, high in (
+        ("draws", 100, MAX_DRAWS),
+        ("tune", 0, MAX_DRAWS),
+        ("chains", 1, MAX_CHAINS),
+    ):
         value = getattr(fit, key)
         if isinstance(value, bool) or not isinstance(value, int) or not low <= value <= high:
-            raise InputError(f"{key} must be a whole number from {low} to {high}, got {value!r}",
-                             column=f"{where}.{key}")
+            raise InputError(
+                f"{key} must be a whole number from {low} to {high}, got {value!r}",
+                column=f"{where}.{key}",
+            )
     if not (isinstance(fit.target_accept, (int, float)) and 0.5 <= fit.target_accept < 1.0):
-        raise InputError(f"target_accept must be a number in [0.5, 1), got {fit.target_accept!r}",
-                         column=f"{where}.target_accept")
+        raise InputError(
+            f"target_accept must be a number in [0.5, 1), got {fit.target_accept!r}",
+            column=f"{where}.target_accept",
+        )
     if fit.sampler not in SAMPLERS:
-        raise InputError(f"sampler must be one of {', '.join(SAMPLERS)}, got {fit.sampler!r}",
-                         column=f"{where}.sampler")
+        raise InputError(
+            f"sampler must be one of {', '.join(SAMPLERS)}, got {fit.sampler!r}",
+            column=f"{where}.sampler",
+        )
 
 
 @dataclasses.dataclass(frozen=True)
@@ -127,24 +136,35 @@ class RunSettings:
     pitting: bool = False
 
     def __post_init__(self):
-        if isinstance(self.seed, bool) or not isinstance(self.seed, int) or not 0 <= self.seed < 2**32:
-            raise InputError(f"the seed must be a whole number from 0 to {2**32 - 1}, "
-                             f"got {self.seed!r}", column="--seed")
+        if (
+            isinstance(self.seed, bool)
+            or not isinstance(self.seed, int)
+            or not 0 <= self.seed < 2**32
+        ):
+            raise InputError(
+                f"the seed must be a whole number from 0 to {2**32 - 1}, got {self.seed!r}",
+                column="--seed",
+            )
         from assess.reliability.dispatch import METHODS
 
         if self.method not in METHODS:
-            raise InputError(f"unknown method {self.method!r}; choose one of "
-                             f"{', '.join(METHODS)}", column="--method")
+            raise InputError(
+                f"unknown method {self.method!r}; choose one of {', '.join(METHODS)}",
+                column="--method",
+            )
         unknown = sorted(set(self.fits) - set(FIT_KINDS))
         if unknown:
-            raise InputError(f"unknown fit(s) {', '.join(unknown)}; the fits are "
-                             f"{', '.join(FIT_KINDS)}", column="sampling")
+            raise InputError(
+                f"unknown fit(s) {', '.join(unknown)}; the fits are {', '.join(FIT_KINDS)}",
+                column="sampling",
+            )
 
     def fit(self, kind: str) -> FitSettings:
         """Sampler settings of the fit ``kind``."""
         if kind not in FIT_KINDS:
-            raise InputError(f"unknown fit {kind!r}; the fits are {', '.join(FIT_KINDS)}",
-                             column="sampling")
+            raise InputError(
+                f"unknown fit {kind!r}; the fits are {', '.join(FIT_KINDS)}", column="sampling"
+            )
         return self.fits.get(kind) or self.default_fit()
 
     def default_fit(self) -> FitSettings:
@@ -184,10 +204,13 @@ class RunSettings:
         return out
 
 
-def build_settings(*, site_sampling: Mapping[str, Mapping[str, Any]] | None = None,
-                   overrides: Mapping[str, Any] | None = None,
-                   per_fit: Mapping[str, Mapping[str, Any]] | None = None,
-                   **options: Any) -> RunSettings:
+def build_settings(
+    *,
+    site_sampling: Mapping[str, Mapping[str, Any]] | None = None,
+    overrides: Mapping[str, Any] | None = None,
+    per_fit: Mapping[str, Mapping[str, Any]] | None = None,
+    **options: Any,
+) -> RunSettings:
     """`RunSettings` from the site file's ``[sampling]`` tables and the command line.
 
     Parameters
@@ -207,19 +230,29 @@ def build_settings(*, site_sampling: Mapping[str, Mapping[str, Any]] | None = No
     common = {k: v for k, v in (overrides or {}).items() if v is not None}
     fits = {}
     for kind in FIT_KINDS:
-        merged = {**base, **dict((site_sampling or {}).get(kind, {})), **common,
-                  **dict((per_fit or {}).get(kind, {}))}
+        merged = {
+            **base,
+            **dict((site_sampling or {}).get(kind, {})),
+            **common,
+            **dict((per_fit or {}).get(kind, {})),
+        }
         fields = {f.name for f in dataclasses.fields(FitSettings)}
         unknown = sorted(set(merged) - fields)
         if unknown:
-            raise InputError(f"unknown sampler setting(s) {', '.join(unknown)} for the {kind} "
-                             f"fit; the settings are {', '.join(sorted(fields))}",
-                             column=f"sampling.{kind}")
+            raise InputError(
+                f"unknown sampler setting(s) {', '.join(unknown)} for the {kind} "
+                f"fit; the settings are {', '.join(sorted(fields))}",
+                column=f"sampling.{kind}",
+            )
         try:
             fits[kind] = FitSettings(**merged)
         except InputError as exc:
-            raise InputError(exc.message, column=f"sampling.{kind}.{exc.column.split('.')[-1]}"
-                             if exc.column else f"sampling.{kind}") from None
+            raise InputError(
+                exc.message,
+                column=f"sampling.{kind}.{exc.column.split('.')[-1]}"
+                if exc.column
+                else f"sampling.{kind}",
+            ) from None
     return RunSettings(fits=fits, **options)
 
 
@@ -230,9 +263,11 @@ def parse_fit_assignments(texts) -> dict[str, dict[str, Any]]:
         name, sep, raw = str(text).partition("=")
         kind, dot, key = name.strip().partition(".")
         if not sep or not dot or kind not in FIT_KINDS or not key:
-            raise InputError(f"write --sampling as FIT.KEY=VALUE with FIT one of "
-                             f"{', '.join(FIT_KINDS)}, e.g. corrosion.draws=3000; got {text!r}",
-                             column="--sampling")
+            raise InputError(
+                f"write --sampling as FIT.KEY=VALUE with FIT one of "
+                f"{', '.join(FIT_KINDS)}, e.g. corrosion.draws=3000; got {text!r}",
+                column="--sampling",
+            )
         out.setdefault(kind, {})[key.strip()] = _value(raw.strip(), key.strip())
     return out
 
@@ -244,13 +279,24 @@ def _value(raw: str, key: str) -> Any:
         try:
             return float(raw)
         except ValueError:
-            raise InputError(f"target_accept must be a number, got {raw!r}",
-                             column="--sampling") from None
+            raise InputError(
+                f"target_accept must be a number, got {raw!r}", column="--sampling"
+            ) from None
     if raw.isascii() and raw.isdigit():
         return int(raw)
-    raise InputError(f"{key} must be a whole number written with the digits 0-9, got {raw!r}",
-                     column="--sampling")
+    raise InputError(
+        f"{key} must be a whole number written with the digits 0-9, got {raw!r}",
+        column="--sampling",
+    )
 
 
-__all__ = ["DEFAULT_SEED", "FIT_KINDS", "FitSettings", "RunSettings", "SAMPLERS", "build_settings",
-           "check_fit_settings", "parse_fit_assignments"]
+__all__ = [
+    "DEFAULT_SEED",
+    "FIT_KINDS",
+    "FitSettings",
+    "RunSettings",
+    "SAMPLERS",
+    "build_settings",
+    "check_fit_settings",
+    "parse_fit_assignments",
+]

@@ -9,6 +9,7 @@ from __future__ import annotations
 import dataclasses
 import math
 import warnings
+from typing import Any
 
 import numpy as np
 
@@ -30,7 +31,9 @@ def result_summary(result) -> dict:
     data.pop("effective_sample_size")
     data["posterior_beta_quantiles"] = (
         {str(q): float(np.quantile(finite, q)) for q in (0.05, 0.25, 0.5, 0.75, 0.95)}
-        if finite.size else None)
+        if finite.size
+        else None
+    )
     data["min_effective_sample_size"] = float(np.min(result.effective_sample_size))
     return data
 
@@ -39,9 +42,9 @@ def result_summary(result) -> dict:
 class SiteWorth:
     """Decision problem of one member, the ranking of the programmes and its summary."""
 
-    decision: object
-    ranking: object
-    setup: object
+    decision: Any
+    ranking: Any
+    setup: Any
     outcomes: int
     posterior_hash: str = ""
     decision_file: str = ""
@@ -55,54 +58,94 @@ class SiteWorth:
 
     def table_rows(self) -> list[dict]:
         currency = self.decision.problem.currency
-        return [{"programme": r.description, f"cost [{currency}]": r.programme_cost,
-                 f"value of information [{currency}]": r.evsi,
-                 f"MC std. error [{currency}]": r.evsi_standard_error,
-                 f"net value [{currency}]": r.net_value,
-                 "P(beta >= target)": r.probability_adequate}
-                for r in self.ranking.results]
+        return [
+            {
+                "programme": r.description,
+                f"cost [{currency}]": r.programme_cost,
+                f"value of information [{currency}]": r.evsi,
+                f"MC std. error [{currency}]": r.evsi_standard_error,
+                f"net value [{currency}]": r.net_value,
+                "P(beta >= target)": r.probability_adequate,
+            }
+            for r in self.ranking.results
+        ]
 
     def to_dict(self) -> dict:
         decision, problem = self.decision, self.decision.problem
         first = self.ranking.results[0]
         return {
-            "member": decision.member, "zone": decision.zone, "currency": problem.currency,
-            "horizon_years": decision.horizon_years, "discount_rate": self.setup.discount_rate,
+            "member": decision.member,
+            "zone": decision.zone,
+            "currency": problem.currency,
+            "horizon_years": decision.horizon_years,
+            "discount_rate": self.setup.discount_rate,
             "failure_cost": problem.failure_cost,
-            "target": {"annual_beta": decision.target.beta,
-                       "horizon_beta": decision.horizon_target_beta,
-                       "source": decision.target.source},
-            "alternatives": [{"name": a.name, "cost": a.cost, "effect": a.description,
-                              "expected_cost": first.prior_expected_costs[a.name]}
-                             for a in problem.alternatives],
-            "prior_decision": first.prior_decision, "evpi": first.evpi,
+            "target": {
+                "annual_beta": decision.target.beta,
+                "horizon_beta": decision.horizon_target_beta,
+                "source": decision.target.source,
+            },
+            "alternatives": [
+                {
+                    "name": a.name,
+                    "cost": a.cost,
+                    "effect": a.description,
+                    "expected_cost": first.prior_expected_costs[a.name],
+                }
+                for a in problem.alternatives
+            ],
+            "prior_decision": first.prior_decision,
+            "evpi": first.evpi,
             "evpi_standard_error": first.evpi_standard_error,
-            "ranking": self.summaries(), "recommendation": self.recommendation,
+            "ranking": self.summaries(),
+            "recommendation": self.recommendation,
             "surrogate_leave_one_out_error": decision.surrogate_errors(),
-            "form_calls": decision.form_calls, "notes": decision.notes,
-            "outcomes": self.outcomes, "theta_draws": problem.n_draws,
+            "form_calls": decision.form_calls,
+            "notes": decision.notes,
+            "outcomes": self.outcomes,
+            "theta_draws": problem.n_draws,
             "design_points": DESIGN_POINTS,
         }
 
     def ledger_rows(self) -> list[LedgerRow]:
         """One ``"worth"`` row per test programme."""
         decision, problem = self.decision, self.decision.problem
-        settings = {"outcomes": self.outcomes, "theta_draws": problem.n_draws,
-                    "design_points": DESIGN_POINTS, "posterior_hash": self.posterior_hash,
-                    "horizon_years": decision.horizon_years,
-                    "discount_rate": self.setup.discount_rate,
-                    "decision_file": str(self.decision_file)}
-        return [LedgerRow("worth", summary, member=decision.member, mode=summary["programme"],
-                          seed=summary["seed"], settings=settings)
-                for summary in self.summaries()]
+        settings = {
+            "outcomes": self.outcomes,
+            "theta_draws": problem.n_draws,
+            "design_points": DESIGN_POINTS,
+            "posterior_hash": self.posterior_hash,
+            "horizon_years": decision.horizon_years,
+            "discount_rate": self.setup.discount_rate,
+            "decision_file": str(self.decision_file),
+        }
+        return [
+            LedgerRow(
+                "worth",
+                summary,
+                member=decision.member,
+                mode=summary["programme"],
+                seed=summary["seed"],
+                settings=settings,
+            )
+            for summary in self.summaries()
+        ]
 
     def largest_surrogate_error(self) -> float:
         errors = self.decision.surrogate_errors()
         return max((v for modes in errors.values() for v in modes.values()), default=math.nan)
 
 
-def compute_site_worth(site, update, setup, *, member=None, settings: RunSettings | None = None,
-                       decision_file="", progress=None) -> SiteWorth:
+def compute_site_worth(
+    site,
+    update,
+    setup,
+    *,
+    member=None,
+    settings: RunSettings | None = None,
+    decision_file="",
+    progress=None,
+) -> SiteWorth:
     """Build the member's decision problem and rank the setup's test programmes.
 
     Parameters
@@ -125,12 +168,24 @@ def compute_site_worth(site, update, setup, *, member=None, settings: RunSetting
         warnings.simplefilter("ignore", UserWarning)  # carried in the notes and recommendation
         if progress:
             progress("Conditional reliability of each alternative (FORM design, surrogate)")
-        decision = build_site_decision(site, update, setup, member=member, n_draws=THETA_DRAWS,
-                                       n_design=DESIGN_POINTS, seed=settings.seed)
+        decision = build_site_decision(
+            site,
+            update,
+            setup,
+            member=member,
+            n_draws=THETA_DRAWS,
+            n_design=DESIGN_POINTS,
+            seed=settings.seed,
+        )
         if progress:
             progress("Preposterior analysis of the test programmes")
-        ranking = rank_programmes(decision.problem, decision.programmes, n_outcomes=outcomes,
-                                  seed=settings.seed, target_beta=decision.horizon_target_beta)
+        ranking = rank_programmes(
+            decision.problem,
+            decision.programmes,
+            n_outcomes=outcomes,
+            seed=settings.seed,
+            target_beta=decision.horizon_target_beta,
+        )
     return SiteWorth(decision, ranking, setup, outcomes, update.data_hash, str(decision_file))
 
 

@@ -53,28 +53,38 @@ from __future__ import annotations
 import dataclasses
 import math
 import warnings
-from typing import Callable, Sequence
+from functools import partial
+from typing import Any, Callable, Sequence
 
 import numpy as np
 from scipy import special, stats
 
-from assess.site.knowledge import QUANTITIES
-from assess.site.member_models import MemberModel, build_member_model
 from assess.distributions import make_distribution
 from assess.errors import AnalysisError, InputError
 from assess.model import ProbabilisticModel
+from assess.priors.normal_gamma import NormalGamma
 from assess.reliability.form import form
+from assess.site.knowledge import QUANTITIES
+from assess.site.member_models import MemberModel, build_member_model
 from assess.targets import Target, convert_reference_period, target_beta
-from assess.updating.normal_gamma import NormalGamma
 from assess.updating.to_model import add_uncertain_quantity
 from assess.worth.decision import Alternative, DecisionProblem, discount_factors
 from assess.worth.decision_file import AlternativeSpec, DecisionSetup, ProgrammeSpec
-from assess.worth.programmes import (BreakoutSurvey, CoreSampling, HalfCellSurvey,
-                                     NormalSampleProgramme, Programme)
+from assess.worth.programmes import (
+    BreakoutSurvey,
+    CoreSampling,
+    HalfCellSurvey,
+    NormalSampleProgramme,
+    Programme,
+)
 
 #: Physical variable of each population in the member models and its distribution given theta.
-PHYSICAL = {"concrete": ("fc", "lognormal"), "steel": ("fy", "normal"),
-            "cover": ("cover", "normal"), "area_ratio": ("area_ratio", "normal")}
+PHYSICAL = {
+    "concrete": ("fc", "lognormal"),
+    "steel": ("fy", "normal"),
+    "cover": ("cover", "normal"),
+    "area_ratio": ("area_ratio", "normal"),
+}
 #: Resistance model-uncertainty variables of the member models (`assess.site.member_models`).
 RESISTANCE_UNCERTAINTY = ("theta_flexure", "theta_shear", "theta_punching")
 #: Imposed (vehicle) load variable of the member models.
@@ -86,8 +96,13 @@ SURROGATE_WARNING_RMSE = 0.10
 SURROGATE_FAILURE_RMSE = 0.30
 #: Modes whose smallest design beta exceeds this carry no weight in pf [-].
 NEGLIGIBLE_BETA = 7.0
-ALTERNATIVE_NAMES = {"keep": "keep as is", "repair": "repair", "strengthen": "strengthen",
-                     "restrict_load": "restrict load", "replace": "replace"}
+ALTERNATIVE_NAMES = {
+    "keep": "keep as is",
+    "repair": "repair",
+    "strengthen": "strengthen",
+    "restrict_load": "restrict load",
+    "replace": "replace",
+}
 
 
 def parameter_name(quantity: str, statistic: str, zone: str) -> str:
@@ -100,8 +115,9 @@ def zone_columns(zone: str) -> list[str]:
     return [parameter_name(q, s, zone) for q in QUANTITIES for s in ("mu", "sigma")]
 
 
-def add_fixed_quantity(model: ProbabilisticModel, name: str, mu: float, sigma: float,
-                       kind: str = "lognormal") -> None:
+def add_fixed_quantity(
+    model: ProbabilisticModel, name: str, mu: float, sigma: float, kind: str = "lognormal"
+) -> None:
     """Add a physical variable whose population is known: Y ~ N(mu, sigma^2).
 
     The counterpart of `assess.updating.to_model.add_uncertain_quantity` for a
@@ -117,11 +133,14 @@ def add_fixed_quantity(model: ProbabilisticModel, name: str, mu: float, sigma: f
     kind : {"lognormal", "normal"}
     """
     if not (math.isfinite(mu) and math.isfinite(sigma) and sigma > 0):
-        raise InputError(f"variable '{name}': a fixed population needs finite mu and sigma > 0, "
-                         f"got mu={mu!r}, sigma={sigma!r}")
+        raise InputError(
+            f"variable '{name}': a fixed population needs finite mu and sigma > 0, "
+            f"got mu={mu!r}, sigma={sigma!r}"
+        )
     if kind == "lognormal":
-        model.add(name, make_distribution("lognormal", mu_ln=float(mu), sigma_ln=float(sigma),
-                                          name=name))
+        model.add(
+            name, make_distribution("lognormal", mu_ln=float(mu), sigma_ln=float(sigma), name=name)
+        )
     elif kind == "normal":
         model.add(name, make_distribution("normal", mean=float(mu), std=float(sigma), name=name))
     else:
@@ -130,10 +149,16 @@ def add_fixed_quantity(model: ProbabilisticModel, name: str, mu: float, sigma: f
 
 def _scaled(distribution, factor: float, name: str):
     if distribution.kind not in _SCALE_FAMILIES:
-        raise AnalysisError(f"variable '{name}' has a {distribution.kind} distribution, which "
-                            f"cannot be scaled by a factor; the alternative's effect is undefined")
-    return make_distribution(distribution.kind, mean=float(distribution.mean) * factor,
-                             std=float(distribution.std) * factor, name=name)
+        raise AnalysisError(
+            f"variable '{name}' has a {distribution.kind} distribution, which "
+            f"cannot be scaled by a factor; the alternative's effect is undefined"
+        )
+    return make_distribution(
+        distribution.kind,
+        mean=float(distribution.mean) * factor,
+        std=float(distribution.std) * factor,
+        name=name,
+    )
 
 
 class ConditionalReliability:
@@ -157,13 +182,17 @@ class ConditionalReliability:
         physical = {v for v, _ in PHYSICAL.values()}
         self._others = [n for n in base.names if n.split(".")[0] not in physical]
         roots, matrix, _ = base.correlation_matrix()
-        self._correlations = [(roots[i], roots[j], float(matrix[i, j]))
-                              for i in range(len(roots)) for j in range(i + 1, len(roots))
-                              if matrix[i, j] != 0.0 and roots[i] in self._others
-                              and roots[j] in self._others]
+        self._correlations = [
+            (roots[i], roots[j], float(matrix[i, j]))
+            for i in range(len(roots))
+            for j in range(i + 1, len(roots))
+            if matrix[i, j] != 0.0 and roots[i] in self._others and roots[j] in self._others
+        ]
         if not any(n in self._others for n in RESISTANCE_UNCERTAINTY):
-            raise AnalysisError("the member model has no resistance model uncertainty "
-                                f"({', '.join(RESISTANCE_UNCERTAINTY)}) to strengthen")
+            raise AnalysisError(
+                "the member model has no resistance model uncertainty "
+                f"({', '.join(RESISTANCE_UNCERTAINTY)}) to strengthen"
+            )
         self.n_calls = 0
 
     def model(self, theta_row, alternative: AlternativeSpec) -> ProbabilisticModel:
@@ -201,8 +230,7 @@ class ConditionalReliability:
             model = self.model(row, alternative)
             for j, mode in enumerate(self.modes):
                 function = self.member_model.modes[mode]
-                problem = model.problem(lambda x, f=function: np.column_stack([f(x)]),
-                                        mode_names=[mode])
+                problem = model.problem(partial(_one_column, function), mode_names=[mode])
                 with warnings.catch_warnings():
                     warnings.simplefilter("ignore")
                     result = form(problem)
@@ -210,6 +238,11 @@ class ConditionalReliability:
                 betas[i, j] = result.beta
                 converged[i, j] = bool(result.converged) and math.isfinite(result.beta)
         return betas, converged
+
+
+def _one_column(function: Callable, x):
+    """A mode's limit state as the one column of a system (`ProbabilisticModel.problem`)."""
+    return np.column_stack([function(x)])
 
 
 @dataclasses.dataclass
@@ -250,18 +283,26 @@ class QuadraticSurrogate:
         theta = np.asarray(theta, dtype=float)
         beta = np.asarray(beta, dtype=float)
         used = np.asarray(scale, dtype=float) > 0
-        surrogate = cls(np.asarray(center, float), np.asarray(scale, float), used,
-                        np.empty(0), math.nan, math.nan)
+        surrogate = cls(
+            np.asarray(center, float),
+            np.asarray(scale, float),
+            used,
+            np.empty(0),
+            math.nan,
+            math.nan,
+        )
         features = cls._features(surrogate._standardise(theta))
         if features.shape[0] <= features.shape[1] + 2:
-            raise AnalysisError(f"the beta surrogate needs more than {features.shape[1] + 2} "
-                                f"design points for {features.shape[1]} terms, got "
-                                f"{features.shape[0]}")
+            raise AnalysisError(
+                f"the beta surrogate needs more than {features.shape[1] + 2} "
+                f"design points for {features.shape[1]} terms, got "
+                f"{features.shape[0]}"
+            )
         coef, *_ = np.linalg.lstsq(features, beta, rcond=None)
         hat = np.einsum("ij,ji->i", features, np.linalg.pinv(features))
         residual = (beta - features @ coef) / np.clip(1.0 - hat, 1e-9, None)
         surrogate.coef_ = coef
-        surrogate.loo_rmse_ = float(np.sqrt(np.mean(residual ** 2)))
+        surrogate.loo_rmse_ = float(np.sqrt(np.mean(residual**2)))
         surrogate.loo_max_ = float(np.max(np.abs(residual)))
         return surrogate
 
@@ -295,12 +336,13 @@ def _normal_gamma_draws(population: NormalGamma, n: int, rng) -> tuple[np.ndarra
     rho = float(population.rho)
     precision = stats.gamma.ppf(special.ndtr(u[0]), population.shape, scale=1.0 / population.rate)
     sigma = 1.0 / np.sqrt(precision)
-    z = population.z_mean + population.z_std * (rho * u[0] + math.sqrt(1.0 - rho ** 2) * u[1])
+    z = population.z_mean + population.z_std * (rho * u[0] + math.sqrt(1.0 - rho**2) * u[1])
     return population.center + z * sigma, sigma
 
 
-def population_draws(update, zones: Sequence[str], *, n_draws: int = 3000,
-                     seed=None) -> tuple[np.ndarray, list[str]]:
+def population_draws(
+    update, zones: Sequence[str], *, n_draws: int = 3000, seed=None
+) -> tuple[np.ndarray, list[str]]:
     """Joint draws theta of (mu, sigma) of every population in ``zones``.
 
     Quantities updated by MCMC use the stored posterior draws, thinned evenly to
@@ -318,15 +360,14 @@ def population_draws(update, zones: Sequence[str], *, n_draws: int = 3000,
 
     rng = np.random.default_rng(seed)
     columns, names = [], []
-    mcmc = {q for q in QUANTITIES
-            if update.idata is not None and not update.data[q].empty}
+    mcmc = {q for q in QUANTITIES if update.idata is not None and not update.data[q].empty}
     total = None
     if mcmc:
         mu, _ = group_draws(update.idata, zones[0], name=sorted(mcmc)[0])
         total = mu.size
     n = min(int(n_draws), total) if total else int(n_draws)
     index = np.unique(np.linspace(0, total - 1, n).round().astype(int)) if total else None
-    n = index.size if total else n
+    n = index.size if index is not None else n
     for zone in zones:
         for quantity in QUANTITIES:
             if quantity in mcmc:
@@ -335,16 +376,18 @@ def population_draws(update, zones: Sequence[str], *, n_draws: int = 3000,
             else:
                 mu, sigma = _normal_gamma_draws(update.after[zone][quantity], n, rng)
             columns.extend([mu, sigma])
-            names.extend([parameter_name(quantity, "mu", zone),
-                          parameter_name(quantity, "sigma", zone)])
+            names.extend(
+                [parameter_name(quantity, "mu", zone), parameter_name(quantity, "sigma", zone)]
+            )
     return np.column_stack(columns), names
 
 
 def system_beta_after(site, update, member_id: str, reference_period_years: float) -> float:
     """FORM system beta of a member on updated knowledge (sum of mode pfs as system pf) [-]."""
     member = site.members[member_id]
-    model = build_member_model(site, member, update.after[member.zone],
-                               reference_period_years=reference_period_years)
+    model = build_member_model(
+        site, member, update.after[member.zone], reference_period_years=reference_period_years
+    )
     pf = 0.0
     for mode in model.modes:
         with warnings.catch_warnings():
@@ -357,7 +400,7 @@ def weakest_member(site, update) -> tuple[str, dict]:
     """Member with the lowest system beta after updating, and every member's beta [-]."""
     period = float(site.target.reference_period)
     betas = {m: system_beta_after(site, update, m, period) for m in site.members}
-    return min(betas, key=betas.get), betas
+    return min(betas, key=lambda m: betas[m]), betas
 
 
 @dataclasses.dataclass(frozen=True)
@@ -373,8 +416,8 @@ class CoverSurvey(NormalSampleProgramme):
     name: str
     cost: float
     n_readings: int
-    mean_column: object
-    sd_column: object
+    mean_column: Any
+    sd_column: Any
     measurement_sd: float = 0.0
     description: str = ""
 
@@ -384,8 +427,9 @@ class CoverSurvey(NormalSampleProgramme):
         return f"a cover survey of {self.n_readings} readings ('{self.name}')"
 
 
-def active_probability_from_area_ratio(mean_column: int, sd_column: int,
-                                       threshold: float) -> Callable[[np.ndarray], np.ndarray]:
+def active_probability_from_area_ratio(
+    mean_column: int, sd_column: int, threshold: float
+) -> Callable[[np.ndarray], np.ndarray]:
     """P(active | theta) = Phi((threshold - mu_r) / sigma_r) (proxy, see the module notes)."""
 
     def probability(theta):
@@ -397,30 +441,53 @@ def active_probability_from_area_ratio(mean_column: int, sd_column: int,
 
 def make_programme(spec: ProgrammeSpec, zone: str, parameter_names: Sequence[str]) -> Programme:
     """Engine programme of a decision-file entry, its columns resolved in ``parameter_names``."""
+
     def column(quantity, statistic):
         return list(parameter_names).index(parameter_name(quantity, statistic, zone))
 
     where = f" in zone {zone}"
     if spec.kind == "cores":
-        return CoreSampling(spec.name, spec.cost, spec.count, column("concrete", "mu"),
-                            column("concrete", "sigma"), spec.measurement_sd,
-                            spec.description or f"drilling {spec.count} cores{where}")
+        return CoreSampling(
+            spec.name,
+            spec.cost,
+            spec.count,
+            column("concrete", "mu"),
+            column("concrete", "sigma"),
+            spec.measurement_sd,
+            spec.description or f"drilling {spec.count} cores{where}",
+        )
     if spec.kind == "breakouts":
-        return BreakoutSurvey(spec.name, spec.cost, spec.count, column("area_ratio", "mu"),
-                              column("area_ratio", "sigma"), spec.measurement_sd,
-                              spec.description or f"opening {spec.count} break-outs{where}")
+        return BreakoutSurvey(
+            spec.name,
+            spec.cost,
+            spec.count,
+            column("area_ratio", "mu"),
+            column("area_ratio", "sigma"),
+            spec.measurement_sd,
+            spec.description or f"opening {spec.count} break-outs{where}",
+        )
     if spec.kind == "cover":
-        return CoverSurvey(spec.name, spec.cost, spec.count, column("cover", "mu"),
-                           column("cover", "sigma"), spec.measurement_sd,
-                           spec.description or f"a cover survey of {spec.count} "
-                                               f"readings{where}")
+        return CoverSurvey(
+            spec.name,
+            spec.cost,
+            spec.count,
+            column("cover", "mu"),
+            column("cover", "sigma"),
+            spec.measurement_sd,
+            spec.description or f"a cover survey of {spec.count} readings{where}",
+        )
     if spec.kind == "half-cell":
         return HalfCellSurvey(
-            spec.name, spec.cost, spec.count,
-            active_probability_from_area_ratio(column("area_ratio", "mu"),
-                                               column("area_ratio", "sigma"), spec.active_below),
-            spec.probability_of_detection, spec.probability_of_false_alarm,
-            spec.description or f"a half-cell survey of {spec.count} points{where}")
+            spec.name,
+            spec.cost,
+            spec.count,
+            active_probability_from_area_ratio(
+                column("area_ratio", "mu"), column("area_ratio", "sigma"), spec.active_below
+            ),
+            spec.probability_of_detection,
+            spec.probability_of_false_alarm,
+            spec.description or f"a half-cell survey of {spec.count} points{where}",
+        )
     raise InputError(f"programme '{spec.name}': unknown kind {spec.kind!r}")
 
 
@@ -478,28 +545,42 @@ class SiteDecision:
 
     def surrogate_errors(self) -> dict:
         """Alternative -> mode -> leave-one-out RMSE of beta [-]."""
-        return {alt: {mode: s.loo_rmse_ for mode, s in modes.items()}
-                for alt, modes in self.surrogates.items() if modes}
+        return {
+            alt: {mode: s.loo_rmse_ for mode, s in modes.items()}
+            for alt, modes in self.surrogates.items()
+            if modes
+        }
 
 
 def _alternative_cost(spec: AlternativeSpec, setup: DecisionSetup) -> float:
-    yearly = spec.cost_per_year * float(discount_factors(setup.discount_rate,
-                                                         setup.horizon_years).sum())
+    yearly = spec.cost_per_year * float(
+        discount_factors(setup.discount_rate, setup.horizon_years).sum()
+    )
     return spec.cost + yearly
 
 
 def _alternative_description(spec: AlternativeSpec) -> str:
-    effect = {"keep": "no change",
-              "repair": "residual bar area back to the design-stage population",
-              "strengthen": f"resistance x {spec.factor:g}",
-              "restrict_load": f"imposed load x {spec.factor:g}",
-              "replace": "new member at the target annual pf"}[spec.kind]
+    effect = {
+        "keep": "no change",
+        "repair": "residual bar area back to the design-stage population",
+        "strengthen": f"resistance x {spec.factor:g}",
+        "restrict_load": f"imposed load x {spec.factor:g}",
+        "replace": "new member at the target annual pf",
+    }[spec.kind]
     return f"{spec.description}; {effect}" if spec.description else effect
 
 
-def build_site_decision(site, update, setup: DecisionSetup, *, member: str | None = None,
-                        n_draws: int = 3000, n_design: int = 48, seed=None,
-                        progress: Callable[[str], None] | None = None) -> SiteDecision:
+def build_site_decision(
+    site,
+    update,
+    setup: DecisionSetup,
+    *,
+    member: str | None = None,
+    n_draws: int = 3000,
+    n_design: int = 48,
+    seed=None,
+    progress: Callable[[str], None] | None = None,
+) -> SiteDecision:
     """Decision problem of one member from the site's updated knowledge.
 
     Parameters
@@ -532,31 +613,34 @@ def build_site_decision(site, update, setup: DecisionSetup, *, member: str | Non
     member_id = member or setup.member
     if member_id is None:
         member_id, _ = weakest_member(site, update)
-        notes.append(f"member {member_id} chosen: lowest system reliability index after "
-                     f"updating")
+        notes.append(f"member {member_id} chosen: lowest system reliability index after updating")
     if member_id not in site.members:
-        raise InputError(f"member {member_id!r} is not in the site; members are "
-                         f"{', '.join(site.members)}",
-                         file=None if member else setup.path,
-                         column="--member" if member else "member")
+        raise InputError(
+            f"member {member_id!r} is not in the site; members are {', '.join(site.members)}",
+            file=None if member else setup.path,
+            column="--member" if member else "member",
+        )
     zone = site.members[member_id].zone
     zones = [zone]
     for index, spec in enumerate(setup.programmes):
         if spec.zone is not None and spec.zone not in site.zones:
-            raise InputError(f"programme '{spec.name}': zone {spec.zone!r} is not in the site; "
-                             f"zones are {', '.join(site.zones)}", file=setup.path,
-                             column=f"programmes[{index}].zone")
+            raise InputError(
+                f"programme '{spec.name}': zone {spec.zone!r} is not in the site; "
+                f"zones are {', '.join(site.zones)}",
+                file=setup.path,
+                column=f"programmes[{index}].zone",
+            )
         if spec.zone is not None and spec.zone not in zones:
             zones.append(spec.zone)
     theta, names = population_draws(update, zones, n_draws=n_draws, seed=seed)
     member_columns = zone_columns(zone)
-    member_theta = theta[:, :len(member_columns)]
+    member_theta = theta[:, : len(member_columns)]
 
     annual_target = target_beta(site.target.consequence_class, 1.0, site.target.cost_of_safety)
-    horizon_target = float(convert_reference_period(annual_target.beta, 1.0,
-                                                    setup.horizon_years))
-    member_model = build_member_model(site, site.members[member_id], update.after[zone],
-                                      reference_period_years=1.0)
+    horizon_target = float(convert_reference_period(annual_target.beta, 1.0, setup.horizon_years))
+    member_model = build_member_model(
+        site, site.members[member_id], update.after[zone], reference_period_years=1.0
+    )
     notes.extend(member_model.notes)
     reliability = ConditionalReliability(member_model, update.before[zone]["area_ratio"])
 
@@ -566,11 +650,15 @@ def build_site_decision(site, update, setup: DecisionSetup, *, member: str | Non
     standardised = (member_theta - center) / np.where(scale > 0, scale, 1.0)
     design = farthest_point_design(standardised, n_design)
 
-    alternatives, annual_pf, annual_beta, surrogates = [], [], {}, {}
+    alternatives: list = []
+    annual_pf: list = []
+    annual_beta: dict = {}
+    surrogates: dict[str, Any] = {}
     for spec in setup.alternatives:
         name = ALTERNATIVE_NAMES[spec.kind]
-        alternatives.append(Alternative(name, _alternative_cost(spec, setup),
-                                        _alternative_description(spec)))
+        alternatives.append(
+            Alternative(name, _alternative_cost(spec, setup), _alternative_description(spec))
+        )
         if spec.kind == "replace":
             pf = np.full(theta.shape[0], annual_target.pf)
             surrogates[name] = {}
@@ -578,28 +666,36 @@ def build_site_decision(site, update, setup: DecisionSetup, *, member: str | Non
             betas, converged = reliability.betas(member_theta[design], spec)
             ok = converged.all(axis=1)
             if ok.mean() < 0.8:
-                raise AnalysisError(f"FORM did not converge at {int((~ok).sum())} of "
-                                    f"{ok.size} design points of '{name}' for member "
-                                    f"{member_id}; the surrogate cannot be built")
+                raise AnalysisError(
+                    f"FORM did not converge at {int((~ok).sum())} of "
+                    f"{ok.size} design points of '{name}' for member "
+                    f"{member_id}; the surrogate cannot be built"
+                )
             if not ok.all():
-                notes.append(f"'{name}': FORM did not converge at {int((~ok).sum())} design "
-                             f"point(s); they were left out of the surrogate")
+                notes.append(
+                    f"'{name}': FORM did not converge at {int((~ok).sum())} design "
+                    f"point(s); they were left out of the surrogate"
+                )
             surrogates[name] = {}
             pf = np.zeros(theta.shape[0])
             for j, mode in enumerate(reliability.modes):
-                surrogate = QuadraticSurrogate.fit(member_theta[design][ok], betas[ok, j],
-                                                   center, scale)
+                surrogate = QuadraticSurrogate.fit(
+                    member_theta[design][ok], betas[ok, j], center, scale
+                )
                 surrogates[name][mode] = surrogate
                 relevant = betas[ok, j].min() < NEGLIGIBLE_BETA
                 if relevant and surrogate.loo_rmse_ > SURROGATE_FAILURE_RMSE:
                     raise AnalysisError(
                         f"the beta surrogate of '{name}', mode {mode}, member {member_id} is "
                         f"too poor (leave-one-out error {surrogate.loo_rmse_:.2f} in beta); "
-                        f"use more design points")
+                        f"use more design points"
+                    )
                 if relevant and surrogate.loo_rmse_ > SURROGATE_WARNING_RMSE:
-                    message = (f"the beta surrogate of '{name}', mode {mode} has a "
-                               f"leave-one-out error of {surrogate.loo_rmse_:.2f} in beta; "
-                               f"values of information are approximate")
+                    message = (
+                        f"the beta surrogate of '{name}', mode {mode} has a "
+                        f"leave-one-out error of {surrogate.loo_rmse_:.2f} in beta; "
+                        f"values of information are approximate"
+                    )
                     warnings.warn(message, stacklevel=2)
                     notes.append(message)
                 pf += special.ndtr(-surrogate.predict(member_theta))
@@ -614,26 +710,59 @@ def build_site_decision(site, update, setup: DecisionSetup, *, member: str | Non
 
     programmes = [make_programme(spec, spec.zone or zone, names) for spec in setup.programmes]
     if any(spec.kind == "half-cell" for spec in setup.programmes):
-        notes.append("half-cell survey: P(active corrosion) is taken as the probability that "
-                     "the residual bar area ratio is below the programme's active_below "
-                     "(default 0.98); corrosion that has not yet removed section is not "
-                     "counted, and the grid points are taken as independent")
-    notes.append(f"years are taken as independent given the material populations: horizon "
-                 f"pf = 1 - (1 - annual pf)^{setup.horizon_years}; the annual target "
-                 f"{annual_target.beta:g} becomes {horizon_target:.2f} over the horizon")
-    problem = DecisionProblem(alternatives=alternatives, failure_cost=setup.failure_cost,
-                              theta=theta, parameter_names=names, annual_pf=increments,
-                              discount_rate=setup.discount_rate, keep=ALTERNATIVE_NAMES["keep"],
-                              currency=setup.currency)
-    return SiteDecision(member=member_id, zone=zone, problem=problem, programmes=programmes,
-                        target=annual_target, horizon_target_beta=horizon_target,
-                        horizon_years=setup.horizon_years, annual_beta=annual_beta,
-                        surrogates=surrogates, design_index=design, reliability=reliability,
-                        member_columns=member_columns, form_calls=reliability.n_calls,
-                        notes=notes)
+        notes.append(
+            "half-cell survey: P(active corrosion) is taken as the probability that "
+            "the residual bar area ratio is below the programme's active_below "
+            "(default 0.98); corrosion that has not yet removed section is not "
+            "counted, and the grid points are taken as independent"
+        )
+    notes.append(
+        f"years are taken as independent given the material populations: horizon "
+        f"pf = 1 - (1 - annual pf)^{setup.horizon_years}; the annual target "
+        f"{annual_target.beta:g} becomes {horizon_target:.2f} over the horizon"
+    )
+    problem = DecisionProblem(
+        alternatives=alternatives,
+        failure_cost=setup.failure_cost,
+        theta=theta,
+        parameter_names=names,
+        annual_pf=increments,
+        discount_rate=setup.discount_rate,
+        keep=ALTERNATIVE_NAMES["keep"],
+        currency=setup.currency,
+    )
+    return SiteDecision(
+        member=member_id,
+        zone=zone,
+        problem=problem,
+        programmes=programmes,
+        target=annual_target,
+        horizon_target_beta=horizon_target,
+        horizon_years=setup.horizon_years,
+        annual_beta=annual_beta,
+        surrogates=surrogates,
+        design_index=design,
+        reliability=reliability,
+        member_columns=member_columns,
+        form_calls=reliability.n_calls,
+        notes=notes,
+    )
 
 
-__all__ = ["ConditionalReliability", "CoverSurvey", "PHYSICAL", "QuadraticSurrogate",
-           "SiteDecision", "active_probability_from_area_ratio", "add_fixed_quantity",
-           "build_site_decision", "farthest_point_design", "make_programme", "parameter_name",
-           "population_draws", "system_beta_after", "weakest_member", "zone_columns"]
+__all__ = [
+    "ConditionalReliability",
+    "CoverSurvey",
+    "PHYSICAL",
+    "QuadraticSurrogate",
+    "SiteDecision",
+    "active_probability_from_area_ratio",
+    "add_fixed_quantity",
+    "build_site_decision",
+    "farthest_point_design",
+    "make_programme",
+    "parameter_name",
+    "population_draws",
+    "system_beta_after",
+    "weakest_member",
+    "zone_columns",
+]

@@ -49,8 +49,11 @@ def content_hash(kind: str, payload: dict) -> str:
     """SHA-256 of a fit's kind, inputs and the code version (hex digest)."""
     import assess
 
-    text = json.dumps({"code_version": assess.__version__, "kind": kind,
-                       "inputs": plain(payload)}, sort_keys=True, default=str)
+    text = json.dumps(
+        {"code_version": assess.__version__, "kind": kind, "inputs": plain(payload)},
+        sort_keys=True,
+        default=str,
+    )
     return hashlib.sha256(text.encode()).hexdigest()
 
 
@@ -123,9 +126,17 @@ class CachedFit:
     reused: bool
 
 
-def cached_posterior(site_folder: Path | None, kind: str, payload: dict, *,
-                     sample: Callable[[], Any], rebuild: Callable[[Any, Any], Any],
-                     parameter_names, what: str, fit: str | None = None) -> CachedFit:
+def cached_posterior(
+    site_folder: Path | None,
+    kind: str,
+    payload: dict,
+    *,
+    sample: Callable[[], Any],
+    rebuild: Callable[[Any, Any], Any],
+    parameter_names,
+    what: str,
+    fit: str | None = None,
+) -> CachedFit:
     """Read the stored fit of these inputs, or sample it; gated either way.
 
     Parameters
@@ -165,9 +176,12 @@ def cached_posterior(site_folder: Path | None, kind: str, payload: dict, *,
             names = [n for n in parameter_names if n in idata.posterior]
         except Exception as exc:  # any unreadable file: set aside and sample again
             moved = set_aside(path)
-            warnings.warn(f"the stored posterior {path.name} could not be read ({type(exc).__name__}); "
-                          f"it was set aside as {moved.name} and the {what} were sampled again",
-                          UserWarning, stacklevel=2)
+            warnings.warn(
+                f"the stored posterior {path.name} could not be read ({type(exc).__name__}); "
+                f"it was set aside as {moved.name} and the {what} were sampled again",
+                UserWarning,
+                stacklevel=2,
+            )
         else:
             gate = require_convergence(idata, names, what=what, fit=fit)
             return CachedFit(rebuild(idata, gate), path, digest, True)
@@ -190,6 +204,15 @@ def _sample_naming_the_fit(sample: Callable[[], Any], fit: str | None) -> Any:
         raise ConvergenceError(f"{exc}\n{fix}", fix=fix, fit=fit) from None
 
 
-__all__ = ["CachedFit", "POSTERIOR_FOLDER", "cached_posterior", "clean_stale_temporaries",
-           "content_hash", "plain", "posterior_path", "read_posterior", "set_aside",
-           "write_posterior"]
+__all__ = [
+    "CachedFit",
+    "POSTERIOR_FOLDER",
+    "cached_posterior",
+    "clean_stale_temporaries",
+    "content_hash",
+    "plain",
+    "posterior_path",
+    "read_posterior",
+    "set_aside",
+    "write_posterior",
+]

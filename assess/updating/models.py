@@ -25,7 +25,8 @@ import os
 
 import numpy as np
 
-from assess.updating.normal_gamma import NormalGamma
+from assess.errors import InputError
+from assess.priors.normal_gamma import NormalGamma
 
 POOLING = ("none", "partial", "complete")
 
@@ -63,14 +64,14 @@ def hierarchical_normal_model(values, group_index, groups, prior: NormalGamma | 
     import pymc as pm
 
     if pooling not in POOLING:
-        raise ValueError(f"pooling must be one of {POOLING}, got {pooling!r}")
+        raise InputError(f"pooling must be one of {POOLING}, got {pooling!r}")
     y = np.asarray(values, dtype=float)
     idx = np.asarray(group_index, dtype=int)
     groups = [str(g) for g in groups]
     if y.ndim != 1 or idx.shape != y.shape:
-        raise ValueError("values and group_index must be 1-D arrays of the same length")
+        raise InputError("values and group_index must be 1-D arrays of the same length")
     if prior is None and pooling == "partial":
-        raise ValueError("partial pooling needs a proper prior")
+        raise InputError("partial pooling needs a proper prior")
     model_kwargs = {"name": name} if name else {"coords": {"group": groups}}
     with pm.Model(**model_kwargs) as model:
         if pooling == "none":
@@ -150,7 +151,7 @@ def _sample(pm, model, draws, tune, chains, cores, seed, target_accept, sampler,
                              nuts_sampler="nutpie", progressbar=progressbar,
                              target_accept=target_accept)
         if sampler != "pymc":
-            raise ValueError(f"sampler must be 'pymc' or 'nutpie', got {sampler!r}")
+            raise InputError(f"sampler must be 'pymc' or 'nutpie', got {sampler!r}")
         return pm.sample(draws=draws, tune=tune, chains=chains, cores=cores, random_seed=seed,
                          target_accept=target_accept, progressbar=progressbar,
                          compute_convergence_checks=False)

@@ -23,8 +23,9 @@ from __future__ import annotations
 import numpy as np
 
 from assess.distributions import make_distribution
+from assess.errors import InputError
 from assess.model import ProbabilisticModel
-from assess.updating.normal_gamma import NormalGamma
+from assess.priors.normal_gamma import NormalGamma
 
 PHYSICAL_KINDS = ("lognormal", "normal")
 
@@ -45,7 +46,7 @@ def add_uncertain_quantity(model: ProbabilisticModel, name: str, population: Nor
         Distribution of the physical variable given (mu, sigma).
     """
     if kind not in PHYSICAL_KINDS:
-        raise ValueError(f"kind must be one of {PHYSICAL_KINDS}, got {kind!r}")
+        raise InputError(f"kind must be one of {PHYSICAL_KINDS}, got {kind!r}")
     q_name, z_name = f"{name}.precision", f"{name}.location"
     precision = make_distribution("gamma", shape=population.shape, scale=1.0 / population.rate,
                                   name=q_name)
