@@ -187,7 +187,7 @@ def test_campaign_resolution(site):
     assert report.imported
     # an existing campaign keeps its date; a different date is refused
     other = site / "loose2.csv"
-    other.write_text(COVER.replace("3.1", "3.3"))
+    other.write_text(COVER.replace("P1", "P3").replace("P2", "P4"))  # new locations
     with pytest.raises(InputError, match="2027-03-01"):
         import_file(site, other, campaign="Spot check", campaign_date=dt.date(2027, 3, 2))
     assert import_file(site, other, campaign="Spot check").imported
