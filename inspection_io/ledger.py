@@ -534,7 +534,7 @@ class Ledger:
             if row is not None and row[1] != campaign_date.isoformat():
                 raise InputError(f'campaign "{campaign_name}" is in the ledger with date '
                                  f"{row[1]}, not {campaign_date.isoformat()}; a campaign's "
-                                 f"date cannot change (use another name)")
+                                 f"date cannot change (use another name)", file=where)
             if row is not None:
                 self._refuse_same_name(conn, row[0], campaign_name, file, where)
             self._refuse_ids_in_force(conn, file.kind, rows, where, id_column)

@@ -36,6 +36,9 @@ def site(tmp_path):
     folder = tmp_path / "deck"
     result = run("site", "new", folder)
     assert result.exit_code == 0, result.stderr
+    site_file = folder / "site.toml"   # the template's assessment date is 2026-01-01
+    site_file.write_text(site_file.read_text().replace("assessment_date = 2026-01-01",
+                                                       "assessment_date = 2026-11-30"))
     data = folder / "campaigns" / "first-survey"
     (data / "cores.csv").write_text(CORES)
     (data / "cover.csv").write_text(COVER)
@@ -78,16 +81,16 @@ def test_import_one_file_with_campaign_kind_and_date(site, tmp_path):
     loose = tmp_path / "spot.csv"
     loose.write_text(COVER.replace("31", "33"))
     result = run("site", "import", site, loose, "--campaign", "Spot", "--kind", "cover",
-                 "--date", "2027-02-03")
+                 "--date", "2026-02-03")
     assert result.exit_code == 0, result.stderr
     assert 'campaign "Spot"' in result.stdout
     listing = json.loads(run("site", "campaigns", site, "--json").stdout)
-    assert [(c["name"], c["date"]) for c in listing] == [("Spot", "2027-02-03")]
+    assert [(c["name"], c["date"]) for c in listing] == [("Spot", "2026-02-03")]
 
 
 @pytest.mark.parametrize("extra, words", [
     (["--date", "03/02/2027"], "YYYY-MM-DD"),
-    (["--kind", "pachometer", "--date", "2027-02-03"], "unknown record kind"),
+    (["--kind", "pachometer", "--date", "2026-02-03"], "unknown record kind"),
     ([], "is new: give its date"),
 ])
 def test_import_bad_options_exit_2_without_traceback(site, tmp_path, extra, words):
