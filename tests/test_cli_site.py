@@ -279,9 +279,10 @@ def test_import_waits_for_another_process_then_refuses(site, monkeypatch):
     import sys
 
     holder = subprocess.Popen(
-        [sys.executable, "-c", "import sys\nfrom inspection_io.locking import site_lock\n"
-         "with site_lock(sys.argv[1]):\n    print('locked', flush=True)\n"
-         "    sys.stdin.readline()\n", str(site)],
+        [sys.executable, "-c", ("import sys\nfrom inspection_io.locking import site_lock\n"
+                                "with site_lock(sys.argv[1]):\n"
+                                "    print('locked', flush=True)\n"
+                                "    sys.stdin.readline()\n"), str(site)],
         stdin=subprocess.PIPE, stdout=subprocess.PIPE, text=True,
         env={**os.environ, "PYTHONPATH": os.pathsep.join(sys.path)})
     try:
