@@ -70,6 +70,7 @@ from inspection_io.ledger_schema import (
     append_chain,
     content_fingerprint,
     create_schema,
+    damaged_triggers,
     import_content_sha256,
     result_content_sha256,
     withdrawal_content_sha256,
@@ -378,6 +379,14 @@ class Ledger:
                 raise
             version = conn.execute("SELECT max(version) FROM schema_version").fetchone()[0]
             self._require_tables(conn, version)
+        bad = damaged_triggers(conn)
+        if bad:
+            raise InputError(f"the ledger is damaged: its append-only trigger "
+                             f"{', '.join(bad[:3])}{' ...' if len(bad) > 3 else ''} "
+                             f"{'is' if len(bad) == 1 else 'are'} missing or changed, so rows "
+                             f"may have been rewritten. Nothing was read or written; "
+                             f"{_CHECK_HINT}, and restore the ledger from a copy of the site "
+                             f"folder", file=self.path)
 
     def _require_tables(self, conn: sqlite3.Connection, version: int) -> None:
         missing = [t for t in REQUIRED_TABLES[version] if t not in self._tables(conn)]

@@ -21,6 +21,7 @@ What is checked
 
 from __future__ import annotations
 
+import itertools
 import os
 import sqlite3
 from dataclasses import dataclass, field
@@ -34,8 +35,8 @@ from inspection_io.ledger_schema import (
     REQUIRED_TABLES,
     SCHEMA_VERSION,
     SUBJECT_TABLES,
+    damaged_triggers,
     link,
-    trigger_statements,
 )
 
 __all__ = ["LedgerCheck", "check_ledger"]
@@ -68,10 +69,6 @@ class LedgerCheck:
                 "notes": list(self.notes), "counts": dict(self.counts),
                 "schema_version": self.schema_version, "chain_length": self.chain_length,
                 "chain_head": self.chain_head}
-
-
-def _squash(sql: str | None) -> str:
-    return " ".join((sql or "").split()).rstrip(";")
 
 
 def _add(problems: list[str], found: list[str]) -> None:
@@ -142,7 +139,7 @@ def _check(conn: sqlite3.Connection, report: LedgerCheck, anchor: str | None) ->
         problems.append("this SQLite database is not a ledger (no schema_version table)")
         return
     versions = [r[0] for r in conn.execute("SELECT version FROM schema_version ORDER BY rowid")]
-    if not versions or any(b <= a for a, b in zip(versions, versions[1:])) \
+    if not versions or any(b <= a for a, b in itertools.pairwise(versions)) \
             or not all(isinstance(v, int) for v in versions):
         problems.append(f"schema_version rows must only grow, found {versions}")
     version = max((v for v in versions if isinstance(v, int)), default=None)
@@ -172,15 +169,9 @@ def _check(conn: sqlite3.Connection, report: LedgerCheck, anchor: str | None) ->
 
 
 def _check_triggers(conn: sqlite3.Connection, problems: list[str]) -> None:
-    found = {r[0]: r[1] for r in conn.execute("SELECT name, sql FROM sqlite_master "
-                                              "WHERE type = 'trigger'")}
-    bad = []
-    for name, statement in trigger_statements().items():
-        if name not in found:
-            bad.append(f"append-only trigger {name} is missing")
-        elif _squash(found[name]) != _squash(statement):
-            bad.append(f"append-only trigger {name} was changed")
-    _add(problems, bad)
+    found = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'trigger'")}
+    _add(problems, [f"append-only trigger {name} is {'changed' if name in found else 'missing'}"
+                    for name in damaged_triggers(conn)])
 
 
 def _check_rules(conn: sqlite3.Connection, problems: list[str], tables: set[str]) -> None:

@@ -170,6 +170,19 @@ def trigger_statements() -> dict[str, str]:
     return triggers
 
 
+def squash(sql: str | None) -> str:
+    """A statement's text with runs of white space made one space, no final semicolon."""
+    return " ".join((sql or "").split()).rstrip(";")
+
+
+def damaged_triggers(conn: sqlite3.Connection) -> list[str]:
+    """Names of the current schema's triggers that are missing or not as created."""
+    found = {r[0]: r[1] for r in conn.execute("SELECT name, sql FROM sqlite_master "
+                                              "WHERE type = 'trigger'")}
+    return [name for name, statement in trigger_statements().items()
+            if name not in found or squash(found[name]) != squash(statement)]
+
+
 def statements(script: str) -> list[str]:
     """Split an SQL script into complete statements (trigger bodies hold inner semicolons)."""
     found, buffer = [], ""
@@ -306,9 +319,11 @@ __all__ = [
     "canonical",
     "content_fingerprint",
     "create_schema",
+    "damaged_triggers",
     "import_content_sha256",
     "link",
     "result_content_sha256",
+    "squash",
     "trigger_statements",
     "withdrawal_content_sha256",
 ]

@@ -252,6 +252,8 @@ def test_check_reports_a_sound_and_a_damaged_ledger(site):
     assert "observations_no_update is missing" in damaged.stdout
     report = json.loads(run("site", "check", site, "--json").stdout)
     assert not report["ok"] and report["problems"]
+    refused = run("site", "summary", site)
+    assert refused.exit_code == 2 and "observations_no_update" in refused.stderr
 
 
 def test_a_zero_byte_or_cut_ledger_never_ends_in_a_traceback(site):
