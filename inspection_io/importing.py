@@ -10,6 +10,26 @@ during the write leaves the ledger exactly as it was (see `inspection_io.ledger`
 
 `import_site` imports every ``.csv`` / ``.xlsx`` file of every campaign folder
 under ``campaigns/``, each folder described by its ``campaign.toml``.
+
+What is refused (nothing is written)
+------------------------------------
+- A campaign folder, campaign file, ``campaign.toml`` or ``site.toml`` that is a link
+  leading outside the site folder (`inspection_io.paths.inside_site`); such a file is
+  never read, so no message can show a line of it. A file named explicitly on the
+  command line from elsewhere (not from inside the site folder) is read as given.
+- A campaign dated before the year of construction (``site.year_built``) or after the
+  assessment date or today, whichever comes first; a row dated outside that range, or
+  more than `ROW_DATE_TOLERANCE_DAYS` after its campaign's date. The message names the
+  file, row, column and the allowed range.
+- A file that would double data in force (`inspection_io.ledger.Ledger.write_import`):
+  a different file of the same name in the same campaign, or a specimen id already in
+  force. The message names the way to correct a file: withdraw the old one
+  (``assess site withdraw``), then import the corrected one.
+
+What is skipped (with a message)
+--------------------------------
+The same bytes again; the same content saved with other line endings or without its
+last newline; and the bytes of a withdrawn file (a withdrawal is final for those bytes).
 """
 
 from __future__ import annotations
@@ -18,18 +38,32 @@ import datetime as dt
 import hashlib
 import math
 import numbers
+import os
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 import pandas as pd
 
 from inspection_io.errors import InputError
-from inspection_io.ledger import LEDGER_NAME, CampaignRecord, Ledger, NewFile
-from inspection_io.readers import read_campaign_file
+from inspection_io.ledger import (
+    LEDGER_NAME,
+    CampaignRecord,
+    FileRecord,
+    Ledger,
+    NewFile,
+)
+from inspection_io.paths import inside_site
+from inspection_io.readers import SPECS, read_campaign_file
 from inspection_io.site import CampaignInfo, Site, load_campaign, load_site
+from inspection_io.tables import parse_header
 
 CAMPAIGN_FILE_SUFFIXES = (".csv", ".xlsx")
+#: A row may be dated this many days after its campaign's date [days]. Project choice: the
+#: sampling of one campaign rarely spans more than a season; a later row belongs to a later
+#: campaign (or carries a typing error).
+ROW_DATE_TOLERANCE_DAYS = 90
 OBSERVATION_FIELDS = ("source_row", "item_id", "zone", "member", "date", "quantity", "value",
                       "unit", "flags", "extra")
 
@@ -94,43 +128,57 @@ def import_file(site_dir: str | Path, path: str | Path, *, campaign: str | None 
     -------
     ImportReport
         ``imported=False`` with "already imported on <date> as <name>" when the same bytes
-        are in the ledger already (nothing is read or written).
+        are in the ledger already (nothing is read or written), "same content as" when the
+        content is in force under other bytes (other line endings), "withdrawn on" when
+        the bytes are those of a withdrawn file.
 
     Raises
     ------
     InputError
-        Any problem with the file, a row, a column, the campaign or the site file. The
-        ledger is unchanged.
+        Any problem with the file, a row, a column, a date, the campaign or the site file;
+        a link leading outside the site folder; a file of the same name or a specimen id
+        already in force (the message says how to withdraw and correct). The ledger is
+        unchanged.
     """
     site_dir = Path(site_dir)
-    site = site or load_site(site_dir)
     path = Path(path)
+    from_site = _lexically_inside(site_dir, path)
+    if from_site:
+        inside_site(site_dir, path, what="the campaign file")
+    site = site or _load_site(site_dir)
     data = _read_bytes(path)
     digest = sha256_of(data)
 
     # look up without creating: a first import that fails leaves no ledger behind
     known_campaign = None
-    if (site_dir / LEDGER_NAME).is_file():
+    if os.path.lexists(site_dir / LEDGER_NAME):
         with Ledger(site_dir) as ledger:
             existing = ledger.file_by_hash(digest)
             if existing is not None:
                 return _skipped(path, digest, existing)
             if campaign is not None:
                 known_campaign = ledger.campaign(campaign)
-    info = _campaign_for(known_campaign, path, campaign, campaign_date, description)
+    info, toml = _campaign_for(known_campaign, path, campaign, campaign_date, description,
+                               site_dir if from_site else None)
+    window = _date_window(site)
+    _check_campaign_date(info, window, toml or path, "date" if toml else "--date")
     result = _read(path, kind, site)
     if sha256_of(_read_bytes(path)) != digest:
         raise InputError("the file changed while it was being read; import it again", file=path)
     observations = _checked_observations(result.observations, result.kind, path)
+    headers = _raw_headers(result.metadata)
+    _check_row_dates(observations, info, window, path, headers.get("date", "date"))
     raw_rows = _raw_rows(result.raw)
     metadata = _json_safe({**dict(result.metadata or {}), "source_name": path.name})
+    spec = SPECS.get(result.kind)
+    id_column = headers.get(spec.id_column, spec.id_column) if spec else "item_id"
     with Ledger(site_dir) as ledger:
         record, written = ledger.write_import(
             campaign_name=info.name, campaign_date=info.date,
             campaign_description=info.description,
             file=NewFile(name=path.name, sha256=digest, size_bytes=len(data), kind=result.kind,
                          row_count=len(raw_rows), metadata=metadata),
-            raw_rows=raw_rows, observations=observations)
+            raw_rows=raw_rows, observations=observations, source=path, id_column=id_column)
     if not written:
         return _skipped(path, digest, record)
     notes = _notes(metadata)
@@ -167,32 +215,43 @@ def import_site(site_dir: str | Path, *,
     ------
     InputError
         The first problem met (files before it stay imported, complete). Every campaign
-        folder's ``campaign.toml`` is checked before any file is imported.
+        folder's ``campaign.toml`` and date, and every link under ``campaigns/``, are
+        checked before any file is imported.
     """
     site_dir = Path(site_dir)
-    site = load_site(site_dir)
+    site = _load_site(site_dir)
     campaigns_dir = site_dir / "campaigns"
+    if os.path.lexists(campaigns_dir):
+        inside_site(site_dir, campaigns_dir, what="the campaigns folder")
     if not campaigns_dir.is_dir():
         raise InputError("no campaigns/ folder in the site folder: put each inspection "
                          "campaign in campaigns/<folder>/ with a campaign.toml", file=site_dir)
-    folders = sorted(p for p in campaigns_dir.iterdir()
-                     if p.is_dir() and not p.name.startswith((".", "_")))
+    entries = sorted(p for p in campaigns_dir.iterdir() if not p.name.startswith((".", "_")))
+    for entry in entries:
+        inside_site(site_dir, entry, what="the campaign folder")
+    folders = [p for p in entries if p.is_dir()]
+    window = _date_window(site)
     plan: list[tuple[CampaignInfo, list[Path]]] = []
     seen: dict[str, Path] = {}
     for folder in folders:
         toml = folder / "campaign.toml"
+        if os.path.lexists(toml):
+            inside_site(site_dir, toml, what="campaign.toml")
         if not toml.is_file():
             raise InputError("missing campaign.toml (name, date, description) in this campaign "
                              "folder", file=folder)
         info = load_campaign(toml)
+        _check_campaign_date(info, window, toml, "date")
         if info.name in seen:
             raise InputError(f'campaign name "{info.name}" is used by two folders: '
                              f"{seen[info.name]} and {folder}", file=toml, column="name")
         seen[info.name] = folder
-        files = sorted(p for p in folder.iterdir()
-                       if p.is_file() and p.suffix.lower() in CAMPAIGN_FILE_SUFFIXES
-                       and not p.name.startswith((".", "~$")))
-        plan.append((info, files))
+        candidates = sorted(p for p in folder.iterdir()
+                            if p.suffix.lower() in CAMPAIGN_FILE_SUFFIXES
+                            and not p.name.startswith((".", "~$")))
+        for candidate in candidates:
+            inside_site(site_dir, candidate, what="the campaign file")
+        plan.append((info, [p for p in candidates if p.is_file()]))
     reports = []
     for info, files in plan:
         for path in files:
@@ -205,6 +264,88 @@ def import_site(site_dir: str | Path, *,
 
 
 # --------------------------------------------------------------------------- helpers
+def _lexically_inside(folder: Path, path: Path) -> bool:
+    """True if `path` is written as a path inside `folder` (links not followed)."""
+    base = os.path.abspath(folder)
+    target = os.path.abspath(path)
+    return target == base or target.startswith(base.rstrip(os.sep) + os.sep)
+
+
+def _load_site(site_dir: Path) -> Site:
+    site_file = site_dir / "site.toml"
+    if os.path.lexists(site_file):
+        inside_site(site_dir, site_file, what="the site file")
+    return load_site(site_dir)
+
+
+@dataclass(frozen=True)
+class _DateWindow:
+    earliest: dt.date
+    latest: dt.date
+    why: str
+
+    def describe(self) -> str:
+        return f"{self.earliest.isoformat()} to {self.latest.isoformat()} ({self.why})"
+
+
+def _date_window(site: Site) -> _DateWindow:
+    """Dates a sample can have: from 1 January of the year built to the assessment date or
+    today, whichever is earlier."""
+    earliest = dt.date(site.site.year_built, 1, 1)
+    today = dt.date.today()
+    if site.site.assessment_date <= today:
+        latest, end = site.site.assessment_date, "the assessment date (site.assessment_date)"
+    else:
+        latest, end = today, "today"
+    return _DateWindow(earliest, latest, f"from the year of construction "
+                                         f"(site.year_built = {site.site.year_built}) to {end}")
+
+
+def _check_campaign_date(info: CampaignInfo, window: _DateWindow, file: Path,
+                         column: str) -> None:
+    if not window.earliest <= info.date <= window.latest:
+        raise InputError(f'campaign "{info.name}" is dated {info.date.isoformat()}, outside '
+                         f"the allowed range {window.describe()}", file=file, column=column)
+
+
+def _check_row_dates(observations: pd.DataFrame, info: CampaignInfo, window: _DateWindow,
+                     path: Path, column: str) -> None:
+    """Refuse a row sampled outside the window or well after its campaign's date."""
+    last = min(window.latest, info.date + dt.timedelta(days=ROW_DATE_TOLERANCE_DAYS))
+    for source_row, value in zip(observations["source_row"], observations["date"]):
+        if _is_missing(value) or value == "":
+            continue
+        try:
+            date = value if isinstance(value, dt.date) else dt.date.fromisoformat(str(value)[:10])
+        except ValueError:
+            raise InputError(f"bad date {value!r}: expected YYYY-MM-DD", file=path,
+                             row=int(source_row), column=column) from None
+        if isinstance(date, dt.datetime):
+            date = date.date()
+        if not window.earliest <= date <= window.latest:
+            raise InputError(f"sampled on {date.isoformat()}, outside the allowed range "
+                             f"{window.describe()}", file=path, row=int(source_row),
+                             column=column)
+        if date > last:
+            raise InputError(f"sampled on {date.isoformat()}, more than "
+                             f"{ROW_DATE_TOLERANCE_DAYS} days after its campaign "
+                             f'"{info.name}" ({info.date.isoformat()}); allowed up to '
+                             f"{last.isoformat()}. Put the row in the campaign it belongs to, "
+                             f"or correct the date", file=path, row=int(source_row),
+                             column=column)
+
+
+def _raw_headers(metadata: dict | None) -> dict[str, str]:
+    """Canonical column name -> the header as written in the file."""
+    found = {}
+    for raw in (metadata or {}).get("raw_headers") or ():
+        try:
+            found.setdefault(parse_header(str(raw)).name, str(raw))
+        except InputError:
+            continue
+    return found
+
+
 def _read(path: Path, kind: str | None, site: Site):
     return read_campaign_file(
         path, kind,
@@ -228,18 +369,30 @@ def _read_bytes(path: Path) -> bytes:
         raise InputError(f"cannot read the file: {exc.strerror}", file=path) from None
 
 
-def _skipped(path: Path, digest: str, existing) -> ImportReport:
+def _skipped(path: Path, digest: str, existing: FileRecord) -> ImportReport:
     when = existing.imported_at[:10]
+    where = f'{existing.name} (campaign "{existing.campaign}")'
+    if existing.sha256 != digest:
+        message = (f"skipped {path.name}: same content as {where}, imported on {when}; only "
+                   f"line endings, the last newline or the row order differ")
+    elif not existing.in_force:
+        message = (f"skipped {path.name}: these bytes were imported on {when} as {where} and "
+                   f"withdrawn on {existing.withdrawn_at[:10]} ({existing.withdrawal_reason}); "
+                   f"a withdrawn file is not imported again")
+    else:
+        message = f"skipped {path.name}: already imported on {when} as {where}"
     return ImportReport(
         path=path, campaign=existing.campaign, kind=existing.kind, sha256=digest,
-        rows=existing.row_count, observations=0, imported=False,
-        message=(f"skipped {path.name}: already imported on {when} as {existing.name} "
-                 f"(campaign \"{existing.campaign}\")"))
+        rows=existing.row_count, observations=0, imported=False, message=message)
 
 
 def _campaign_for(known: CampaignRecord | None, path: Path, name: str | None,
-                  date: dt.date | None, description: str | None) -> CampaignInfo:
+                  date: dt.date | None, description: str | None,
+                  site_dir: Path | None) -> tuple[CampaignInfo, Path | None]:
+    """The campaign of the file, and the campaign.toml its date came from (or None)."""
     toml = path.parent / "campaign.toml"
+    if site_dir is not None and os.path.lexists(toml):
+        inside_site(site_dir, toml, what="campaign.toml")
     folder_info = load_campaign(toml) if toml.is_file() else None
     if name is None:
         if folder_info is None:
@@ -263,7 +416,7 @@ def _campaign_for(known: CampaignRecord | None, path: Path, name: str | None,
     if date is not None and date != info.date:
         raise InputError(f'campaign "{name}" has date {info.date.isoformat()}, not '
                          f"{date.isoformat()}", file=path)
-    return info
+    return info, (toml if info is folder_info else None)
 
 
 def _checked_observations(observations: pd.DataFrame, kind: str, path: Path) -> pd.DataFrame:
@@ -332,4 +485,11 @@ def _json_safe(value: Any) -> Any:
     return str(value)
 
 
-__all__ = ["ImportReport", "import_file", "import_site", "sha256_of", "CAMPAIGN_FILE_SUFFIXES"]
+__all__ = [
+    "CAMPAIGN_FILE_SUFFIXES",
+    "ROW_DATE_TOLERANCE_DAYS",
+    "ImportReport",
+    "import_file",
+    "import_site",
+    "sha256_of",
+]

@@ -25,9 +25,16 @@ Z1,,C3,100,200,30.2,
 COVER = "zone,location_id,cover [cm]\nZ1,P1,3.1\nZ1,P2,2.8\n"
 
 
+ASSESSMENT_DATE = "2026-11-30"
+
+
 def make_site(root: Path, campaign_toml: bool = True) -> Path:
-    """A site folder from the package templates (zone Z1, member M1) with one campaign."""
-    shutil.copy(TEMPLATES / "site.toml", root / "site.toml")
+    """A site folder from the package templates (zone Z1, member M1, built 1980) with one
+    campaign; assessment date 30 Nov 2026 (the template's is 1 Jan 2026)."""
+    text = (TEMPLATES / "site.toml").read_text()
+    assert "assessment_date = 2026-01-01" in text and "year_built = 1980" in text
+    (root / "site.toml").write_text(text.replace("assessment_date = 2026-01-01",
+                                                 f"assessment_date = {ASSESSMENT_DATE}"))
     folder = root / "campaigns" / "first"
     folder.mkdir(parents=True)
     if campaign_toml:
@@ -110,7 +117,7 @@ def test_importing_twice_is_a_no_op(site):
     # the same bytes under another name and campaign are the same file
     copy = site / "elsewhere.csv"
     copy.write_bytes(path.read_bytes())
-    third = import_file(site, copy, campaign="Other", campaign_date=dt.date(2027, 1, 1))
+    third = import_file(site, copy, campaign="Other", campaign_date=dt.date(2026, 3, 1))
     assert not third.imported and "as cores.csv" in third.message
     assert dump(site) == before
     assert (site / LEDGER_NAME).read_bytes() == bytes_before
@@ -154,7 +161,7 @@ def test_failure_inside_the_write_leaves_the_ledger_unchanged(site, monkeypatch)
 
     monkeypatch.setattr(importing.Ledger, "write_import", write_then_fail)
     with pytest.raises(sqlite3.IntegrityError):
-        import_file(site, path, campaign="New", campaign_date=dt.date(2027, 5, 1))
+        import_file(site, path, campaign="New", campaign_date=dt.date(2026, 5, 1))
     assert dump(site) == before
 
 
@@ -182,18 +189,18 @@ def test_campaign_resolution(site):
         import_file(site, loose)
     with pytest.raises(InputError, match="is new: give its date"):
         import_file(site, loose, campaign="Spot check")
-    report = import_file(site, loose, campaign="Spot check", campaign_date=dt.date(2027, 3, 1),
+    report = import_file(site, loose, campaign="Spot check", campaign_date=dt.date(2026, 6, 1),
                          description="one-off")
     assert report.imported
     # an existing campaign keeps its date; a different date is refused
     other = site / "loose2.csv"
-    other.write_text(COVER.replace("3.1", "3.3"))
-    with pytest.raises(InputError, match="2027-03-01"):
-        import_file(site, other, campaign="Spot check", campaign_date=dt.date(2027, 3, 2))
+    other.write_text(COVER.replace("P1", "P3").replace("P2", "P4"))  # new locations
+    with pytest.raises(InputError, match="2026-06-01"):
+        import_file(site, other, campaign="Spot check", campaign_date=dt.date(2026, 6, 2))
     assert import_file(site, other, campaign="Spot check").imported
     with Ledger(site) as ledger:
         assert [(c.name, c.date) for c in ledger.campaigns()] == [
-            ("Spot check", dt.date(2027, 3, 1))]
+            ("Spot check", dt.date(2026, 6, 1))]
 
 
 def test_kind_can_be_forced_and_bad_paths_are_input_errors(site):
@@ -233,7 +240,7 @@ def test_import_site_walks_every_campaign_folder(site):
     (first / "~$cores.xlsx").write_bytes(b"lock file of a spreadsheet program")
     second = site / "campaigns" / "second"
     second.mkdir()
-    (second / "campaign.toml").write_text('name = "Second survey"\ndate = 2030-05-01\n')
+    (second / "campaign.toml").write_text('name = "Second survey"\ndate = 2026-05-01\n')
     (second / "cover.csv").write_text(COVER)
     seen = []
     reports = import_site(site, on_report=seen.append)
@@ -242,7 +249,7 @@ def test_import_site_walks_every_campaign_folder(site):
     assert seen == reports
     with Ledger(site) as ledger:
         cover = ledger.observations(kind="cover")
-    assert set(cover["date"]) == {dt.date(2030, 5, 1)}
+    assert set(cover["date"]) == {dt.date(2026, 5, 1)}
     assert [r.imported for r in import_site(site)] == [False, False]
 
 

@@ -1,4 +1,4 @@
-"""Ledger: schema, foreign keys, append-only triggers, results API."""
+"""Ledger: schema, foreign keys, append-only triggers, results API, withdrawals and as_of."""
 
 import datetime as dt
 import json
@@ -18,21 +18,24 @@ def new_file(sha="a" * 64, name="cores.csv", rows=2):
                    metadata={"raw_headers": ["zone", "core_id"]})
 
 
-def observations(rows=(2, 3), date=None):
+def observations(rows=(2, 3), date=None, tag="C"):
     return pd.DataFrame({
-        "kind": "cores", "source_row": list(rows), "item_id": [f"C{r}" for r in rows],
+        "kind": "cores", "source_row": list(rows), "item_id": [f"{tag}{r}" for r in rows],
         "zone": "L1", "member": [None] * len(rows), "date": [date] * len(rows),
         "quantity": "core_strength", "value": [30.0 + r for r in rows], "unit": "MPa",
-        "flags": ["", "bar_in_core;damaged"][:len(rows)], "extra": ['{"diameter": 100.0}'] * len(rows),
+        "flags": (["", "bar_in_core;damaged"] * len(rows))[:len(rows)], "extra": ['{"diameter": 100.0}'] * len(rows),
     })
 
 
 def write_one(ledger, sha="a" * 64, campaign="2009 first survey", date=dt.date(2009, 6, 15),
-              rows=(2, 3), obs_date=None):
-    raw = [(r, {"zone": "L1", "core_id": f"C{r}"}) for r in rows]
+              rows=(2, 3), obs_date=None, tag=None, name="cores.csv"):
+    """One cores file; its ids are <tag><row> with the tag "C" for sha "a"*64, else sha[0]."""
+    tag = tag or ("C" if sha == "a" * 64 else sha[0])
+    raw = [(r, {"zone": "L1", "core_id": f"{tag}{r}"}) for r in rows]
     return ledger.write_import(campaign_name=campaign, campaign_date=date,
-                               campaign_description="Cores", file=new_file(sha, rows=len(rows)),
-                               raw_rows=raw, observations=observations(rows, obs_date))
+                               campaign_description="Cores",
+                               file=new_file(sha, name=name, rows=len(rows)),
+                               raw_rows=raw, observations=observations(rows, obs_date, tag))
 
 
 @pytest.fixture
@@ -80,8 +83,9 @@ def test_foreign_keys_are_enforced(ledger):
 
 @pytest.mark.parametrize("table", APPEND_ONLY_TABLES)
 def test_update_and_delete_are_refused_by_triggers(ledger, table):
-    write_one(ledger)
+    record, _ = write_one(ledger)
     ledger.append_result("reliability", {"beta": 3.1})
+    ledger.withdraw_file(record.id, "wrong zone")
     conn = ledger.connection()
     before = conn.execute(f"SELECT * FROM {table}").fetchall()
     assert before
@@ -108,7 +112,9 @@ def test_write_import_and_observation_query(ledger):
     assert json.loads(frame["extra"].iloc[0]) == {"diameter": 100.0}
     assert frame["campaign"].iloc[0] == "2009 first survey"
     assert ledger.raw_rows(record.id)[0] == (2, {"zone": "L1", "core_id": "C2"})
-    assert ledger.files()[0].metadata == {"raw_headers": ["zone", "core_id"]}
+    metadata = ledger.files()[0].metadata
+    assert metadata["raw_headers"] == ["zone", "core_id"]
+    assert len(metadata["content_sha256"]) == 64
 
 
 def test_same_hash_twice_writes_nothing(ledger):
@@ -182,7 +188,106 @@ def test_a_file_that_is_not_a_ledger_is_an_input_error(tmp_path):
 
 
 def test_newer_schema_version_is_refused(tmp_path):
+    newer = SCHEMA_VERSION + 1
     with Ledger(tmp_path) as ledger:
-        ledger.connection().execute("INSERT INTO schema_version VALUES (2)")
-    with pytest.raises(InputError, match="schema version 2"):
+        ledger.connection().execute("INSERT INTO schema_version VALUES (?)", (newer,))
+    with pytest.raises(InputError, match=f"schema version {newer}"):
         Ledger(tmp_path).connection()
+
+
+# ------------------------------------------------------------------ files in force
+def test_same_content_with_other_bytes_is_skipped(ledger):
+    first, _ = write_one(ledger)
+    # same raw rows, other SHA-256 (e.g. CRLF line endings): nothing is written
+    record, written = write_one(ledger, sha="b" * 64, tag="C")
+    assert not written and record.id == first.id
+    assert len(ledger.files()) == 1 and len(ledger.observations()) == 2
+
+
+def test_same_name_in_the_same_campaign_is_refused_with_the_route(ledger):
+    write_one(ledger)
+    with pytest.raises(InputError) as info:
+        write_one(ledger, sha="b" * 64, tag="X")
+    text = str(info.value)
+    assert "cores.csv is in force" in text and "withdraw" in text
+    assert len(ledger.files()) == 1
+
+
+def test_specimen_ids_in_force_are_refused_whatever_the_file(ledger):
+    write_one(ledger, rows=(2, 3))
+    with pytest.raises(InputError) as info:
+        write_one(ledger, sha="b" * 64, tag="C", rows=(3, 4), name="more-cores.csv")
+    assert info.value.row == 3 and info.value.column == "item_id"
+    assert 'id "C3" in zone L1' in str(info.value) and "withdraw" in str(info.value)
+    # the same id in another zone is another specimen
+    other = observations((3,), tag="C").assign(zone="L2")
+    record, written = ledger.write_import(
+        campaign_name="2009 first survey", campaign_date=dt.date(2009, 6, 15),
+        campaign_description="", file=new_file("c" * 64, name="l2.csv", rows=1),
+        raw_rows=[(3, {"zone": "L2", "core_id": "C3"})], observations=other)
+    assert written
+
+
+def test_survey_locations_repeat_on_another_date(ledger):
+    def cover(sha, campaign, date, value):
+        frame = pd.DataFrame({"kind": "cover", "source_row": [2], "item_id": ["P1"],
+                              "zone": "L1", "member": [None], "date": [None],
+                              "quantity": "cover", "value": [value], "unit": "mm",
+                              "flags": [""], "extra": ["{}"]})
+        return ledger.write_import(
+            campaign_name=campaign, campaign_date=date, campaign_description="",
+            file=NewFile("cover.csv", sha, 10, "cover", 1, {}),
+            raw_rows=[(2, {"zone": "L1", "location_id": "P1", "cover": str(value)})],
+            observations=frame)
+
+    assert cover("a" * 64, "first", dt.date(2009, 6, 15), 30.0)[1]
+    assert cover("b" * 64, "second", dt.date(2017, 5, 9), 28.0)[1]      # re-survey: fine
+    with pytest.raises(InputError, match="measured on 2017-05-09"):
+        cover("c" * 64, "second b", dt.date(2017, 5, 9), 27.0)
+
+
+def test_withdrawal_takes_a_file_out_of_force_append_only(ledger):
+    old, _ = write_one(ledger)
+    withdrawal = ledger.withdraw_file(old.id, "  strengths typed in the wrong column ")
+    assert withdrawal.reason == "strengths typed in the wrong column"
+    assert ledger.observations().empty
+    assert len(ledger.observations(include_withdrawn=True)) == 2
+    (record,) = ledger.files()
+    assert not record.in_force and record.withdrawal_reason == withdrawal.reason
+    assert ledger.files(in_force_only=True) == []
+    # the corrected file (same name, same ids) now imports
+    new, written = write_one(ledger, sha="b" * 64, tag="C", rows=(2, 3, 4))
+    assert written and len(ledger.observations()) == 3
+    with pytest.raises(InputError, match="already withdrawn"):
+        ledger.withdraw_file(old.id, "again")
+    with pytest.raises(InputError, match="reason"):
+        ledger.withdraw_file(new.id, "  ")
+    with pytest.raises(InputError, match="no imported file"):
+        ledger.withdraw_file(999, "x")
+    # the exact bytes of a withdrawn file are recognised (and not imported again)
+    again, written = write_one(ledger)
+    assert not written and not again.in_force
+    assert [f.name for f in ledger.find_files("cores.csv")] == ["cores.csv", "cores.csv"]
+    assert ledger.find_files(new.sha256[:10])[0].id == new.id
+    assert ledger.find_files("cores.csv", campaign="nope") == []
+
+
+def test_as_of_shows_what_was_known_on_each_day(ledger, monkeypatch):
+    from inspection_io import ledger as module
+
+    clock = {"now": "2026-01-10T09:00:00.000000+00:00"}
+    monkeypatch.setattr(module, "_now", lambda: clock["now"])
+    old, _ = write_one(ledger)                                     # imported 10 Jan
+    clock["now"] = "2026-02-01T08:00:00.000000+00:00"
+    ledger.withdraw_file(old.id, "wrong values")                   # withdrawn 1 Feb
+    write_one(ledger, sha="b" * 64, tag="C", rows=(2, 3, 4))       # corrected, 1 Feb
+
+    def rows(day):
+        return len(ledger.observations(as_of=dt.date.fromisoformat(day)))
+
+    assert rows("2026-01-09") == 0        # nothing imported yet
+    assert rows("2026-01-10") == 2        # the first file, in force then
+    assert rows("2026-01-31") == 2
+    assert rows("2026-02-01") == 3        # withdrawn and replaced that day
+    assert len(ledger.observations()) == 3
+    assert len(ledger.observations(as_of=dt.date(2026, 2, 1), include_withdrawn=True)) == 5

@@ -4,21 +4,32 @@ Reports are appended, never overwritten (design decision 7: "results are
 appended, never overwritten"). Given a folder, the files get a fresh name
 ``report-<YYYY-MM-DDTHHMM>-<NNN>.html`` / ``.json`` with the first sequence
 number free for both; given a file name that already exists, writing stops with
-an `InputError`. Each file is written to a temporary file in the same folder,
-flushed to disk and then published under its final name in one step, so a
-reader never sees half a report.
+an `InputError`.
+
+The pair appears together or not at all
+---------------------------------------
+Both files are first written whole to temporary names in their folders and
+flushed to disk; a small marker ``.pending-<stem>.<random>`` then names the pair,
+and only then are the JSON and the HTML published under their final names (each
+a hard link: atomic, and never replacing a file; `assess.report.files.publish`).
+An error between the two steps removes the published JSON again. A kill between
+them (SIGKILL, power loss) leaves the marker: the next `write_report` (or
+`recover_unfinished_reports`, which the main job calls on start while holding the
+site lock) removes the lone half of the pair that the marker names, the marker
+and the temporary files of the killed run. The HTML is published last, so an
+HTML report never points at a missing JSON.
 """
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import datetime as _dt
-import errno
 import json
 import math
 import os
 import secrets
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from pathlib import Path
 from typing import Any
 
@@ -28,11 +39,21 @@ import assess
 from assess.cautions import CAUTION
 from assess.errors import InputError
 from assess.report.document import ReportDocument
+from assess.report.files import (
+    TEMP_PATTERN,
+    publish,
+    remove_stale_temporaries,
+    write_temporary,
+)
 
 #: Version of the JSON layout written by `write_report`; raise it when keys change meaning.
 SCHEMA_VERSION = 1
 
 _STEM_PREFIX = "report"
+_PENDING = ".pending-"
+#: Leftovers of a run are taken as stale after this long [s] (a report is written in
+#: well under a second); call `recover_unfinished_reports` with 0 while holding the site lock.
+STALE_SECONDS = 600.0
 
 
 def to_json_native(value: Any, path: str = "numbers") -> Any:
@@ -149,33 +170,54 @@ def _resolve(path: str | os.PathLike, suffix: str, stem: str | None,
     return path
 
 
-def _write_new(path: Path, text: str) -> None:
-    """Write `text` to a temp file beside `path`, then publish it without overwriting."""
-    # Mode "x" creates the file with the usual permissions (umask), unlike mkstemp.
-    tmp = path.parent / f".{path.name}.{secrets.token_hex(8)}.tmp"
-    try:
-        with open(tmp, "x", encoding="utf-8", newline="\n") as handle:
-            handle.write(text)
-            handle.flush()
-            os.fsync(handle.fileno())
-        try:
-            # A hard link publishes atomically and fails if the name is taken, so a
-            # report written at the same moment by another run is never replaced.
-            os.link(tmp, path)
-        except FileExistsError:
-            raise InputError("a report with this name appeared while writing; it was left "
-                             "untouched.", file=path) from None
-        except OSError as exc:
-            if exc.errno not in (errno.EPERM, errno.ENOTSUP, errno.EOPNOTSUPP, errno.EXDEV,
-                                 errno.EMLINK, errno.ENOSYS):
-                raise
-            # File systems without hard links: check, then atomic rename.
-            if path.exists():
-                raise InputError("a report with this name already exists; reports are never "
-                                 "overwritten.", file=path) from None
-            os.replace(tmp, path)
-    finally:
-        tmp.unlink(missing_ok=True)
+def recover_unfinished_reports(folders: Iterable[str | os.PathLike], *,
+                               older_than: float = STALE_SECONDS) -> list[Path]:
+    """Undo what a killed report writer left behind in `folders`.
+
+    For each pending marker older than `older_than` seconds: if only one file of the
+    pair it names was published, that file is removed (a report pair appears together
+    or not at all); then the marker goes. Temporary files of that age go too.
+
+    Parameters
+    ----------
+    folders : iterable of path
+        Folders of the HTML and JSON reports (missing folders are skipped).
+    older_than : float
+        Age in seconds [s] below which leftovers may belong to a run still writing; use 0
+        while holding the site lock (`inspection_io.locking.site_lock`).
+
+    Returns
+    -------
+    list of Path
+        Every file removed.
+    """
+    removed: list[Path] = []
+    for folder in dict.fromkeys(Path(f) for f in folders):
+        if not folder.is_dir():
+            continue
+        for marker in sorted(folder.glob(f"{_PENDING}*")):
+            try:
+                age = _dt.datetime.now().timestamp() - marker.lstat().st_mtime
+                if age < older_than:
+                    continue
+                names = json.loads(marker.read_text(encoding="utf-8")) if marker.is_file() \
+                    and not marker.is_symlink() else []
+            except (OSError, ValueError):
+                names = []
+            pair = [folder / str(name) for name in names[:2]]
+            stem = marker.name[len(_PENDING):].rsplit(".", 1)[0]
+            ours = (len(pair) == 2 and pair[0].suffix == ".json"
+                    and pair[1].name == f"{stem}.html")
+            present = [p for p in pair if os.path.lexists(p)]
+            if ours and len(present) == 1:
+                with contextlib.suppress(OSError):
+                    present[0].unlink()
+                    removed.append(present[0])
+            with contextlib.suppress(OSError):
+                marker.unlink()
+                removed.append(marker)
+        removed.extend(remove_stale_temporaries(folder, TEMP_PATTERN, older_than=older_than))
+    return removed
 
 
 def write_report(path_html: str | os.PathLike, path_json: str | os.PathLike,
@@ -232,13 +274,49 @@ def write_report(path_html: str | os.PathLike, path_json: str | os.PathLike,
     json_text = json.dumps(payload, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
     html_text = document.to_html(created=now, numbers_file=json_path.name)
 
-    _write_new(json_path, json_text)
-    try:
-        _write_new(html_path, html_text)
-    except BaseException:
-        json_path.unlink(missing_ok=True)  # no JSON without its report
-        raise
+    recover_unfinished_reports([html_path.parent, json_path.parent])
+    _write_pair(json_path, json_text.encode("utf-8"), html_path, html_text.encode("utf-8"))
     return html_path, json_path
 
 
-__all__ = ["write_report", "report_paths", "to_json_native", "SCHEMA_VERSION"]
+def _write_pair(json_path: Path, json_data: bytes, html_path: Path, html_data: bytes) -> None:
+    """Both files or neither (see the module notes); the JSON is published first."""
+    temporaries: list[Path] = []
+    marker = html_path.parent / f"{_PENDING}{html_path.stem}.{secrets.token_hex(4)}"
+    published: list[Path] = []
+    try:
+        temporaries.append(write_temporary(json_path, json_data))
+        temporaries.append(write_temporary(html_path, html_data))
+        with open(marker, "x", encoding="utf-8") as handle:
+            json.dump([os.path.relpath(json_path, marker.parent),
+                       os.path.relpath(html_path, marker.parent)], handle)
+            handle.flush()
+            os.fsync(handle.fileno())
+        for tmp, path in zip(temporaries, (json_path, html_path)):
+            try:
+                publish(tmp, path)
+            except FileExistsError:
+                raise InputError("a report with this name appeared while writing; it was left "
+                                 "untouched.", file=path) from None
+            published.append(path)
+    except BaseException:
+        for path in published:  # no JSON without its report
+            with contextlib.suppress(OSError):
+                path.unlink()
+        raise
+    finally:
+        for tmp in temporaries:
+            with contextlib.suppress(OSError):
+                tmp.unlink()
+        with contextlib.suppress(OSError):
+            marker.unlink()
+
+
+__all__ = [
+    "SCHEMA_VERSION",
+    "STALE_SECONDS",
+    "recover_unfinished_reports",
+    "report_paths",
+    "to_json_native",
+    "write_report",
+]
