@@ -58,12 +58,12 @@ import inspect
 import keyword
 import math
 import re
-import tomllib
 from numbers import Real
 from pathlib import Path
 from typing import Any, Callable
 
 import numpy as np
+import tomllib
 
 from assess.distributions import KINDS, make_distribution
 from assess.errors import AnalysisError, InputError

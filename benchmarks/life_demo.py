@@ -52,8 +52,8 @@ def main() -> None:
     args = parser.parse_args()
     warnings.filterwarnings("ignore")
 
-    from assess.site.materials import UpdateSettings, update_site
     from assess.site.corrosion import update_corrosion, zone_corrosion_inputs
+    from assess.site.materials import UpdateSettings, update_site
     from assess.site.projection import governing_curves, project_member, project_site
     from inspection_io.site import load_site
 

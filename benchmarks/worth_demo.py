@@ -25,9 +25,9 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from assess.cli.members import run_update  # noqa: E402
+from assess.site.worth_decision import build_site_decision  # noqa: E402
 from assess.worth import recommendation_text, value_of_information  # noqa: E402
 from assess.worth.decision_file import read_decision_setup  # noqa: E402
-from assess.site.worth_decision import build_site_decision  # noqa: E402
 from inspection_io.importing import import_site  # noqa: E402
 from inspection_io.site import load_site  # noqa: E402
 

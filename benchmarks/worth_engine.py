@@ -23,9 +23,15 @@ from scipy import stats
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from assess.worth import (Alternative, BreakoutSurvey, CoreSampling,  # noqa: E402
-                          DecisionProblem, HalfCellSurvey, recommendation_text,
-                          value_of_information)
+from assess.worth import (  # noqa: E402
+    Alternative,
+    BreakoutSurvey,
+    CoreSampling,
+    DecisionProblem,
+    HalfCellSurvey,
+    recommendation_text,
+    value_of_information,
+)
 
 R0 = 2.45  # median capacity / median load of the undamaged deck [-] (invented)
 NAMES = ["mu_lnfc", "sigma_lnfc", "ratio_mean", "ratio_sd", "p_active"]

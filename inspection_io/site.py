@@ -14,11 +14,12 @@ from __future__ import annotations
 import datetime as dt
 import difflib
 import re
-import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
 from typing import Any, Callable, Mapping
+
+import tomllib
 
 from inspection_io.errors import InputError
 

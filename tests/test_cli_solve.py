@@ -10,8 +10,8 @@ from scipy import stats
 from typer.testing import CliRunner
 
 import assess.cli.solve  # noqa: F401  (registers the command)
-from assess.cli.app import app
 from assess.cautions import CAUTION
+from assess.cli.app import app
 
 DEMO = Path(__file__).resolve().parents[1] / "demo_sites" / "problems"
 runner = CliRunner()

@@ -9,12 +9,12 @@ import json
 import shutil
 
 import pytest
+from conftest import SUITE_SEED
 from typer.testing import CliRunner
 
 import assess.cli.worth  # noqa: F401  (registers the command)
 from assess.cli.app import app
 from inspection_io.ledger import Ledger
-from conftest import SUITE_SEED
 
 PNG_MAGIC = b"\x89PNG\r\n\x1a\n"  # PNG specification (ISO/IEC 15948), file signature
 

@@ -26,11 +26,16 @@ from assess.deterioration import chloride as chloride_forward
 from assess.deterioration.defaults import REFERENCE_AGE_YEARS
 from assess.errors import InputError
 from assess.site.corrosion import update_corrosion
-from assess.site.initiation import (COVER_READING_SD_MM, ZoneCover, initiation_data,
-                                    initiation_time_draws, spatial_log_sd, surveyed_cover,
-                                    update_initiation)
+from assess.site.initiation import (
+    COVER_READING_SD_MM,
+    ZoneCover,
+    initiation_data,
+    initiation_time_draws,
+    spatial_log_sd,
+    surveyed_cover,
+    update_initiation,
+)
 from assess.updating.corrosion import SPATIAL_LOG_SD
-
 
 
 @pytest.fixture(scope="module")

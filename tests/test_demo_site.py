@@ -19,7 +19,7 @@ import openpyxl
 import pytest
 from scipy import special, stats
 
-from inspection_io.cores import CoreCorrections, LD_FACTORS, insitu_strength
+from inspection_io.cores import LD_FACTORS, CoreCorrections, insitu_strength
 from inspection_io.site import MEMBER_KINDS, load_campaign, load_site
 
 REPO = Path(__file__).resolve().parents[1]

@@ -5,8 +5,12 @@ import pytest
 from scipy import optimize
 
 from assess.errors import InputError
-from assess.limit_states import (balanced_x_over_d, flexural_capacity, flexural_capacity_details,
-                                 neutral_axis_ratio)
+from assess.limit_states import (
+    balanced_x_over_d,
+    flexural_capacity,
+    flexural_capacity_details,
+    neutral_axis_ratio,
+)
 
 
 def test_hand_calculation_singly_reinforced_beam():

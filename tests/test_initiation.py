@@ -7,11 +7,18 @@ import pytest
 from scipy import special, stats
 
 from assess.deterioration import chloride
-from assess.deterioration.defaults import (AGEING_EXPONENT, CONVECTION_ZONE_DEPTH,
-                                           CRITICAL_CHLORIDE, TEMPERATURE_COEFFICIENT,
-                                           DistributionSpec)
-from assess.deterioration.initiation import (first_crossing_time, initiation_probability,
-                                             sample_initiation_times)
+from assess.deterioration.defaults import (
+    AGEING_EXPONENT,
+    CONVECTION_ZONE_DEPTH,
+    CRITICAL_CHLORIDE,
+    TEMPERATURE_COEFFICIENT,
+    DistributionSpec,
+)
+from assess.deterioration.initiation import (
+    first_crossing_time,
+    initiation_probability,
+    sample_initiation_times,
+)
 from assess.errors import InputError
 
 T0 = 28.0 / 365.25

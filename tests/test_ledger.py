@@ -9,8 +9,7 @@ import pandas as pd
 import pytest
 
 from inspection_io.errors import InputError
-from inspection_io.ledger import (APPEND_ONLY_TABLES, LEDGER_NAME, SCHEMA_VERSION, Ledger,
-                                  NewFile)
+from inspection_io.ledger import APPEND_ONLY_TABLES, LEDGER_NAME, SCHEMA_VERSION, Ledger, NewFile
 
 
 def new_file(sha="a" * 64, name="cores.csv", rows=2):

@@ -20,12 +20,19 @@ import pytest
 from scipy import integrate, optimize, stats
 
 from assess.distributions import make_distribution
-from assess.site.corrosion import (CorrosionInputs, age_at, update_corrosion,
-                                          zone_corrosion_inputs)
-from assess.site.projection import (ALREADY_BELOW, BEYOND, CROSSES, area_factor, beta_band,
-                                    estimate_curves, project_member, project_site,
-                                    remaining_life)
 from assess.model import ProbabilisticModel
+from assess.site.corrosion import CorrosionInputs, age_at, update_corrosion, zone_corrosion_inputs
+from assess.site.projection import (
+    ALREADY_BELOW,
+    BEYOND,
+    CROSSES,
+    area_factor,
+    beta_band,
+    estimate_curves,
+    project_member,
+    project_site,
+    remaining_life,
+)
 
 SEED = 20261202
 

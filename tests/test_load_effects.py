@@ -5,9 +5,15 @@ import pytest
 from scipy import integrate
 
 from assess.errors import InputError
-from assess.limit_states import (column_reaction, line_load, load_effect_model_uncertainty,
-                                 one_way_load_effects, self_weight_area_load,
-                                 simply_supported_moment, simply_supported_shear)
+from assess.limit_states import (
+    column_reaction,
+    line_load,
+    load_effect_model_uncertainty,
+    one_way_load_effects,
+    self_weight_area_load,
+    simply_supported_moment,
+    simply_supported_shear,
+)
 
 
 def test_statics_of_simply_supported_member():

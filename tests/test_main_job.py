@@ -86,8 +86,8 @@ def test_system_beta_never_exceeds_its_weakest_mode(job):
 
 
 def test_sampling_beta_agrees_with_form_on_the_same_member_model(job):
-    from assess.site.member_models import build_member_model
     from assess.reliability.dispatch import run_method
+    from assess.site.member_models import build_member_model
 
     run, _, _, numbers = job
     row = next(r for r in numbers["numbers"]["members"]

@@ -7,8 +7,7 @@ import pytest
 
 from assess.distributions import make_distribution
 from assess.errors import InputError
-from assess.nataf import (correlation_from_normal, corrected_correlation_matrix,
-                          nataf_correlation)
+from assess.nataf import corrected_correlation_matrix, correlation_from_normal, nataf_correlation
 
 
 def lognormal(cov, name=None):

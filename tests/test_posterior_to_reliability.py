@@ -8,8 +8,8 @@ import numpy as np
 import pytest
 
 from assess.model import ProbabilisticModel
-from assess.reliability.dispatch import run_method
 from assess.priors.normal_gamma import NormalGamma
+from assess.reliability.dispatch import run_method
 from assess.updating.to_model import add_uncertain_quantity, predictive_probability_below
 
 # JCSS PMC Part 3.1, ready-mixed C25 prior for ln f_c: m'=3.65, n'=3, s'=0.12, nu'=10.

@@ -8,13 +8,28 @@ import pytest
 from scipy import stats
 
 from assess.errors import InputError
-from assess.priors import (CONCRETE_PRIORS, MODEL_UNCERTAINTY, NormalGamma, bar_area_prior,
-                           concrete_prior, cover_prior, imposed_load_prior, looks_characteristic,
-                           model_uncertainty_prior, parse_concrete_class, predictive_cdf,
-                           predictive_lognormal, predictive_quantile,
-                           resistance_model_uncertainty, self_weight_prior, steel_yield_prior,
-                           superimposed_dead_prior, update_normal_gamma,
-                           update_normal_gamma_summary, warn_if_characteristic)
+from assess.priors import (
+    CONCRETE_PRIORS,
+    MODEL_UNCERTAINTY,
+    NormalGamma,
+    bar_area_prior,
+    concrete_prior,
+    cover_prior,
+    imposed_load_prior,
+    looks_characteristic,
+    model_uncertainty_prior,
+    parse_concrete_class,
+    predictive_cdf,
+    predictive_lognormal,
+    predictive_quantile,
+    resistance_model_uncertainty,
+    self_weight_prior,
+    steel_yield_prior,
+    superimposed_dead_prior,
+    update_normal_gamma,
+    update_normal_gamma_summary,
+    warn_if_characteristic,
+)
 
 # JCSS PMC Part 3.1 prior table for ln f_c (domain notes 1.1), with the [computed] columns
 # "median e^m'" and "predictive 5 %" [MPa].

@@ -4,8 +4,12 @@ import numpy as np
 import pytest
 
 from assess.errors import InputError
-from assess.limit_states import (PUNCHING_BETA, control_perimeter, punching_capacity,
-                                 reinforcement_ratio)
+from assess.limit_states import (
+    PUNCHING_BETA,
+    control_perimeter,
+    punching_capacity,
+    reinforcement_ratio,
+)
 
 
 def test_control_perimeters():

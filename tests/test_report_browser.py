@@ -22,8 +22,11 @@ import pytest  # noqa: E402
 from scipy import stats  # noqa: E402
 
 from assess.cautions import CAUTION  # noqa: E402
-from assess.report import ReportDocument, write_report  # noqa: E402
-from assess.report import plots  # noqa: E402
+from assess.report import (  # noqa: E402
+    ReportDocument,
+    plots,  # noqa: E402
+    write_report,
+)
 from assess.report.document import PNG_SIGNATURE  # noqa: E402
 
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")

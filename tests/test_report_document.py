@@ -22,7 +22,7 @@ import assess  # noqa: E402
 from assess.cautions import CAUTION  # noqa: E402
 from assess.errors import InputError  # noqa: E402
 from assess.reliability.result import ReliabilityResult  # noqa: E402
-from assess.report import ReportDocument, SCHEMA_VERSION, to_json_native, write_report  # noqa: E402
+from assess.report import SCHEMA_VERSION, ReportDocument, to_json_native, write_report  # noqa: E402
 from assess.report.document import MISSING_TEXT, PNG_SIGNATURE  # noqa: E402
 
 NOW = dt.datetime(2026, 12, 2, 9, 15, tzinfo=dt.timezone.utc)

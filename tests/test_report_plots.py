@@ -10,8 +10,6 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np
-
-from assess.life.crossing import target_crossing_time  # noqa: E402
 import pytest  # noqa: E402
 from matplotlib.dates import num2date  # noqa: E402
 from matplotlib.figure import Figure  # noqa: E402
@@ -19,6 +17,7 @@ from scipy import stats  # noqa: E402
 from scipy.integrate import trapezoid  # noqa: E402
 
 from assess.errors import InputError  # noqa: E402
+from assess.life.crossing import target_crossing_time  # noqa: E402
 from assess.report import plots  # noqa: E402
 
 UNIT = re.compile(r"\[[^\]]+\]")

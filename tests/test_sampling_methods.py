@@ -11,10 +11,22 @@ import pytest
 from scipy import stats
 
 from assess.errors import AnalysisError, InputError
-from assess.reliability import (StandardNormalProblem, crude_monte_carlo, form,
-                                importance_sampling, run_method, subset_simulation)
-from tests.reference_problems import (four_branch_series, linear_100d, linear_normal,
-                                      linear_pf_1e6, lognormal_r_s, parabolic)
+from assess.reliability import (
+    StandardNormalProblem,
+    crude_monte_carlo,
+    form,
+    importance_sampling,
+    run_method,
+    subset_simulation,
+)
+from tests.reference_problems import (
+    four_branch_series,
+    linear_100d,
+    linear_normal,
+    linear_pf_1e6,
+    lognormal_r_s,
+    parabolic,
+)
 
 SEEDS = (11, 22, 33)
 

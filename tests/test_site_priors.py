@@ -7,10 +7,10 @@ from pathlib import Path
 import pytest
 from scipy import stats
 
+from assess.priors.actions import CAR_PARK_VEHICLES
 from assess.site.before_after import assess_members
 from assess.site.knowledge import OVERRIDE_SOURCE, design_knowledge
 from assess.site.materials import SiteUpdate
-from assess.priors.actions import CAR_PARK_VEHICLES
 from inspection_io.errors import InputError
 from inspection_io.site import CAR_PARK_USES, Priors, load_site
 

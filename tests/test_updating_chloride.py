@@ -18,8 +18,12 @@ from scipy import special, stats
 from assess.deterioration.chloride import chloride_content, temperature_factor
 from assess.deterioration.defaults import AGEING_EXPONENT, M2_PER_S_TO_MM2_PER_YEAR
 from assess.errors import InputError
-from assess.updating.chloride import (ChloridePriors, chloride_content_tensor, chloride_model,
-                                      fit_chloride)
+from assess.updating.chloride import (
+    ChloridePriors,
+    chloride_content_tensor,
+    chloride_model,
+    fit_chloride,
+)
 from assess.updating.gate import require_convergence
 
 PRIORS = ChloridePriors.from_site("exposed deck", "CEM I", 0.50)

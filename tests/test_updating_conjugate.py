@@ -13,9 +13,9 @@ import pytest
 from scipy import stats
 
 from assess.errors import ConvergenceError
+from assess.priors.normal_gamma import NormalGamma
 from assess.updating.gate import check_convergence, require_convergence
 from assess.updating.models import group_draws, hierarchical_normal_model, sample_posterior
-from assess.priors.normal_gamma import NormalGamma
 
 # JCSS PMC Part 3.1, prior for ln f_c of ready-mixed C25: m'=3.65, n'=3, s'=0.12, nu'=10.
 PRIOR_C25 = NormalGamma.from_jcss(3.65, 3.0, 0.12, 10.0, source="JCSS PMC 3.1 C25 ready-mixed")

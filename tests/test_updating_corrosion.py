@@ -22,15 +22,27 @@ import numpy as np
 import pytest
 from scipy import integrate, stats
 
-from assess.deterioration.corrosion import (penetration_depth, residual_area_ratio,
-                                            time_since_initiation)
+from assess.deterioration.corrosion import (
+    penetration_depth,
+    residual_area_ratio,
+    time_since_initiation,
+)
 from assess.deterioration.defaults import HALF_CELL_LIKELIHOOD
 from assess.errors import InputError
-from assess.updating.corrosion import (BREAKOUT_QUANTILE, RATE_LOG_SD_MIN, SPATIAL_LOG_SD,
-                                       CorrosionFit, CorrosionModelSettings, HalfCellData,
-                                       SectionLossData, ZoneCorrosionPrior,
-                                       breakout_initiation_factor, corrosion_model,
-                                       fit_corrosion, residual_area_ratio_tensor)
+from assess.updating.corrosion import (
+    BREAKOUT_QUANTILE,
+    RATE_LOG_SD_MIN,
+    SPATIAL_LOG_SD,
+    CorrosionFit,
+    CorrosionModelSettings,
+    HalfCellData,
+    SectionLossData,
+    ZoneCorrosionPrior,
+    breakout_initiation_factor,
+    corrosion_model,
+    fit_corrosion,
+    residual_area_ratio_tensor,
+)
 from assess.updating.gate import require_convergence
 
 PRIOR_A = ZoneCorrosionPrior.from_exposure("exposed deck", initiation_median_years=15.0,

@@ -13,9 +13,16 @@ import pytest
 from scipy import integrate, stats
 
 from assess.errors import InputError
-from assess.worth import (Alternative, DecisionProblem, DirectMeasurement, TwoActionLinearLoss,
-                          posterior_sd, preposterior_sd, unit_normal_loss,
-                          value_of_information)
+from assess.worth import (
+    Alternative,
+    DecisionProblem,
+    DirectMeasurement,
+    TwoActionLinearLoss,
+    posterior_sd,
+    preposterior_sd,
+    unit_normal_loss,
+    value_of_information,
+)
 
 
 @pytest.mark.parametrize("u", [-2.0, -0.5, 0.0, 0.3, 1.0, 2.5, 4.0])

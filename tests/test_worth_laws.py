@@ -16,10 +16,19 @@ import pytest
 from scipy import stats
 
 from assess.errors import InputError
-from assess.worth import (Alternative, BreakoutSurvey, CoreSampling, CustomProgramme,
-                          DecisionProblem, DirectMeasurement, HalfCellSurvey,
-                          LowEffectiveSampleSizeWarning, discount_factors, rank_programmes,
-                          value_of_information)
+from assess.worth import (
+    Alternative,
+    BreakoutSurvey,
+    CoreSampling,
+    CustomProgramme,
+    DecisionProblem,
+    DirectMeasurement,
+    HalfCellSurvey,
+    LowEffectiveSampleSizeWarning,
+    discount_factors,
+    rank_programmes,
+    value_of_information,
+)
 
 N_DRAWS = 4000
 # JCSS PMC Part 3.1, prior for ln f_c of ready-mixed C25: m' = 3.65, n' = 3, s' = 0.12,

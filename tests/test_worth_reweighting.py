@@ -16,8 +16,14 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from assess.worth import (BreakoutSurvey, CoreSampling, DirectMeasurement, HalfCellSurvey,
-                          posterior_weights, summarise_readings)
+from assess.worth import (
+    BreakoutSurvey,
+    CoreSampling,
+    DirectMeasurement,
+    HalfCellSurvey,
+    posterior_weights,
+    summarise_readings,
+)
 
 M0, N0, S0, NU0 = 3.65, 3.0, 0.12, 10.0
 LN_LIMIT = math.log(30.0)  # event "f_c < 30 MPa" at a random point of the zone
@@ -137,9 +143,9 @@ def test_reweighted_update_agrees_with_a_full_mcmc_update():
     combined Monte Carlo standard errors (reweighting: weighted sd / sqrt(ESS);
     MCMC: sd / sqrt(bulk ESS)).
     """
+    from assess.priors.normal_gamma import NormalGamma
     from assess.updating.gate import require_convergence
     from assess.updating.models import group_draws, hierarchical_normal_model, sample_posterior
-    from assess.priors.normal_gamma import NormalGamma
 
     prior = NormalGamma.from_jcss(M0, N0, S0, NU0)
     theta = _prior_draws(40_000, seed=8)

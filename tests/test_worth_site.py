@@ -6,21 +6,26 @@ tests/test_cli_worth.py).
 """
 
 import math
-import tomllib
 import warnings
 from pathlib import Path
 
 import numpy as np
 import pytest
+import tomllib
 from scipy import special, stats
 
 from assess.errors import InputError
 from assess.model import ProbabilisticModel
+from assess.site.worth_decision import (
+    ALTERNATIVE_NAMES,
+    QuadraticSurrogate,
+    add_fixed_quantity,
+    build_site_decision,
+    farthest_point_design,
+)
 from assess.targets import convert_reference_period
 from assess.worth import rank_programmes
 from assess.worth.decision_file import parse_decision_setup, read_decision_setup
-from assess.site.worth_decision import (ALTERNATIVE_NAMES, QuadraticSurrogate, add_fixed_quantity,
-                               build_site_decision, farthest_point_design)
 
 DEMO_DECISIONS = Path(__file__).resolve().parents[1] / "demo_sites" / "tanners-yard" / \
     "decisions.toml"

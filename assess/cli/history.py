@@ -10,8 +10,17 @@ from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.members import new_run, run_with_status
-from assess.cli.options import (DrawsOption, JsonFlag, QuickFlag, SamplerOption, SamplingOption,
-                                SeedOption, SiteFolder, TargetAcceptOption, TuneOption)
+from assess.cli.options import (
+    DrawsOption,
+    JsonFlag,
+    QuickFlag,
+    SamplerOption,
+    SamplingOption,
+    SeedOption,
+    SiteFolder,
+    TargetAcceptOption,
+    TuneOption,
+)
 from assess.errors import InputError
 from assess.reliability.result import format_beta
 from assess.site.settings import DEFAULT_SEED

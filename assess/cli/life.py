@@ -10,9 +10,17 @@ from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.members import _fmt_beta, new_run, run_with_status
-from assess.cli.options import (DrawsOption, JsonFlag, SamplerOption, SamplingOption,
-                                SeedOption, SiteFolder, TargetAcceptOption, TuneOption,
-                                check_samples)
+from assess.cli.options import (
+    DrawsOption,
+    JsonFlag,
+    SamplerOption,
+    SamplingOption,
+    SeedOption,
+    SiteFolder,
+    TargetAcceptOption,
+    TuneOption,
+    check_samples,
+)
 from assess.errors import InputError
 from assess.site.settings import DEFAULT_SEED, QUICK_LIFE_SAMPLES
 

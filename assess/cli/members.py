@@ -9,12 +9,22 @@ import typer
 from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
-from assess.cli.options import (DrawsOption, JsonFlag, QuickFlag, SamplerOption, SamplesOption,
-                                SamplingOption, SeedOption, SiteFolder, TargetAcceptOption,
-                                TuneOption, load_checked_site, make_settings)
+from assess.cli.options import (
+    DrawsOption,
+    JsonFlag,
+    QuickFlag,
+    SamplerOption,
+    SamplesOption,
+    SamplingOption,
+    SeedOption,
+    SiteFolder,
+    TargetAcceptOption,
+    TuneOption,
+    load_checked_site,
+    make_settings,
+)
 from assess.reliability.result import format_beta
 from assess.site.settings import DEFAULT_SEED
-
 
 METHOD_NAMES = ("subset_simulation", "form", "importance_sampling", "crude_monte_carlo")
 
@@ -38,12 +48,15 @@ def new_run(folder, **options):
 
 
 def run_with_status(run, name: str):
-    """Run one step (and what it needs) with a status line on stderr."""
+    """Run one step (and what it needs) under the site lock, with a status line on stderr."""
+    from assess.report.job import LOCK_WAIT_SECONDS
     from assess.site.run import run_step
+    from inspection_io.locking import site_lock
 
-    with err_console.status("Working ...") as status:
-        run.say = lambda text: status.update(text + " ...")
-        return run_step(run, name)
+    with site_lock(run.site.folder, wait_seconds=LOCK_WAIT_SECONDS):
+        with err_console.status("Working ...") as status:
+            run.say = lambda text: status.update(text.replace("[", r"\[") + " ...")
+            return run_step(run, name)
 
 
 @app.command("update")
@@ -114,7 +127,7 @@ def members_command(
     """
     from assess.report.figures import before_after_figure, prior_posterior_figures
     from assess.report.files import save_figure
-    from assess.site.paths import file_stem, plots_folder
+    from assess.site.paths import plots_folder
 
     run = new_run(folder, seed=seed, quick=quick, draws=draws, tune=tune,
                   target_accept=target_accept, sampler=sampler, sampling=sampling,
@@ -128,7 +141,7 @@ def members_command(
                                         "beta-before-after"))
         for (name, zone), fig in prior_posterior_figures(update).items():
             figure_paths.append(save_figure(fig, folder_out,
-                                            file_stem("prior-posterior", name, zone)))
+                                            f"prior-posterior-{name}-{zone}"))
     payload = assessment.to_dict()
     payload["plots"] = [str(p) for p in figure_paths]
     payload["test_data_used"] = update.has_data

@@ -9,9 +9,20 @@ from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.members import _fmt_beta
-from assess.cli.options import (DrawsOption, JsonFlag, QuickFlag, SamplerOption, SamplesOption,
-                                SamplingOption, SeedOption, SiteFolder, TargetAcceptOption,
-                                TuneOption, load_checked_site, make_settings)
+from assess.cli.options import (
+    DrawsOption,
+    JsonFlag,
+    QuickFlag,
+    SamplerOption,
+    SamplesOption,
+    SamplingOption,
+    SeedOption,
+    SiteFolder,
+    TargetAcceptOption,
+    TuneOption,
+    load_checked_site,
+    make_settings,
+)
 from assess.site.settings import DEFAULT_SEED
 
 

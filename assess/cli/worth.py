@@ -11,8 +11,17 @@ from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console
 from assess.cli.members import new_run, run_with_status
-from assess.cli.options import (DrawsOption, JsonFlag, QuickFlag, SamplerOption, SamplingOption,
-                                SeedOption, SiteFolder, TargetAcceptOption, TuneOption)
+from assess.cli.options import (
+    DrawsOption,
+    JsonFlag,
+    QuickFlag,
+    SamplerOption,
+    SamplingOption,
+    SeedOption,
+    SiteFolder,
+    TargetAcceptOption,
+    TuneOption,
+)
 from assess.errors import InputError
 from assess.site.settings import DEFAULT_SEED
 
@@ -55,7 +64,7 @@ def worth_command(
     """
     from assess.report.figures import worth_figure
     from assess.report.files import save_figure
-    from assess.site.paths import file_stem, plots_folder
+    from assess.site.paths import plots_folder
     from assess.site.worth import DESIGN_POINTS
 
     if not 2 <= outcomes <= 100_000:
@@ -82,7 +91,7 @@ def worth_command(
 
         figure = worth_figure(worth)
         plot_path = save_figure(figure, plots_folder(run.site.folder),
-                                file_stem("worth", decision.member))
+                                f"worth-{decision.member}")
         plt.close(figure)
 
     problem = decision.problem

@@ -17,8 +17,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from assess.deterioration.defaults import (CARBONATION, REFERENCE_AGE_YEARS,
-                                           SECONDS_PER_YEAR, check_range)
+from assess.deterioration.defaults import (
+    CARBONATION,
+    REFERENCE_AGE_YEARS,
+    SECONDS_PER_YEAR,
+    check_range,
+)
 
 
 def carbonation_depth(age_years, rate_mm_per_sqrt_year):

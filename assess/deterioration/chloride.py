@@ -40,8 +40,11 @@ from __future__ import annotations
 import numpy as np
 from scipy import special
 
-from assess.deterioration.defaults import (M2_PER_S_TO_MM2_PER_YEAR,
-                                           REFERENCE_TEMPERATURE_K, check_range)
+from assess.deterioration.defaults import (
+    M2_PER_S_TO_MM2_PER_YEAR,
+    REFERENCE_TEMPERATURE_K,
+    check_range,
+)
 from assess.errors import InputError
 
 CONVENTIONS = ("average", "instantaneous")

@@ -24,8 +24,12 @@ import math
 import numpy as np
 from scipy import stats
 
-from assess.deterioration.defaults import (PITTING_FACTOR, PITTING_REFERENCE_LENGTH_MM,
-                                           SECONDS_PER_YEAR, check_range)
+from assess.deterioration.defaults import (
+    PITTING_FACTOR,
+    PITTING_REFERENCE_LENGTH_MM,
+    SECONDS_PER_YEAR,
+    check_range,
+)
 from assess.errors import InputError
 from assess.reliability.crude import resolve_seed
 

@@ -5,15 +5,32 @@ an array; a limit state is built as ``g = theta_R * R(x) - theta_E * E(x)``, wit
 the model uncertainties from `assess.priors.MODEL_UNCERTAINTY`.
 """
 
-from assess.limit_states.flexure import (FlexureDetails, balanced_x_over_d, flexural_capacity,
-                                         flexural_capacity_details, neutral_axis_ratio)
-from assess.limit_states.load_effects import (LOAD_EFFECT_MODEL_UNCERTAINTY_KEY, TRIBUTARY_SHARE,
-                                              OneWayLoadEffects, column_reaction, line_load,
-                                              load_effect_model_uncertainty,
-                                              one_way_load_effects, self_weight_area_load,
-                                              simply_supported_moment, simply_supported_shear)
-from assess.limit_states.punching import (PUNCHING_BETA, PUNCHING_COEFFICIENTS, control_perimeter,
-                                          punching_capacity, reinforcement_ratio)
+from assess.limit_states.flexure import (
+                                         FlexureDetails,
+                                         balanced_x_over_d,
+                                         flexural_capacity,
+                                         flexural_capacity_details,
+                                         neutral_axis_ratio,
+)
+from assess.limit_states.load_effects import (
+                                         LOAD_EFFECT_MODEL_UNCERTAINTY_KEY,
+                                         TRIBUTARY_SHARE,
+                                         OneWayLoadEffects,
+                                         column_reaction,
+                                         line_load,
+                                         load_effect_model_uncertainty,
+                                         one_way_load_effects,
+                                         self_weight_area_load,
+                                         simply_supported_moment,
+                                         simply_supported_shear,
+)
+from assess.limit_states.punching import (
+                                         PUNCHING_BETA,
+                                         PUNCHING_COEFFICIENTS,
+                                         control_perimeter,
+                                         punching_capacity,
+                                         reinforcement_ratio,
+)
 from assess.limit_states.shear import SHEAR_COEFFICIENTS, minimum_shear_strength, shear_capacity
 from assess.priors.model_uncertainty import MODEL_UNCERTAINTY, resistance_model_uncertainty
 

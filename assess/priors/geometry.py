@@ -5,7 +5,6 @@ Source: JCSS Probabilistic Model Code, Part 3.10 "Dimensions".
 
 from __future__ import annotations
 
-
 from assess.errors import InputError
 from assess.priors.distribution import Prior
 

@@ -12,8 +12,12 @@ import math
 import assess
 from assess.reliability.result import format_beta
 from assess.report.document import ReportDocument
-from assess.report.figures import (before_after_figure, life_figure, prior_posterior_figures,
-                                   worth_figure)
+from assess.report.figures import (
+    before_after_figure,
+    life_figure,
+    prior_posterior_figures,
+    worth_figure,
+)
 from assess.site.knowledge import LABELS, knowledge_rows
 from assess.site.run import DONE, SKIPPED
 

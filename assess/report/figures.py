@@ -2,9 +2,14 @@
 
 from __future__ import annotations
 
+from assess.report.plots import (
+    plot_beta_before_after,
+    plot_beta_over_time,
+    plot_preposterior_beta,
+    plot_prior_posterior,
+)
 from assess.site.knowledge import LABELS, QUANTITIES, predictive_draws
-from assess.report.plots import (plot_beta_before_after, plot_beta_over_time,
-                                 plot_preposterior_beta, plot_prior_posterior)
+
 
 def prior_posterior_figures(update) -> dict:
     """One figure per (quantity, zone) that has data: design prior vs posterior predictive."""

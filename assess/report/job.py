@@ -13,27 +13,39 @@ from typing import Callable
 
 from assess.pipeline import run_site
 from assess.report.assemble import build_report
-from assess.report.writer import write_report
+from assess.report.writer import recover_unfinished_reports, write_report
 from assess.site.paths import reports_folder
 from assess.site.settings import RunSettings
+from assess.updating.cache import clean_stale_temporaries
+from inspection_io.locking import site_lock
+
+LOCK_WAIT_SECONDS = 60.0
+"""How long a second run on the same site waits for the first before it gives up [s]."""
 
 
 def write_site_report(run) -> tuple[Path, Path]:
     """Write the report of a `SiteRun`; returns the HTML and JSON paths."""
     document, numbers = build_report(run)
     folder = reports_folder(run.site.folder)
-    folder.mkdir(parents=True, exist_ok=True)
     html_path, json_path = write_report(folder, folder, document, numbers)
     return Path(html_path), Path(json_path)
 
 
 def run_and_report(folder: Path, settings: RunSettings | None = None, *,
                    say: Callable[[str], None] | None = None):
-    """`run_site` and `write_site_report`: returns (run, html_path, json_path)."""
-    run = run_site(folder, settings, say=say)
-    if say:
-        say("Writing the report")
-    html_path, json_path = write_site_report(run)
+    """`run_site` and `write_site_report` under the site lock: (run, html_path, json_path).
+
+    A second run on the same site waits up to `LOCK_WAIT_SECONDS` and is then
+    refused (`inspection_io.locking.SiteBusyError`); files left half-written by a
+    run that was killed are removed first.
+    """
+    with site_lock(folder, wait_seconds=LOCK_WAIT_SECONDS):
+        recover_unfinished_reports([reports_folder(folder)], older_than=0)
+        clean_stale_temporaries(folder)
+        run = run_site(folder, settings, say=say)
+        if say:
+            say("Writing the report")
+        html_path, json_path = write_site_report(run)
     return run, html_path, json_path
 
 

@@ -1,17 +1,18 @@
 """Where a site's files live: the ledger, stored posteriors, plots and reports.
 
 Every path of a site folder is made here, so that no other module spells a file
-name out. Ids of zones and members that become part of a file name go through
-`file_stem`, so that no id can lead a file outside the site folder.
+name out. Folders are made through `inspection_io.paths.site_subfolder`, which
+refuses a link that leads outside the site; ids of zones and members that become
+part of a file name go through `inspection_io.paths.safe_file_stem` (in
+`assess.report.files.save_figure`).
 """
 
 from __future__ import annotations
 
-import hashlib
-import re
 from pathlib import Path
 
 from inspection_io.ledger import LEDGER_NAME
+from inspection_io.paths import site_subfolder
 
 RESULTS = Path("results")
 PLOTS = RESULTS / "plots"
@@ -29,29 +30,13 @@ def has_ledger(folder: Path) -> bool:
 
 
 def plots_folder(folder: Path) -> Path:
-    return Path(folder) / PLOTS
+    """``results/plots`` of the site, created; refused when a link leads it outside the site."""
+    return site_subfolder(folder, *PLOTS.parts)
 
 
 def reports_folder(folder: Path) -> Path:
-    return Path(folder) / REPORTS
+    """``results/reports`` of the site, created; refused when a link leads it outside."""
+    return site_subfolder(folder, *REPORTS.parts)
 
 
-_UNSAFE = re.compile(r"[^A-Za-z0-9._-]")
-
-
-def file_stem(*parts: str) -> str:
-    """A file-name stem made of ids: only letters, digits, '.', '_' and '-'.
-
-    Any other character (path separators, control characters, spaces) becomes
-    '_', a leading '.' is dropped, and a short hash of the original text is
-    added whenever something was changed, so that two different ids never share
-    a file name.
-    """
-    text = "-".join(str(p) for p in parts)
-    safe = _UNSAFE.sub("_", text).lstrip(".") or "_"
-    if safe != text:
-        safe = f"{safe[:80]}-{hashlib.sha256(text.encode()).hexdigest()[:8]}"
-    return safe
-
-
-__all__ = ["file_stem", "has_ledger", "ledger_path", "plots_folder", "reports_folder"]
+__all__ = ["has_ledger", "ledger_path", "plots_folder", "reports_folder"]

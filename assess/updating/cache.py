@@ -58,8 +58,14 @@ def content_hash(kind: str, payload: dict) -> str:
 
 
 def posterior_path(site_folder: Path, kind: str, digest: str) -> Path:
-    """Where the posterior of ``kind`` with input hash ``digest`` is stored."""
-    return Path(site_folder) / POSTERIOR_FOLDER / f"{kind}-{digest[:12]}.nc"
+    """Where the posterior of ``kind`` with input hash ``digest`` is stored.
+
+    The folder is made through `inspection_io.paths.site_subfolder`, which refuses a
+    link that leads it outside the site folder.
+    """
+    from inspection_io.paths import site_subfolder
+
+    return site_subfolder(site_folder, *POSTERIOR_FOLDER.parts) / f"{kind}-{digest[:12]}.nc"
 
 
 def read_posterior(path: Path):
@@ -93,15 +99,16 @@ def set_aside(path: Path) -> Path:
     return target
 
 
-def clean_stale_temporaries(site_folder: Path) -> list[Path]:
-    """Remove temporary posterior files left by a run that was killed while writing."""
-    folder = Path(site_folder) / POSTERIOR_FOLDER
-    removed = []
-    if folder.is_dir():
-        for tmp in folder.glob(".*.nc.tmp"):
-            tmp.unlink(missing_ok=True)
-            removed.append(tmp)
-    return removed
+def clean_stale_temporaries(site_folder: Path, *, older_than: float = 0.0) -> list[Path]:
+    """Remove temporary posterior files left by a run that was killed while writing.
+
+    Call it while holding the site lock (`inspection_io.locking.site_lock`), so that
+    no running fit's file is taken for a stale one.
+    """
+    from inspection_io.paths import remove_stale_temporaries
+
+    return remove_stale_temporaries(Path(site_folder) / POSTERIOR_FOLDER, ".*.nc.tmp",
+                                    older_than=older_than)
 
 
 @dataclasses.dataclass(frozen=True)

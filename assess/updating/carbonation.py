@@ -30,8 +30,7 @@ import math
 import numpy as np
 
 from assess.errors import InputError
-from assess.updating.chloride import (check_observation_vector, check_zone_index,
-                                      sampler_seed)
+from assess.updating.chloride import check_observation_vector, check_zone_index, sampler_seed
 from assess.updating.gate import GateReport, require_convergence
 from assess.updating.models import sample_posterior
 

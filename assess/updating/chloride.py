@@ -44,11 +44,16 @@ from numbers import Integral
 import numpy as np
 
 from assess.deterioration import chloride as chloride_forward
-from assess.deterioration.defaults import (AGEING_EXPONENT, CRITICAL_CHLORIDE,
-                                           M2_PER_S_TO_MM2_PER_YEAR,
-                                           RAPID_MIGRATION_COEFFICIENT_CEM_I,
-                                           REFERENCE_AGE_YEARS, REFERENCE_TEMPERATURE_K,
-                                           TEMPERATURE_COEFFICIENT, DistributionSpec)
+from assess.deterioration.defaults import (
+    AGEING_EXPONENT,
+    CRITICAL_CHLORIDE,
+    M2_PER_S_TO_MM2_PER_YEAR,
+    RAPID_MIGRATION_COEFFICIENT_CEM_I,
+    REFERENCE_AGE_YEARS,
+    REFERENCE_TEMPERATURE_K,
+    TEMPERATURE_COEFFICIENT,
+    DistributionSpec,
+)
 from assess.errors import InputError
 from assess.updating.gate import GateReport, require_convergence
 from assess.updating.models import sample_posterior

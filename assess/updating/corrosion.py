@@ -74,8 +74,12 @@ from assess.deterioration.corrosion import FARADAY_MM_PER_YEAR_PER_UA_CM2
 from assess.deterioration.defaults import CORROSION_RATE, HALF_CELL_LIKELIHOOD, lookup
 from assess.deterioration.halfcell import potential_log_likelihood
 from assess.errors import InputError
-from assess.updating.chloride import (check_observation_vector, check_zone_index,
-                                      check_zone_names, sampler_seed)
+from assess.updating.chloride import (
+    check_observation_vector,
+    check_zone_index,
+    check_zone_names,
+    sampler_seed,
+)
 from assess.updating.gate import GateReport, require_convergence
 from assess.updating.models import sample_posterior
 

@@ -10,16 +10,31 @@
 Decision support only: results depend on the inputs; licensed engineers decide.
 """
 
-from assess.worth.closed_form import (TwoActionLinearLoss, posterior_sd, preposterior_sd,
-                                      unit_normal_loss)
-from assess.worth.decision import (Alternative, DecisionProblem, discount_factors,
-                                   expected_cost)
-from assess.worth.preposterior import (LowEffectiveSampleSizeWarning, ProgrammeRanking,
-                                       WorthResult, posterior_weights, rank_programmes,
-                                       recommendation_text, value_of_information)
-from assess.worth.programmes import (BreakoutSurvey, CoreSampling, CustomProgramme,
-                                     DirectMeasurement, HalfCellSurvey, Programme,
-                                     summarise_readings)
+from assess.worth.closed_form import (
+                                      TwoActionLinearLoss,
+                                      posterior_sd,
+                                      preposterior_sd,
+                                      unit_normal_loss,
+)
+from assess.worth.decision import Alternative, DecisionProblem, discount_factors, expected_cost
+from assess.worth.preposterior import (
+                                      LowEffectiveSampleSizeWarning,
+                                      ProgrammeRanking,
+                                      WorthResult,
+                                      posterior_weights,
+                                      rank_programmes,
+                                      recommendation_text,
+                                      value_of_information,
+)
+from assess.worth.programmes import (
+                                      BreakoutSurvey,
+                                      CoreSampling,
+                                      CustomProgramme,
+                                      DirectMeasurement,
+                                      HalfCellSurvey,
+                                      Programme,
+                                      summarise_readings,
+)
 
 __all__ = [
     "Alternative", "BreakoutSurvey", "CoreSampling", "CustomProgramme", "DecisionProblem",

@@ -59,8 +59,9 @@ from __future__ import annotations
 
 import dataclasses
 import math
-import tomllib
 from pathlib import Path
+
+import tomllib
 
 from assess.errors import InputError
 

@@ -18,8 +18,15 @@ import pandas as pd
 from inspection_io import screening, units
 from inspection_io.cores import CoreCorrections
 from inspection_io.errors import InputError
-from inspection_io.readers import (carbonation, chloride, cores, cover, halfcell, section_loss,
-                                   tensile)
+from inspection_io.readers import (
+    carbonation,
+    chloride,
+    cores,
+    cover,
+    halfcell,
+    section_loss,
+    tensile,
+)
 from inspection_io.readers._common import Context, KindSpec, parse_rows, resolve_columns
 from inspection_io.tables import Header, load_table, parse_header
 
