@@ -40,7 +40,7 @@ __all__ = [
 ]
 
 OUTLIER_ALPHA = 0.05
-#: Cores below this diameter are outside EN 13791:2019 [mm] (domain notes §2.2).
+#: Cores below this diameter are outside EN 13791:2019 [mm].
 MIN_CORE_DIAMETER = 50.0
 
 BAR_IN_CORE = "bar_in_core"

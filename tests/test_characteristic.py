@@ -14,7 +14,7 @@ from inspection_io.summary import core_zone_summary, summarise, summary_to_dict
 DATA = Path(__file__).parent / "data_files"
 
 # EN 1990:2002 Annex D, Table D1: k_n for the 5 % characteristic value
-# (values as in /work/shared/domain-notes.md §2.1, checked against a quoted copy).
+# (values checked against a quoted copy of the table).
 TABLE_D1_N = [1, 2, 3, 4, 5, 6, 8, 10, 20, 30, math.inf]
 TABLE_D1_V_KNOWN = [2.31, 2.01, 1.89, 1.83, 1.80, 1.77, 1.74, 1.72, 1.68, 1.67, 1.64]
 TABLE_D1_V_UNKNOWN = [None, None, 3.37, 2.63, 2.33, 2.18, 2.00, 1.92, 1.76, 1.73, 1.64]

@@ -138,7 +138,7 @@ def test_ledger_profiles_are_in_percent_binder_with_mid_depths(site):
     # 3 campaigns x 4 zones x 3 profiles x 6 increments of 10 mm (demo_sites/README.md)
     assert chloride["chloride"].size == 216
     assert set(np.unique(chloride["depth_mm"])) == {5.0, 15.0, 25.0, 35.0, 45.0, 55.0}
-    # 2009 values were given in % of concrete: x 2400 / 350 to % binder (domain notes 4.2)
+    # 2009 values were given in % of concrete: x 2400 / 350 to % binder
     first = chloride["age_years"] < 36
     assert chloride["chloride"][first].max() > 1.0
     assert set(data.covers) == set(site.zones) and all(c.n >= 2 for c in data.covers.values())

@@ -72,7 +72,7 @@ def test_lognormal_parameters_textbook():
 
 
 def test_gumbel_parameters_textbook():
-    # alpha = pi / (sigma sqrt 6), u = mu - 0.5772 / alpha (textbook; domain-notes 1.5, from memory)
+    # alpha = pi / (sigma sqrt 6), u = mu - 0.5772 / alpha (textbook, from memory)
     dist = make_distribution("gumbel", mean=3.0, std=0.9)
     alpha = math.pi / (0.9 * math.sqrt(6))
     assert 1 / dist.params["scale"] == pytest.approx(alpha, rel=1e-14)

@@ -4,7 +4,7 @@ References
 - Closed form of a time-variant R(t) - S problem (R lognormal with deterministic
   exponential decay, S normal): pf(t) = integral of F_R(s exp(k t)) f_S(s) ds, evaluated
   with scipy.integrate.quad and scipy.stats densities (outside reference).
-- Faraday's law, uniform corrosion (domain notes 4.4): D(t) = D0 - 2 0.0116 i_corr t_p,
+- Faraday's law, uniform corrosion: D(t) = D0 - 2 0.0116 i_corr t_p,
   A = pi D^2 / 4; 1 uA/cm2 = 11.6 um/yr (0.01163 mm/yr computed from Faraday's constant).
 - Gaussian copula with lognormal marginals: the log draws are bivariate normal; the
   standard error of a sample correlation is about (1 - rho^2) / sqrt(n) (Fisher 1921,
@@ -109,7 +109,7 @@ def test_remaining_life_statuses():
 
 def test_area_factor_follows_faraday_uniform_corrosion():
     # t_i = 10 yr, i_corr = 1 uA/cm2, D0 = 12 mm, from age 40 to age 50:
-    # D = D0 - 2 x 0.01163 x t_p (domain notes 4.4), A ratio = (D50 / D40)^2
+    # D = D0 - 2 x 0.01163 x t_p, A ratio = (D50 / D40)^2
     rate = 0.01163
     expected = ((12 - 2 * rate * 40) / (12 - 2 * rate * 30)) ** 2
     got = area_factor(np.array([10.0]), np.array([1.0]), 50.0, 40.0, 12.0)

@@ -45,7 +45,7 @@ def build_mixed_model():
     model.add("fy", make_distribution("normal", mean=560.0, std=30.0))  # [MPa]
     model.add("q", make_distribution("gumbel", mean=2.0, std=0.6))  # [kN/m2]
     model.add("cover", make_distribution("weibull", mean=45.0, std=9.0))  # [mm]
-    # tensile strength f_ct = 0.3 f_c^(2/3) Y2, Y2 with CoV 0.30 (JCSS PMC 3.1.2, domain-notes 1.1)
+    # tensile strength f_ct = 0.3 f_c^(2/3) Y2, Y2 with CoV 0.30 (JCSS PMC 3.1.2)
     model.add_conditional("fct", "lognormal", ["fc"],
                           lambda p: {"mean": 0.3 * p["fc"] ** (2 / 3),
                                      "std": 0.30 * 0.3 * p["fc"] ** (2 / 3)})

@@ -18,8 +18,8 @@ def normal(name=None):
     return make_distribution("normal", mean=0.0, std=1.0, name=name)
 
 
-def test_lognormal_pair_domain_notes_value():
-    # delta 0.15 / 0.25, rho 0.5 -> rho0 = 0.506 (domain-notes sec. 6, computed from the
+def test_lognormal_pair_closed_form_value():
+    # delta 0.15 / 0.25, rho 0.5 -> rho0 = 0.506 (computed from the
     # Liu & Der Kiureghian 1986 Table 2 closed form)
     rho0 = nataf_correlation(lognormal(0.15), lognormal(0.25), 0.5)
     assert rho0 == pytest.approx(0.506, abs=5e-4)
@@ -103,7 +103,7 @@ def test_matrix_corrected_pairwise():
     R = np.array([[1.0, 0.5, 0.0], [0.5, 1.0, 0.5], [0.0, 0.5, 1.0]])
     R0 = corrected_correlation_matrix(dists, R)
     assert R0[0, 1] == R0[1, 0] == pytest.approx(nataf_correlation(dists[0], dists[1], 0.5))
-    assert R0[1, 2] == pytest.approx(0.506, abs=5e-4)  # domain-notes value (computed)
+    assert R0[1, 2] == pytest.approx(0.506, abs=5e-4)  # closed-form value (computed)
     assert R0[0, 2] == 0.0
     np.testing.assert_array_equal(np.diag(R0), 1.0)
 

@@ -31,7 +31,7 @@ from assess.priors import (
     warn_if_characteristic,
 )
 
-# JCSS PMC Part 3.1 prior table for ln f_c (domain notes 1.1), with the [computed] columns
+# JCSS PMC Part 3.1 prior table for ln f_c with the [computed] columns
 # "median e^m'" and "predictive 5 %" [MPa].
 JCSS_TABLE = [
     ("ready-mixed", "C15", 3.40, 3.0, 0.14, 10, 30.0, 22.4),
@@ -54,7 +54,7 @@ def test_concrete_prior_table_and_predictive_5_percent(production, cls, m, n, s,
     assert predictive_quantile(prior, 0.05) == pytest.approx(p05, abs=0.1)
 
 
-# EN 1990:2002 Annex D Table D1, "V unknown" k_n for the 5 % fractile (domain notes 2.1).
+# EN 1990:2002 Annex D Table D1, "V unknown" k_n for the 5 % fractile.
 # Tolerance 0.015: the tabulated values are rounded (n = 20: table 1.76, t-formula 1.772).
 EN1990_D1_V_UNKNOWN = {3: 3.37, 4: 2.63, 5: 2.33, 6: 2.18, 8: 2.00, 10: 1.92, 20: 1.76, 30: 1.73}
 
@@ -144,7 +144,7 @@ def test_steel_yield_prior():
     assert math.sqrt(19 ** 2 + 22 ** 2 + 8 ** 2) == pytest.approx(30.0, abs=0.15)
     b500 = steel_yield_prior("B500B")
     assert (b500.kind, b500.mean, b500.std) == ("normal", 560.0, 30.0)
-    assert b500.cov == pytest.approx(0.054, abs=0.0005)  # domain notes 1.2 [computed]
+    assert b500.cov == pytest.approx(0.054, abs=0.0005)  # computed
     assert steel_yield_prior("S410").mean == 470.0
     with pytest.raises(InputError, match="grade"):
         steel_yield_prior("mild")
@@ -194,7 +194,7 @@ def test_imposed_load_gumbel_and_period_shift():
     x = np.array([1.0, 2.0, 3.0, 4.0])
     np.testing.assert_allclose(q100.to_scipy().cdf(x), q50.to_scipy().cdf(x) ** 2, rtol=1e-10)
     assert q100.std == pytest.approx(q50.std)
-    # annual CoV 0.30 -> 50-year CoV 0.157 (domain notes 1.5 [computed])
+    # annual CoV 0.30 -> 50-year CoV 0.157 (computed)
     annual_to_50 = imposed_load_prior(2.5, "F", 50, mean_ratio=0.3, cov=0.30, model_period_years=1)
     assert annual_to_50.cov == pytest.approx(0.157, abs=0.001)
 
@@ -207,7 +207,7 @@ def test_imposed_load_refuses_invalid_down_scaling():
 
 
 def test_model_uncertainty_table_and_pairings():
-    # JCSS PMC Part 3.9 (domain notes 1.6)
+    # JCSS PMC Part 3.9
     assert MODEL_UNCERTAINTY["jcss_rc_bending"][:3] == ("lognormal", 1.2, 0.15)
     assert MODEL_UNCERTAINTY["jcss_rc_shear"][:3] == ("lognormal", 1.4, 0.25)
     jcss = model_uncertainty_prior("jcss_rc_shear")

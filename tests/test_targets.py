@@ -9,7 +9,7 @@ from assess.targets import Target, convert_reference_period, target_beta, verdic
 
 
 @pytest.mark.parametrize("cost, cc, beta", [
-    # JCSS PMC Part 1 section 7 / ISO 2394 Annex G cost-optimal annual targets (domain notes 3.3)
+    # JCSS PMC Part 1 section 7 / ISO 2394 Annex G cost-optimal annual targets
     ("high", "CC1", 3.1), ("high", "CC2", 3.3), ("high", "CC3", 3.7),
     ("normal", "CC1", 3.7), ("normal", "CC2", 4.2), ("normal", "CC3", 4.4),
     ("low", "CC1", 4.2), ("low", "CC2", 4.4), ("low", "CC3", 4.7),
@@ -38,7 +38,7 @@ def test_iso13822_table_without_conversion():
 
 
 def test_reference_period_conversion_en1990_pair():
-    # EN 1990 Annex C: beta_1 = 4.7 <-> beta_50 = 3.8 (domain notes 3.1 [computed] 3.83)
+    # EN 1990 Annex C: beta_1 = 4.7 <-> beta_50 = 3.8 (computed: 3.83)
     assert convert_reference_period(4.7, 1, 50) == pytest.approx(3.83, abs=0.005)
     assert convert_reference_period(3.8263, 50, 1) == pytest.approx(4.7, abs=1e-3)
     # independent: p_50 = 1 - (1 - p_1)^50 with scipy

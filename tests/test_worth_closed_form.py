@@ -2,8 +2,7 @@
 
 Source of every closed form here: Raiffa & Schlaifer (1961) *Applied Statistical
 Decision Theory*, Harvard University, two actions with linear loss, normal prior on an
-unknown mean, normal sampling with known standard deviation (from memory; also
-/work/shared/domain-notes.md section 7).
+unknown mean, normal sampling with known standard deviation (from memory).
 """
 
 import math
@@ -35,7 +34,7 @@ def test_unit_normal_loss_against_numerical_integration(u):
 
 
 def test_unit_normal_loss_tabulated_values():
-    # G(0) = 1/sqrt(2 pi) = 0.3989 and G(1) = 0.0833 (domain notes section 7, [computed]).
+    # G(0) = 1/sqrt(2 pi) = 0.3989 and G(1) = 0.0833 (computed).
     assert unit_normal_loss(0.0) == pytest.approx(0.3989, abs=5e-5)
     assert unit_normal_loss(1.0) == pytest.approx(0.0833, abs=5e-5)
 

@@ -32,7 +32,7 @@ from assess.worth import (
 
 N_DRAWS = 4000
 # JCSS PMC Part 3.1, prior for ln f_c of ready-mixed C25: m' = 3.65, n' = 3, s' = 0.12,
-# nu' = 10 (domain notes section 1.1). The member and costs below are invented.
+# nu' = 10. The member and costs below are invented.
 M0, N0, S0, NU0 = 3.65, 3.0, 0.12, 10.0
 LN_REQUIRED = math.log(24.0)
 OTHER_SD = 0.10

@@ -2,7 +2,7 @@
 
 Every entry names its source. Values tagged "(from memory)" were recalled, not
 re-read from the publication, and must be confirmed before they are relied on
-(see the domain notes, section 9). Tables hold plain data (`DistributionSpec`)
+(the list is in docs/deterioration-updating.md). Tables hold plain data (`DistributionSpec`)
 so that the Monte Carlo routines and the Bayesian priors read the same numbers.
 
 Units: depths and covers [mm], time [yr], chloride [% by mass of binder],
@@ -204,7 +204,7 @@ PITTING_FACTOR = DistributionSpec(
 
 PITTING_REFERENCE_LENGTH_MM = 125.0
 """Bar length L0 to which `PITTING_FACTOR` refers [mm]; Stewart 2004 (from memory;
-the domain notes give 100-125 mm - confirm)."""
+100-125 mm are quoted - confirm)."""
 
 PITTING_FACTOR_RANGE = (4.0, 8.0)
 """Deterministic range of R reported by Gonzalez et al. 1995 [-] (from memory)."""
@@ -231,7 +231,7 @@ CARBONATION = MappingProxyType({
                                            f"{_FIB34}; k_t of the ACC test"),
     "error_term_m2_s_per_kg_m3": DistributionSpec(
         "normal", {"mean": 1.0e-11, "sd": 0.15e-11}, "[(m2/s)/(kg/m3)]",
-        f"{_FIB34}; epsilon_t. The domain notes quote 315.5 and 48 'x 1e-11 (m2/s)/(kg/m3)'; "
+        f"{_FIB34}; epsilon_t. Quoted elsewhere as 315.5 and 48 'x 1e-11 (m2/s)/(kg/m3)'; "
         "315.5 and 48 are the same values expressed in (mm2/yr)/(kg/m3)"),
     "co2_kg_m3": 8.2e-4,
     "weather_exponent_b_w": DistributionSpec("normal", {"mean": 0.446, "sd": 0.163}, "[-]",

@@ -1,7 +1,7 @@
 """Bending resistance of a singly reinforced rectangular RC section, mean-value form.
 
 Source: EN 1992-1-1:2004 3.1.7(3) rectangular stress block (lambda = 0.8, eta = 1.0
-for f_c <= 50 MPa) with all partial factors and alpha_cc equal to 1 (domain notes 5.1).
+for f_c <= 50 MPa) with all partial factors and alpha_cc equal to 1.
 """
 
 from __future__ import annotations

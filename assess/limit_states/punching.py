@@ -1,7 +1,7 @@
 """Punching resistance of flat slabs at columns without shear reinforcement, mean-value form.
 
 Source: EN 1992-1-1:2004 6.4.2 (control perimeter), 6.4.3(6) (beta factors) and
-6.4.4(1) (resistance), with partial factors 1 and a mean coefficient (domain notes 5.3).
+6.4.4(1) (resistance), with partial factors 1 and a mean coefficient.
 """
 
 from __future__ import annotations

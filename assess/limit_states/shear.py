@@ -1,7 +1,7 @@
 """Shear resistance of members without shear reinforcement, mean-value form.
 
 Source: EN 1992-1-1:2004 6.2.2(1), expression (6.2.a)/(6.2.b), with all partial
-factors equal to 1 and a mean coefficient in place of C_Rd,c (domain notes 5.2, 5.4).
+factors equal to 1 and a mean coefficient in place of C_Rd,c.
 """
 
 from __future__ import annotations

@@ -21,7 +21,7 @@ beta(t) is an *annual* reliability index: the probability that the member
 fails in year t under the annual maximum load, with the resistance it has in
 year t. It is compared with the annual target of `assess.targets` (JCSS / ISO
 2394 annual values). It is not the probability of failure over (t0, t]; that
-cumulative probability is larger (domain notes section 8; Mori & Ellingwood
+cumulative probability is larger (Mori & Ellingwood
 1993, Struct. Saf. 12, from memory).
 
 Estimator

@@ -77,7 +77,7 @@ CEMENT_ALIASES = {"CEM I": "CEM I", "fly ash": "fly ash", "CEM III": "GGBS", "GG
 
 CEM_III_RAPID_MIGRATION_M2_PER_S = 2.4e-12
 """D_RCM,0 of a CEM III/B concrete [m2/s]: middle of the 1.4-3.4e-12 m2/s quoted in
-the domain notes (fib Bulletin 34 Annex B, from memory)."""
+fib Bulletin 34 Annex B (from memory)."""
 
 DIFFUSION_LOG_SD = 1.0
 """Standard deviation of ln D_ref in the default prior [-]: a factor e at one sd,
