@@ -139,6 +139,7 @@ def assess_members(
     importance: bool = True,
     members=None,
     progress: Callable[[str], None] | None = None,
+    known_before: dict | None = None,
 ) -> Assessment:
     """Beta before and after updating for every member, mode and member system.
 
@@ -157,6 +158,11 @@ def assess_members(
         Only these members.
     progress : callable, optional
         Called with a short text after each member.
+    known_before : dict, optional
+        (member, mode) -> `ReliabilityResult` of the "before" state already computed
+        with the same method, options and seed (e.g. by the members step of the same
+        run); reused instead of sampled again. Without test data "after" is "before"
+        and is not sampled twice either.
     """
     options = dict(options or {})
     period = float(site.target.reference_period)
@@ -183,10 +189,16 @@ def assess_members(
         for group in groups:
             label = group[0] if len(group) == 1 else "system"
             run_seed = _analysis_seed(seed, member_id, label)
-            outcome = {
-                state: run_method(models[state].problem(group), method, seed=run_seed, **options)
-                for state in ("before", "after")
-            }
+            before = (known_before or {}).get((member_id, label))
+            if before is None:
+                before = run_method(
+                    models["before"].problem(group), method, seed=run_seed, **options
+                )
+            if update.after is update.before:  # no test data: the same model
+                after = before
+            else:
+                after = run_method(models["after"].problem(group), method, seed=run_seed, **options)
+            outcome = {"before": before, "after": after}
             form_after = None
             if importance and label != "system":
                 form_after = run_method(models["after"].problem(group), "form")

@@ -64,29 +64,51 @@ def campaign_cutoffs(ledger: Ledger) -> list[tuple[str, dt.date, dt.date]]:
 
 
 def reassess_history(
-    site, *, settings: RunSettings | None = None, method: str = "subset_simulation", progress=None
+    site,
+    *,
+    settings: RunSettings | None = None,
+    method: str = "subset_simulation",
+    progress=None,
+    current=None,
 ) -> list[CampaignAssessment]:
     """Re-assess the site as of each campaign, with only the data known then.
 
     Each cut-off gets its own materials update (cached like every fit) and
     before/after table; `history_ledger_rows` gives the rows to record.
+
+    ``current`` is the `Assessment` of the same run (members step), if any. When it
+    was made with the same method, options and seed, its "before" column (the same
+    design-stage belief at every cut-off) is reused, and a cut-off whose data equal
+    the current ones (same posterior hash) reuses the whole table: nothing is
+    sampled twice.
     """
     settings = settings or RunSettings()
     if not has_ledger(site.folder):
         return []
     with Ledger(ledger_path(site.folder)) as ledger:
         cutoffs = campaign_cutoffs(ledger)
+    same_runs = (
+        current is not None
+        and current.method == method
+        and current.seed == settings.seed
+        and current.options == settings.reliability_options
+    )
+    known_before = {(r.member, r.mode): r.before for r in current.results} if same_runs else None
     history = []
     for name, date, until in cutoffs:
         update = update_site(site, settings=settings, until_date=until)
-        assessment = assess_members(
-            site,
-            update,
-            method=method,
-            seed=settings.seed,
-            options=settings.reliability_options,
-            importance=False,
-        )
+        if same_runs and update.data_hash == current.posterior_hash:
+            assessment = current
+        else:
+            assessment = assess_members(
+                site,
+                update,
+                method=method,
+                seed=settings.seed,
+                options=settings.reliability_options,
+                importance=False,
+                known_before=known_before,
+            )
         history.append(CampaignAssessment(name, date, until, update.counts(), assessment))
         if progress:
             progress(name)

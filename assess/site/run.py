@@ -232,7 +232,14 @@ def _worth(run: SiteRun):
 def _history(run: SiteRun):
     from assess.site.history import reassess_history
 
-    return SiteHistory(reassess_history(run.site, settings=run.settings))
+    members = run.result("members")
+    if members is not None and run.members is not None:
+        members = None  # a partial members table cannot stand for the whole site
+    return SiteHistory(
+        reassess_history(
+            run.site, settings=run.settings, method=run.settings.method, current=members
+        )
+    )
 
 
 _STEPS: dict[str, Callable[[SiteRun], Any]] = {
