@@ -16,6 +16,7 @@ import warnings
 
 import typer
 from rich.console import Console
+from rich.text import Text
 
 import assess
 from assess.cautions import CAUTION
@@ -28,6 +29,7 @@ app = typer.Typer(
     no_args_is_help=True,
     pretty_exceptions_enable=False,
     add_completion=False,
+    rich_markup_mode=None,  # help text is plain: units in brackets such as [MPa] stay visible
 )
 
 err_console = Console(stderr=True)
@@ -50,11 +52,16 @@ def _root(version: bool = typer.Option(False, "--version", callback=_version_cal
 _shown_warnings: set = set()
 
 
+def plain(label: str, style: str, text: str) -> Text:
+    """A styled label and plain text: nothing in ``text`` is read as console markup."""
+    return Text.assemble((label, style), str(text))
+
+
 def _show_warning(message, category, filename, lineno, file=None, line=None):
     text = str(message)
     if text not in _shown_warnings:
         _shown_warnings.add(text)
-        err_console.print(f"[yellow]Warning:[/] {text}", highlight=False, soft_wrap=True)
+        err_console.print(plain("Warning: ", "yellow", text), highlight=False, soft_wrap=True)
 
 
 def quiet_libraries() -> None:
@@ -79,10 +86,12 @@ def guarded():
     try:
         yield
     except InputError as exc:
-        err_console.print(f"[bold red]Input error:[/] {exc}", highlight=False, soft_wrap=True)
+        err_console.print(plain("Input error: ", "bold red", str(exc)), highlight=False,
+                          soft_wrap=True)
         raise typer.Exit(code=2)
     except AnalysisError as exc:
-        err_console.print(f"[bold red]Analysis failed:[/] {exc}", highlight=False, soft_wrap=True)
+        err_console.print(plain("Analysis failed: ", "bold red", str(exc)), highlight=False,
+                          soft_wrap=True)
         raise typer.Exit(code=1)
 
 
@@ -99,7 +108,7 @@ def guard(func):
 
 def print_caution():
     """Print the standing caution to stderr (results stay clean on stdout)."""
-    err_console.print(f"[dim]{CAUTION}[/]", highlight=False, soft_wrap=True)
+    err_console.print(plain("", "dim", CAUTION), style="dim", highlight=False, soft_wrap=True)
 
 
 def _json_ready(value):
