@@ -7,9 +7,8 @@ ends up on the engineer's screen:
   ``[bold]``, ``[/x]`` ... as style tags. A cell holding ``[/x]`` makes rich's
   markup parser raise, and ``'diameter [unit]'`` loses its ``[unit]``. Every
   user-derived text printed with markup must pass through `escape_markup` first
-  (the same rule as rich's own ``rich.markup.escape``: a backslash before each
-  tag-like ``[...]``, backslashes in front of it doubled, a trailing backslash
-  doubled so that markup placed after the text stays markup).
+  (rich's own rule, a backslash before each tag-like ``[...]``, made exact for
+  backslashes before other ``[`` and at the end of the text).
 - `quote_cell`: how a cell is shown inside a message: control characters
   (NUL, escape sequences, line breaks) as visible ``\\xNN`` escapes and long
   cells cut to a head with their length stated, so a 5 MB cell never becomes a
@@ -27,12 +26,19 @@ CELL_PREVIEW_CHARS = 40
 
 # the tag pattern of rich's markup parser (rich.markup.RE_TAGS): "[" + a letter,
 # "#", "/" or "@" + anything up to the next "]" without another "["
-_TAG = re.compile(r"(\\*)(\[[a-z#/@][^[]*?])")
+_RUN = re.compile(r"(\\*)(\[[a-z#/@][^[]*?]|\[|\Z)")
 _CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029\u200b-\u200f\u202a-\u202e\u2066-\u2069]")
 
 
 def escape_markup(text: str) -> str:
     """Escape `text` so that rich console markup shows it literally.
+
+    Rules, from rich's markup parser (``rich.markup``): a run of backslashes
+    before a tag-like ``[...]`` is doubled and one more backslash escapes the
+    tag (as ``rich.markup.escape`` does); a run of backslashes before any other
+    ``[`` gets one more backslash (rich turns ``\\[`` into ``[`` in plain
+    text); a run of backslashes at the end is doubled, so that a tag placed
+    after the text stays a tag (rich's escape only handles a single one).
 
     Parameters
     ----------
@@ -42,20 +48,22 @@ def escape_markup(text: str) -> str:
     Returns
     -------
     str
-        Text that ``rich.markup.render`` turns back into `text` when something
-        (a closing tag, more text) follows it; at the very end of a line a
-        trailing backslash shows doubled.
+        Text that ``rich.markup.render`` turns back into `text` when a tag
+        follows it (``f"[bold]{escape_markup(t)}[/bold]"``); followed by plain
+        text or nothing, a trailing run of backslashes shows doubled.
+        Emoji codes such as ``:fire:`` are not markup tags: print user text with
+        ``emoji=False`` (or as a ``rich.text.Text``) to keep them as written.
     """
-    text = str(text)
 
     def _escape(match: re.Match) -> str:
-        backslashes, tag = match.groups()
-        return f"{backslashes}{backslashes}\\{tag}"
+        backslashes, what = match.groups()
+        if not what:                        # end of text
+            return backslashes * 2
+        if what == "[":                     # a "[" that does not start a tag
+            return backslashes + ("\\" if backslashes else "") + "["
+        return f"{backslashes}{backslashes}\\{what}"
 
-    escaped = _TAG.sub(_escape, text)
-    if escaped.endswith("\\") and not escaped.endswith("\\\\"):
-        escaped += "\\"
-    return escaped
+    return _RUN.sub(_escape, str(text))
 
 
 def quote_cell(text: object, limit: int = CELL_PREVIEW_CHARS) -> str:
