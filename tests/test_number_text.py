@@ -16,8 +16,13 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from inspection_io.number_text import (MAX_DIGITS, NumberFormat, NumberTextError, detect_format,
-                                       parse_number)
+from inspection_io.number_text import (
+    MAX_DIGITS,
+    NumberFormat,
+    NumberTextError,
+    detect_format,
+    parse_number,
+)
 
 FUZZ = settings(deadline=None, database=None, derandomize=True)
 COMMA = NumberFormat(decimal=",", thousands=".")
@@ -134,7 +139,7 @@ def written_numbers(draw):
 @given(written_numbers(), st.sampled_from(["plain", "grouped", "continental", "spaced",
                                            "spaced comma"]))
 def test_round_trip_in_every_convention(number, convention):
-    value, decimals, texts = number
+    _, _, texts = number
     text = texts[convention]
     decimal = "," if convention in ("continental", "spaced comma") else "."
     # a file whose other cell settles the convention ("0,5" or "0.5")

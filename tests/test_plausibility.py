@@ -61,17 +61,17 @@ REFUSED = [
      "overflows"),
     ("diameter 40 in", CORE_HEAD.format(d="in") + "Z1,C1,40,200,30\n", 2, "diameter [in]",
      "40 in (= 1016 mm)"),
-    ("core from a 1e9 kN load", "zone,core_id,diameter [mm],length [mm],failure_load [kN]\n"
-     "Z1,C1,100,200,1e9\n", 2, "failure_load [kN]", "failure load"),
+    ("core from a 1e9 kN load", ("zone,core_id,diameter [mm],length [mm],failure_load [kN]\n"
+     "Z1,C1,100,200,1e9\n"), 2, "failure_load [kN]", "failure load"),
     ("cover 5000 mm", "zone,location_id,cover [mm]\nZ1,P1,5000\n", 2, "cover [mm]",
      "0 to 300 mm"),
-    ("chloride 150 % binder", "zone,profile_id,depth_from [mm],depth_to [mm],chloride [% binder]\n"
-     "Z1,P1,0,10,150\n", 2, "chloride [% binder]", "more than 100 %"),
+    ("chloride 150 % binder", ("zone,profile_id,depth_from [mm],depth_to [mm],chloride [% binder]\n"
+     "Z1,P1,0,10,150\n"), 2, "chloride [% binder]", "more than 100 %"),
     ("chloride 12 % concrete = 82 % binder",
      "zone,profile_id,depth_from [mm],depth_to [mm],chloride [% concrete]\nZ1,P1,0,10,12\n", 2,
      "chloride [% concrete]", "12 % concrete (= 82.2857 % binder)"),
-    ("chloride increment at 5 m", "zone,profile_id,depth_from [mm],depth_to [mm],chloride "
-     "[% binder]\nZ1,P1,5000,5010,0.5\n", 2, "depth_from [mm]", "0 to 300 mm"),
+    ("chloride increment at 5 m", ("zone,profile_id,depth_from [mm],depth_to [mm],chloride "
+     "[% binder]\nZ1,P1,5000,5010,0.5\n"), 2, "depth_from [mm]", "0 to 300 mm"),
     ("carbonation 5 m", "zone,location_id,carbonation_depth [cm]\nZ1,P1,500\n", 2,
      "carbonation_depth [cm]", "500 cm (= 5000 mm)"),
     ("half-cell +5000 mV", "zone,location_id,potential [mV CSE]\nZ1,P1,5000\n", 2,
@@ -80,15 +80,15 @@ REFUSED = [
      "potential [mV CSE]", "-1500 to 500 mV CSE"),
     ("half-cell -5 V SCE", "zone,location_id,potential [V SCE]\nZ1,P1,-5\n", 2,
      "potential [V SCE]", "-5 V SCE (= -5075 mV CSE)"),
-    ("200 mm bar at a break-out", "zone,breakout_id,bar_diameter [mm],residual_diameter [mm]\n"
-     "Z1,B1,200,190\n", 2, "bar_diameter [mm]", "3 to 60 mm"),
-    ("200 mm tensile specimen", "zone,specimen_id,diameter [mm],yield_strength [MPa]\n"
-     "Z1,T1,200,500\n", 2, "diameter [mm]", "bar diameter"),
+    ("200 mm bar at a break-out", ("zone,breakout_id,bar_diameter [mm],residual_diameter [mm]\n"
+     "Z1,B1,200,190\n"), 2, "bar_diameter [mm]", "3 to 60 mm"),
+    ("200 mm tensile specimen", ("zone,specimen_id,diameter [mm],yield_strength [MPa]\n"
+     "Z1,T1,200,500\n"), 2, "diameter [mm]", "bar diameter"),
     ("yield 5000 MPa", "zone,specimen_id,diameter [mm],yield_strength [MPa]\nZ1,T1,16,5000\n", 2,
      "yield_strength [MPa]", "150 to 1000 MPa"),
     ("tensile 90 ksi is fine, 900 ksi is not",
-     "zone,specimen_id,diameter [mm],yield_strength [ksi],tensile_strength [ksi]\n"
-     "Z1,T1,16,60,90\nZ1,T2,16,60,900\n", 3, "tensile_strength [ksi]", "900 ksi"),
+     ("zone,specimen_id,diameter [mm],yield_strength [ksi],tensile_strength [ksi]\n"
+     "Z1,T1,16,60,90\nZ1,T2,16,60,900\n"), 3, "tensile_strength [ksi]", "900 ksi"),
 ]
 
 
@@ -111,17 +111,17 @@ FLAGGED = [
      "unusual core diameter", {"core_strength", "insitu_strength"}),
     ("cover 150 mm", "zone,location_id,cover [mm]\nZ1,P1,150\nZ1,P2,30\n", "P1", "unusual cover",
      {"cover"}),
-    ("chloride 8 % binder", "zone,profile_id,depth_from [mm],depth_to [mm],chloride [% binder]\n"
-     "Z1,P1,0,10,8\nZ1,P2,0,10,1\n", "P1", "unusual chloride content", {"chloride"}),
+    ("chloride 8 % binder", ("zone,profile_id,depth_from [mm],depth_to [mm],chloride [% binder]\n"
+     "Z1,P1,0,10,8\nZ1,P2,0,10,1\n"), "P1", "unusual chloride content", {"chloride"}),
     ("carbonation 95 mm", "zone,location_id,carbonation_depth [mm]\nZ1,P1,95\nZ1,P2,10\n", "P1",
      "unusual carbonation depth", {"carbonation_depth"}),
     ("half-cell -1000 mV", "zone,location_id,potential [mV CSE]\nZ1,P1,-1000\nZ1,P2,-200\n", "P1",
      "unusual half-cell potential", {"potential"}),
     ("elongation 0.5 % flags only the elongation",
-     "zone,specimen_id,diameter [mm],yield_strength [MPa],elongation [%]\nZ1,T1,16,500,0.5\n"
-     "Z1,T2,16,500,14\n", "T1", "unusual elongation", {"elongation"}),
-    ("yield 200 MPa", "zone,specimen_id,diameter [mm],yield_strength [MPa]\nZ1,T1,16,200\n"
-     "Z1,T2,16,500\n", "T1", "unusual yield strength", {"yield_strength"}),
+     ("zone,specimen_id,diameter [mm],yield_strength [MPa],elongation [%]\nZ1,T1,16,500,0.5\n"
+     "Z1,T2,16,500,14\n"), "T1", "unusual elongation", {"elongation"}),
+    ("yield 200 MPa", ("zone,specimen_id,diameter [mm],yield_strength [MPa]\nZ1,T1,16,200\n"
+     "Z1,T2,16,500\n"), "T1", "unusual yield strength", {"yield_strength"}),
 ]
 
 
@@ -156,8 +156,8 @@ MEMBERS = {"S1": "Z1", "S2": "Z1"}
      "not smaller than the depth of member 'S1' (200 mm"),
     ("zone,member,location_id,carbonation_depth [mm]\nZ1,S1,P1,201\n",
      "carbonation_depth [mm]", "larger than the depth"),
-    ("zone,member,profile_id,depth_from [mm],depth_to [mm],chloride [% binder]\n"
-     "Z1,S1,P1,190,210,0.2\n", "depth_to [mm]", "larger than the depth"),
+    (("zone,member,profile_id,depth_from [mm],depth_to [mm],chloride [% binder]\n"
+     "Z1,S1,P1,190,210,0.2\n"), "depth_to [mm]", "larger than the depth"),
 ])
 def test_depths_beyond_the_member_are_refused(tmp_path, text, column, words):
     path = write(tmp_path, text)
