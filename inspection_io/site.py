@@ -447,7 +447,7 @@ def _malformed(exc: tomllib.TOMLDecodeError, path: Path) -> InputError:
     return InputError(f"malformed TOML{position}: {reason}", file=path, row=line)
 
 
-_TOML_TOKEN = re.compile(r'"""|\'\'\'|"|\'|#|[\[\]{}\n]|[0-9_]{%d,}' % (MAX_TOML_DIGITS + 1))
+_TOML_TOKEN = re.compile(r'"""|\'\'\'|"|\'|#|[\[\]{}\n]|[0-9_]{' + str(MAX_TOML_DIGITS + 1) + ",}")
 _BASIC_END = re.compile(r'(?:[^"\\\n]|\\.)*"')
 _MULTI_BASIC_END = re.compile(r'(?:[^\\]|\\.)*?"""', re.DOTALL)
 
@@ -886,4 +886,4 @@ def load_campaign(path: str | Path) -> CampaignInfo:
 
 __all__ = ["Site", "SiteInfo", "Target", "Materials", "Loads", "Zone", "Member", "Priors",
            "CampaignInfo", "load_site", "load_campaign", "MEMBER_KINDS", "EXPOSURES",
-           "CAR_PARK_USES"]
+           "CAR_PARK_USES", "EN206_EXPOSURE", "EN206_OTHER_CLASSES", "TARGET_BETA_RANGE"]
