@@ -85,3 +85,34 @@ def test_quote_cell_shows_control_characters_and_cuts_long_cells():
     assert shown.startswith("x" * CELL_PREVIEW_CHARS) and shown.endswith("(200000 characters)")
     assert len(shown) < CELL_PREVIEW_CHARS + 40
     assert quote_cell(12.5) == "12.5"
+
+
+# ---------------------------------------------------------------- through the CLI
+# The CLI prints InputError messages with rich markup on (assess/cli/app.py, guarded()).
+# Until it passes them through escape_markup these fail: strict xfail, so the fix shows.
+
+def _import_with_cover_file(tmp_path, text):
+    from pathlib import Path
+
+    from typer.testing import CliRunner
+
+    import assess.cli.site  # noqa: F401  (registers the sub-application)
+    from assess.cli import app
+    templates = Path(__file__).resolve().parents[1] / "inspection_io" / "templates"
+    campaign = tmp_path / "site" / "campaigns" / "c1"
+    campaign.mkdir(parents=True)
+    (tmp_path / "site" / "site.toml").write_text((templates / "site.toml").read_text())
+    (campaign / "campaign.toml").write_text('name = "C1"\ndate = 2026-01-01\n')
+    (campaign / "cover.csv").write_text(text)
+    return CliRunner().invoke(app, ["site", "import", str(tmp_path / "site")])
+
+
+@pytest.mark.xfail(strict=True, reason="lead: escape_markup(str(exc)) in assess/cli/app.py")
+@pytest.mark.parametrize("text, shown", [
+    ("zone,location_id,cover [mm]\n[/x],P1,30\n", "'[/x]'"),
+    ("zone,location_id,cover [unit]\nZ1,P1,30\n", "'cover [unit]'"),
+])
+def test_cli_shows_bracketed_text_in_messages(tmp_path, text, shown):
+    result = _import_with_cover_file(tmp_path, text)
+    assert result.exit_code == 2 and result.stderr.startswith("Input error:")
+    assert shown in result.stderr.replace("\n", "")
