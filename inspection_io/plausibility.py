@@ -15,6 +15,12 @@ The ranges are judgement, stated beside each with its basis: "common practice"
 where it is a fact of the trade with no single source, a standard where one
 bounds the quantity ("(from memory)" where recalled, not read).
 
+Flagged rows are left out of summaries unless included, so a soft bound on the
+unsafe side (low strength, low cover, high chloride, deep carbonation, very
+negative potential) drops real bad news: those bounds sit where a value is far
+more likely a typing or unit mistake than a measurement, and a zero cover is
+not flagged at all.
+
 `within_member_depth` is the cross-check of a depth-like measurement (cover,
 carbonation depth, chloride increment) against the member's overall depth from
 the site file.
@@ -97,9 +103,10 @@ RANGES: dict[str, Plausible] = {r.quantity: r for r in (
     Plausible("failure_load", "failure load", "kN", (0.05, 20000.0), (5.0, 5000.0),
               "common practice: a 150 mm core at 250 MPa fails at 4400 kN; the strength from "
               "the load is checked as core strength"),
-    Plausible("cover", "cover", "mm", (0.0, 300.0), (5.0, 120.0),
+    Plausible("cover", "cover", "mm", (0.0, 300.0), (0.0, 120.0),
               "common practice: nominal covers 15-75 mm (EN 1992-1-1 4.4.1, from memory); "
-              "cover meters read to about 150-200 mm"),
+              "cover meters read to about 150-200 mm; a zero cover (bar exposed at a spall) is "
+              "a real and important finding, not flagged"),
     Plausible("carbonation_depth", "carbonation depth", "mm", (0.0, 300.0), (0.0, 80.0),
               "common practice: d = k sqrt(t) with k rarely above 8 mm/sqrt(yr) gives under "
               "80 mm in 100 years"),
