@@ -37,9 +37,19 @@ from inspection_io.errors import InputError
 from inspection_io.plausibility import FLAGS as PLAUSIBILITY_FLAGS
 
 __all__ = [
-    "FLAG_REASONS", "OUTLIER_ALPHA", "MIN_CORE_DIAMETER", "split_flags", "join_flags",
-    "core_row_flags", "grubbs_critical", "grubbs_statistic", "grubbs_outliers",
-    "flag_outliers", "flag_outlier_records", "usable_mask", "outlier_test_description",
+    "FLAG_REASONS",
+    "MIN_CORE_DIAMETER",
+    "OUTLIER_ALPHA",
+    "core_row_flags",
+    "flag_outlier_records",
+    "flag_outliers",
+    "grubbs_critical",
+    "grubbs_outliers",
+    "grubbs_statistic",
+    "join_flags",
+    "outlier_test_description",
+    "split_flags",
+    "usable_mask",
 ]
 
 OUTLIER_ALPHA = 0.05

@@ -884,6 +884,22 @@ def load_campaign(path: str | Path) -> CampaignInfo:
     )
 
 
-__all__ = ["Site", "SiteInfo", "Target", "Materials", "Loads", "Zone", "Member", "Priors",
-           "CampaignInfo", "load_site", "load_campaign", "MEMBER_KINDS", "EXPOSURES",
-           "CAR_PARK_USES", "EN206_EXPOSURE", "EN206_OTHER_CLASSES", "TARGET_BETA_RANGE"]
+__all__ = [
+    "CAR_PARK_USES",
+    "EN206_EXPOSURE",
+    "EN206_OTHER_CLASSES",
+    "EXPOSURES",
+    "MEMBER_KINDS",
+    "TARGET_BETA_RANGE",
+    "CampaignInfo",
+    "Loads",
+    "Materials",
+    "Member",
+    "Priors",
+    "Site",
+    "SiteInfo",
+    "Target",
+    "Zone",
+    "load_campaign",
+    "load_site",
+]

@@ -43,9 +43,20 @@ import pandas as pd
 from inspection_io.console_text import quote_cell
 from inspection_io.errors import InputError
 
-__all__ = ["Header", "RawTable", "parse_header", "load_table", "MAX_FILE_BYTES", "MAX_ROWS",
-           "MAX_COLUMNS", "MAX_CELL_CHARS", "MAX_XLSX_PART_BYTES", "MAX_XLSX_TOTAL_BYTES",
-           "MAX_ZIP_RATIO", "MAX_ZIP_PARTS"]
+__all__ = [
+    "MAX_CELL_CHARS",
+    "MAX_COLUMNS",
+    "MAX_FILE_BYTES",
+    "MAX_ROWS",
+    "MAX_XLSX_PART_BYTES",
+    "MAX_XLSX_TOTAL_BYTES",
+    "MAX_ZIP_PARTS",
+    "MAX_ZIP_RATIO",
+    "Header",
+    "RawTable",
+    "load_table",
+    "parse_header",
+]
 
 #: Largest campaign file read [bytes].
 MAX_FILE_BYTES = 50 * 1024 * 1024

@@ -400,10 +400,9 @@ def _check_known(cell: str, name: str, row: int, context: Context) -> None:
         raise context.error(f"unknown zone '{quote_cell(cell)}'; zones in the site file: "
                             f"{', '.join(sorted(context.known_zones))}", row=row, column=name)
     members = context.known_members
-    if name == "member" and members is not None:
-        if cell not in members:
-            raise context.error(f"unknown member '{quote_cell(cell)}'; members in the site file: "
-                                f"{', '.join(sorted(members))}", row=row, column=name)
+    if name == "member" and members is not None and cell not in members:
+        raise context.error(f"unknown member '{quote_cell(cell)}'; members in the site file: "
+                            f"{', '.join(sorted(members))}", row=row, column=name)
 
 
 def _check_member_zone(row: Row) -> None:
