@@ -79,6 +79,8 @@ EN206_OTHER_CLASSES = ("XF1", "XF2", "XF3", "XF4", "XA1", "XA2", "XA3", "XM1", "
 TARGET_BETA_RANGE = (1.5, 6.0)
 #: Fewest characters of the reason for a target override [-].
 MIN_REASON_CHARS = 10
+#: Most characters in a zone or member id [-] (ids are short labels shown in tables).
+MAX_ID_CHARS = 64
 #: Largest site or campaign file read [bytes].
 MAX_TOML_BYTES = 1_000_000
 #: Deepest nesting of arrays and inline tables accepted [-].
@@ -332,10 +334,10 @@ class _Schema:
                 near = difflib.get_close_matches(key, allowed, n=1)
                 hint = f"; did you mean '{near[0]}'?" if near else "."
                 raise self.error(_join(path, key),
-                                 f"unknown key '{key}'{hint} Accepted keys in "
+                                 f"unknown key '{quote_cell(key)}'{hint} Accepted keys in "
                                  f"[{path}]: {', '.join(allowed)}"
                                  if path else
-                                 f"unknown table '{key}'{hint} Accepted tables: "
+                                 f"unknown table '{quote_cell(key)}'{hint} Accepted tables: "
                                  f"{', '.join(allowed)}")
         for key in required:
             if key not in table:
@@ -347,7 +349,7 @@ class _Schema:
             raise self.error(path, f"expected a text string, got {_describe(value)}")
         if choices is not None and value not in choices:
             options = " | ".join(f'"{c}"' for c in choices)
-            raise self.error(path, f"expected one of {options}, got \"{value}\"")
+            raise self.error(path, f"expected one of {options}, got \"{quote_cell(value)}\"")
         if choices is None and not value.strip():
             raise self.error(path, "expected a non-empty text string")
         return value
@@ -394,6 +396,7 @@ def _optional_text(s: _Schema, value: Any, path: str) -> str:
 
 
 def _join(path: str, key: str) -> str:
+    key = quote_cell(key, 80)
     return f"{path}.{key}" if path else key
 
 
@@ -531,13 +534,13 @@ def _materials(s: _Schema, table: dict) -> Materials:
     if not found or not 8 <= int(found.group(1)) <= 100:
         raise s.error("materials.concrete_class",
                       f'expected an EN 206 cylinder class such as "C30" or "C30/37" '
-                      f'(C8 to C100), got "{concrete_class}"')
+                      f'(C8 to C100), got "{quote_cell(concrete_class)}"')
     steel_grade = s.text(table["steel_grade"], "materials.steel_grade")
     found = _STEEL_GRADE.match(steel_grade)
     if not found or not 200 <= int(found.group(1)) <= 700:
         raise s.error("materials.steel_grade",
                       f'expected a grade with the characteristic yield in MPa in its name, such '
-                      f'as "B500", "S410" or "Gr460" (200 to 700 MPa), got "{steel_grade}"')
+                      f'as "B500", "S410" or "Gr460" (200 to 700 MPa), got "{quote_cell(steel_grade)}"')
 
     def optional(key: str, check: Callable[[Any, str], Any]):
         return None if key not in table else check(table[key], f"materials.{key}")
@@ -600,9 +603,14 @@ def _priors(s: _Schema, table: dict) -> Priors:
 
 
 def _check_id(s: _Schema, key: str, path: str) -> str:
+    where = quote_cell(path, 100)
     if not key.strip() or key != key.strip():
-        raise s.error(path, f"an id must be non-empty text without surrounding spaces, "
-                            f"got '{key}'")
+        raise s.error(where, f"an id must be non-empty text without surrounding spaces, "
+                             f"got '{quote_cell(key)}'")
+    if len(key) > MAX_ID_CHARS:
+        raise s.error(where, f"an id has at most {MAX_ID_CHARS} characters, got {len(key)}")
+    if quote_cell(key, len(key)) != key:
+        raise s.error(where, f"an id must not hold control characters, got '{quote_cell(key)}'")
     return key
 
 
@@ -720,7 +728,7 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
 
     zone = s.text(body["zone"], f"{path}.zone")
     if zone not in zones:
-        raise s.error(f"{path}.zone", f'unknown zone "{zone}"; the zones defined under [zones] '
+        raise s.error(f"{path}.zone", f'unknown zone "{quote_cell(zone)}"; the zones defined under [zones] '
                                       f"are: {', '.join(zones)}")
     depth = s.number(body["depth"], f"{path}.depth", 50.0, 3000.0, "mm", True,
                      hint=" (depths are in mm)")
@@ -841,7 +849,8 @@ def load_site(path: str | Path) -> Site:
     zones = _zones(s, sections["zones"])
     members = {}
     for member_id, body in sections.get("members", {}).items():
-        members[member_id] = _member(s, member_id, s.table(body, f"members.{member_id}"), zones)
+        members[member_id] = _member(s, member_id,
+                                     s.table(body, f"members.{quote_cell(member_id, 80)}"), zones)
     if not members:
         raise s.error("members", "the site file has no member: add at least one "
                                  "[members.<id>] table (a slab, a beam or a flat-slab column "

@@ -412,3 +412,16 @@ def test_target_beta_override_needs_a_reason_and_a_plausible_value(tmp_path, lin
     with pytest.raises(InputError) as info:
         load_site(write(tmp_path, text))
     assert info.value.column == f"members.B2-01.{key}" and words in info.value.message
+
+
+def test_ids_are_short_labels_without_control_characters(tmp_path):
+    for zone_id, words in (("L" * 65, "at most 64 characters"),
+                           ('"L1\\u001b[2J"', "control characters")):
+        text = GOOD.replace("[zones.L2]", f"[zones.{zone_id}]")
+        with pytest.raises(InputError, match=words) as info:
+            load_site(write(tmp_path, text))
+        assert len(str(info.value)) < 400
+    # a long unknown key is named, but not echoed in full
+    with pytest.raises(InputError, match="unknown key") as info:
+        load_site(write(tmp_path, GOOD.replace("cover = 35", "cover = 35\n" + "k" * 5000 + " = 1")))
+    assert len(str(info.value)) < 1000
