@@ -16,6 +16,7 @@ from pathlib import Path
 import pandas as pd
 
 from inspection_io import screening, units
+from inspection_io.console_text import quote_cell
 from inspection_io.cores import CoreCorrections
 from inspection_io.errors import InputError
 from inspection_io.readers import (
@@ -102,7 +103,8 @@ def detect_kind(headers: Iterable[str | Header], *, file: str | Path | None = No
     rules = "; ".join(f"{kind}: {' + '.join(spec.identifying)}" for kind, spec in SPECS.items())
     if not matches:
         raise InputError(f"cannot tell the record kind from the headers "
-                         f"({', '.join(sorted(names)) or 'none'}); columns that identify each "
+                         f"({', '.join(quote_cell(n) for n in sorted(names)) or 'none'}); columns "
+                         f"that identify each "
                          f"kind: {rules}", file=file, row=1)
     raise InputError(f"the headers fit several kinds ({', '.join(matches)}); keep one kind per "
                      f"file or give the kind explicitly. Identifying columns: {rules}",
