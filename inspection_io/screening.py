@@ -1,7 +1,9 @@
 """Screening flags for test records: mark, give the reason, never drop.
 
 Flags are short names stored ``;``-joined in the observations' ``flags``
-column. `FLAG_REASONS` explains each. Summaries leave flagged rows out unless
+column. `FLAG_REASONS` explains each, including the ``unusual <quantity>``
+flags of values outside the soft plausibility range
+(`inspection_io.plausibility`). Summaries leave flagged rows out unless
 told otherwise (`usable_mask`).
 
 Outliers
@@ -32,11 +34,22 @@ import pandas as pd
 from scipy import stats
 
 from inspection_io.errors import InputError
+from inspection_io.plausibility import FLAGS as PLAUSIBILITY_FLAGS
 
 __all__ = [
-    "FLAG_REASONS", "OUTLIER_ALPHA", "MIN_CORE_DIAMETER", "split_flags", "join_flags",
-    "core_row_flags", "grubbs_critical", "grubbs_statistic", "grubbs_outliers",
-    "flag_outliers", "flag_outlier_records", "usable_mask", "outlier_test_description",
+    "FLAG_REASONS",
+    "MIN_CORE_DIAMETER",
+    "OUTLIER_ALPHA",
+    "core_row_flags",
+    "flag_outlier_records",
+    "flag_outliers",
+    "grubbs_critical",
+    "grubbs_outliers",
+    "grubbs_statistic",
+    "join_flags",
+    "outlier_test_description",
+    "split_flags",
+    "usable_mask",
 ]
 
 OUTLIER_ALPHA = 0.05
@@ -57,6 +70,9 @@ FLAG_REASONS = {
     SMALL_DIAMETER: "core diameter below 50 mm, outside EN 13791:2019",
     OUTLIER: "log in-situ strength is an outlier in its zone (two-sided Grubbs test, "
              "Grubbs 1969)",
+    # values inside the hard but outside the soft plausibility range of their quantity
+    # ("unusual core strength", ...), see inspection_io.plausibility
+    **PLAUSIBILITY_FLAGS,
 }
 
 

@@ -7,21 +7,47 @@ unknown keys are an error, so a typo is never silently ignored.
 
 Units follow the file contract: lengths [mm], spans [m], loads [kN/m2],
 unit weights [kN/m3], densities and binder content [kg/m3].
+
+Hostile files are refused cheaply before parsing: at most `MAX_TOML_BYTES`,
+arrays and inline tables nested at most `MAX_TOML_DEPTH` deep (Python's TOML
+parser recurses once per level) and numbers of at most `MAX_TOML_DIGITS` digits
+(a 5000-digit integer would exceed Python's integer-to-text limit), each checked
+by one scan over the text that skips strings and comments.
+
+Exposure
+--------
+A zone's ``exposure`` is one of the tool's exposure settings (`EXPOSURES`) or
+EN 206 exposure classes (EN 206:2013+A2:2021 Table 1): one class (``"XD3"``),
+several in one text (``"XC3, XD3, XF4"``) or an array. Each corrosion class maps
+to the setting whose priors fit it (`EN206_EXPOSURE`, a judgement stated there);
+with several classes the most severe setting wins; freeze-thaw (XF), chemical
+(XA) and abrasion (XM) classes are kept but do not choose the setting. The
+classes given are kept on `Zone.exposure_classes`.
+
+Target override
+---------------
+A zone or a member may set ``target_beta`` (reliability index for the site's
+reference period) with a required ``target_beta_reason``; the schema stores
+both on `Zone` / `Member` for the target-reliability step to use.
 """
 
 from __future__ import annotations
 
 import datetime as dt
 import difflib
+import math
 import re
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
-from typing import Any, Callable, Mapping
+from typing import Any
 
 import tomllib
 
+from inspection_io.console_text import quote_cell
 from inspection_io.errors import InputError
+from inspection_io.plausibility import MAX_REINFORCEMENT_RATIO
 
 CONSEQUENCE_CLASSES = ("CC1", "CC2", "CC3")
 COST_OF_SAFETY = ("high", "normal", "low")
@@ -29,6 +55,38 @@ PRODUCTION = ("ready-mixed", "precast")
 CEMENT_TYPES = ("CEM I", "fly ash", "CEM III")
 IMPOSED_CATEGORIES = ("F", "G")
 EXPOSURES = ("exposed deck", "sheltered soffit", "internal")
+#: EN 206 exposure classes (EN 206:2013+A2:2021 Table 1: X0 no risk; XC1 dry or permanently
+#: wet, XC2 wet rarely dry, XC3 moderate humidity, XC4 cyclic wet and dry; XD1-XD3 chlorides
+#: other than from sea water, moderate humidity / wet rarely dry / cyclic wet and dry, XD3
+#: naming car park slabs; XS1 airborne salt, XS2 permanently submerged, XS3 tidal, splash
+#: and spray) mapped to the exposure settings whose priors fit them. Judgement: no chloride
+#: source -> "internal" when dry (X0, XC1), else "sheltered soffit" (carbonation-induced
+#: corrosion); airborne chlorides (XD1, XS1) -> "sheltered soffit" (spray-borne chloride);
+#: chloride-laden water in contact (XD2, XD3, XS2, XS3) -> "exposed deck".
+EN206_EXPOSURE = {
+    "X0": "internal", "XC1": "internal",
+    "XC2": "sheltered soffit", "XC3": "sheltered soffit", "XC4": "sheltered soffit",
+    "XD1": "sheltered soffit", "XS1": "sheltered soffit",
+    "XD2": "exposed deck", "XD3": "exposed deck", "XS2": "exposed deck", "XS3": "exposed deck",
+}
+#: EN 206 classes accepted beside a corrosion class but not choosing the setting:
+#: freeze-thaw XF1-XF4, chemical attack XA1-XA3, abrasion XM1-XM3 (EN 206 Table 1 and
+#: its national annexes, from memory for XM).
+EN206_OTHER_CLASSES = ("XF1", "XF2", "XF3", "XF4", "XA1", "XA2", "XA3", "XM1", "XM2", "XM3")
+#: Accepted range of a direct target reliability index [-]: EN 1990 Annex B Table B2 gives
+#: 3.3-5.2 and the JCSS Probabilistic Model Code annual targets 3.1-4.7 (from memory);
+#: values outside 1.5-6.0 are taken as a typing mistake.
+TARGET_BETA_RANGE = (1.5, 6.0)
+#: Fewest characters of the reason for a target override [-].
+MIN_REASON_CHARS = 10
+#: Most characters in a zone or member id [-] (ids are short labels shown in tables).
+MAX_ID_CHARS = 64
+#: Largest site or campaign file read [bytes].
+MAX_TOML_BYTES = 1_000_000
+#: Deepest nesting of arrays and inline tables accepted [-].
+MAX_TOML_DEPTH = 32
+#: Most digits in one number of a TOML file [-].
+MAX_TOML_DIGITS = 50
 MEMBER_KINDS = ("one-way slab", "beam", "flat-slab column connection")
 TENSION_FACES = ("bottom", "top")
 COLUMN_POSITIONS = ("interior", "edge", "corner")
@@ -119,9 +177,15 @@ class Zone:
     zone_id: str
     description: str
     exposure: str
-    """"exposed deck", "sheltered soffit" or "internal"."""
+    """"exposed deck", "sheltered soffit" or "internal" (mapped from EN 206 classes if given)."""
     mean_annual_temperature: float | None = None
     """Mean annual temperature [degC]."""
+    exposure_classes: tuple[str, ...] = ()
+    """EN 206 exposure classes as given (``("XC3", "XD3")``); empty when a setting was named."""
+    target_beta: float | None = None
+    """Direct target reliability index for the zone's members [-] (site reference period)."""
+    target_beta_reason: str | None = None
+    """Why the target is set directly (required with `target_beta`)."""
 
 
 @dataclass(frozen=True)
@@ -162,6 +226,10 @@ class Member:
     """Width of deck carried by a beam [m] (beams; default: the beam's own width)."""
     slab_depth: float | None = None
     """Depth of the slab a beam carries [mm] (beams; default: no slab above the web)."""
+    target_beta: float | None = None
+    """Direct target reliability index of this member [-] (site reference period)."""
+    target_beta_reason: str | None = None
+    """Why the target is set directly (required with `target_beta`)."""
 
     @property
     def effective_depth(self) -> float:
@@ -268,10 +336,10 @@ class _Schema:
                 near = difflib.get_close_matches(key, allowed, n=1)
                 hint = f"; did you mean '{near[0]}'?" if near else "."
                 raise self.error(_join(path, key),
-                                 f"unknown key '{key}'{hint} Accepted keys in "
+                                 f"unknown key '{quote_cell(key)}'{hint} Accepted keys in "
                                  f"[{path}]: {', '.join(allowed)}"
                                  if path else
-                                 f"unknown table '{key}'{hint} Accepted tables: "
+                                 f"unknown table '{quote_cell(key)}'{hint} Accepted tables: "
                                  f"{', '.join(allowed)}")
         for key in required:
             if key not in table:
@@ -283,7 +351,7 @@ class _Schema:
             raise self.error(path, f"expected a text string, got {_describe(value)}")
         if choices is not None and value not in choices:
             options = " | ".join(f'"{c}"' for c in choices)
-            raise self.error(path, f"expected one of {options}, got \"{value}\"")
+            raise self.error(path, f"expected one of {options}, got \"{quote_cell(value)}\"")
         if choices is None and not value.strip():
             raise self.error(path, "expected a non-empty text string")
         return value
@@ -292,9 +360,13 @@ class _Schema:
                low_inclusive: bool = False, hint: str = "") -> float:
         if isinstance(value, bool) or not isinstance(value, (int, float)):
             raise self.error(path, f"expected a number [{unit}], got {_describe(value)}")
-        value = float(value)
+        try:
+            value = float(value)
+        except OverflowError:
+            raise self.error(path, f"expected a number in [{low:g}, {high:g}] [{unit}], got an "
+                                   "integer too large to be a number") from None
         too_low = value < low if low_inclusive else value <= low
-        if too_low or value > high or value != value:
+        if too_low or value > high or math.isnan(value):
             bracket = "[" if low_inclusive else "("
             raise self.error(path, f"expected a number in {bracket}{low:g}, {high:g}] [{unit}], "
                                    f"got {value:g}{hint}")
@@ -326,6 +398,7 @@ def _optional_text(s: _Schema, value: Any, path: str) -> str:
 
 
 def _join(path: str, key: str) -> str:
+    key = quote_cell(key, 80)
     return f"{path}.{key}" if path else key
 
 
@@ -333,7 +406,7 @@ def _describe(value: Any) -> str:
     if isinstance(value, bool):
         return f"the boolean {str(value).lower()}"
     if isinstance(value, str):
-        return f'the text "{value}"'
+        return f'the text "{quote_cell(value)}"'
     if isinstance(value, dict):
         return "a table"
     if isinstance(value, list):
@@ -342,7 +415,7 @@ def _describe(value: Any) -> str:
         return f"the date-time {value.isoformat()}"
     if isinstance(value, dt.date):
         return f"the date {value.isoformat()}"
-    return f"{type(value).__name__} {value!r}"
+    return f"{type(value).__name__} {quote_cell(repr(value))}"
 
 
 def _read_toml(path: Path) -> dict:
@@ -354,18 +427,79 @@ def _read_toml(path: Path) -> dict:
         raise InputError("expected a file, found a folder", file=path) from None
     except OSError as exc:
         raise InputError(f"cannot read the file: {exc.strerror}", file=path) from None
+    if len(raw) > MAX_TOML_BYTES:
+        raise InputError(f"the file has {len(raw)} bytes; a site or campaign file has at most "
+                         f"{MAX_TOML_BYTES}", file=path)
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
         raise InputError(f"the file is not UTF-8 text (byte {exc.start})", file=path) from None
+    _precheck_toml(text, path)
     try:
         return tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        found = re.search(r"\(at line (\d+), column (\d+)\)", str(exc))
-        line = int(found.group(1)) if found else None
-        reason = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(exc))
-        position = f" at line {found.group(1)}, column {found.group(2)}" if found else ""
-        raise InputError(f"malformed TOML{position}: {reason}", file=path, row=line) from None
+    except (RecursionError, MemoryError, ValueError) as exc:
+        if isinstance(exc, tomllib.TOMLDecodeError):
+            raise _malformed(exc, path) from None
+        raise InputError(f"cannot read the file as TOML ({type(exc).__name__}: "
+                         f"{quote_cell(exc, 120)})", file=path) from None
+
+
+def _malformed(exc: tomllib.TOMLDecodeError, path: Path) -> InputError:
+    found = re.search(r"\(at line (\d+), column (\d+)\)", str(exc))
+    line = int(found.group(1)) if found else None
+    reason = re.sub(r"\s*\(at line \d+, column \d+\)", "", str(exc))
+    position = f" at line {found.group(1)}, column {found.group(2)}" if found else ""
+    return InputError(f"malformed TOML{position}: {reason}", file=path, row=line)
+
+
+_TOML_TOKEN = re.compile(r'"""|\'\'\'|"|\'|#|[\[\]{}\n]|[0-9_]{' + str(MAX_TOML_DIGITS + 1) + ",}")
+_BASIC_END = re.compile(r'(?:[^"\\\n]|\\.)*"')
+_MULTI_BASIC_END = re.compile(r'(?:[^\\]|\\.)*?"""', re.DOTALL)
+
+
+def _precheck_toml(text: str, path: Path) -> None:
+    """Refuse nesting deeper than `MAX_TOML_DEPTH` and numbers longer than `MAX_TOML_DIGITS`.
+
+    One pass over the text, skipping strings and comments; anything malformed is
+    left to the TOML parser, which reports it with line and column.
+    """
+    position, line, depth = 0, 1, 0
+    while True:
+        token = _TOML_TOKEN.search(text, position)
+        if token is None:
+            return
+        kind, position = token.group(), token.end()
+        if kind == "\n":
+            line += 1
+        elif kind == "#":
+            end = text.find("\n", position)
+            position = len(text) if end < 0 else end
+        elif kind in ('"', "'", '"""', "'''"):
+            if kind == '"':
+                found = _BASIC_END.match(text, position)
+                end = found.end() if found else text.find("\n", position)
+            elif kind == '"""':
+                found = _MULTI_BASIC_END.match(text, position)
+                end = found.end() if found else len(text)
+            else:
+                close = text.find(kind, position)
+                end = close + len(kind) if close >= 0 else len(text)
+                if kind == "'" and 0 <= text.find("\n", position) < end:
+                    end = text.find("\n", position)
+            end = len(text) if end < 0 else end
+            line += text.count("\n", position, end)
+            position = end
+        elif kind in "[{":
+            depth += 1
+            if depth > MAX_TOML_DEPTH:
+                raise InputError(f"arrays or tables nested deeper than {MAX_TOML_DEPTH} levels "
+                                 f"at line {line}; a site file nests two or three levels",
+                                 file=path, row=line)
+        elif kind in "]}":
+            depth = max(depth - 1, 0)
+        else:
+            raise InputError(f"a number with {len(kind)} digits at line {line}; at most "
+                             f"{MAX_TOML_DIGITS} digits are accepted", file=path, row=line)
 
 
 # --------------------------------------------------------------------------- sections
@@ -402,13 +536,13 @@ def _materials(s: _Schema, table: dict) -> Materials:
     if not found or not 8 <= int(found.group(1)) <= 100:
         raise s.error("materials.concrete_class",
                       f'expected an EN 206 cylinder class such as "C30" or "C30/37" '
-                      f'(C8 to C100), got "{concrete_class}"')
+                      f'(C8 to C100), got "{quote_cell(concrete_class)}"')
     steel_grade = s.text(table["steel_grade"], "materials.steel_grade")
     found = _STEEL_GRADE.match(steel_grade)
     if not found or not 200 <= int(found.group(1)) <= 700:
         raise s.error("materials.steel_grade",
                       f'expected a grade with the characteristic yield in MPa in its name, such '
-                      f'as "B500", "S410" or "Gr460" (200 to 700 MPa), got "{steel_grade}"')
+                      f'as "B500", "S410" or "Gr460" (200 to 700 MPa), got "{quote_cell(steel_grade)}"')
 
     def optional(key: str, check: Callable[[Any, str], Any]):
         return None if key not in table else check(table[key], f"materials.{key}")
@@ -471,9 +605,14 @@ def _priors(s: _Schema, table: dict) -> Priors:
 
 
 def _check_id(s: _Schema, key: str, path: str) -> str:
+    where = quote_cell(path, 100)
     if not key.strip() or key != key.strip():
-        raise s.error(path, f"an id must be non-empty text without surrounding spaces, "
-                            f"got '{key}'")
+        raise s.error(where, f"an id must be non-empty text without surrounding spaces, "
+                             f"got '{quote_cell(key)}'")
+    if len(key) > MAX_ID_CHARS:
+        raise s.error(where, f"an id has at most {MAX_ID_CHARS} characters, got {len(key)}")
+    if quote_cell(key, len(key)) != key:
+        raise s.error(where, f"an id must not hold control characters, got '{quote_cell(key)}'")
     return key
 
 
@@ -485,20 +624,83 @@ def _zones(s: _Schema, table: dict) -> dict[str, Zone]:
         path = f"zones.{zone_id}"
         _check_id(s, zone_id, path)
         body = s.table(body, path)
-        s.keys(body, path, ("description", "exposure"), ("mean_annual_temperature",))
+        s.keys(body, path, ("description", "exposure"),
+               ("mean_annual_temperature", "target_beta", "target_beta_reason"))
         temperature = body.get("mean_annual_temperature")
+        exposure, classes = _exposure(s, body["exposure"], f"{path}.exposure")
+        target_beta, reason = _target_override(s, body, path)
         zones[zone_id] = Zone(
             zone_id=zone_id,
             description=s.text(body["description"], f"{path}.description"),
-            exposure=s.text(body["exposure"], f"{path}.exposure", EXPOSURES),
+            exposure=exposure,
             mean_annual_temperature=None if temperature is None else s.number(
                 temperature, f"{path}.mean_annual_temperature", -30.0, 40.0, "degC", True),
+            exposure_classes=classes,
+            target_beta=target_beta,
+            target_beta_reason=reason,
         )
     return zones
 
 
+def _exposure(s: _Schema, value: Any, path: str) -> tuple[str, tuple[str, ...]]:
+    """(exposure setting, EN 206 classes given) from a setting name or EN 206 classes."""
+    accepted = (" | ".join(f'"{e}"' for e in EXPOSURES) + ", or EN 206 classes such as "
+                '"XC3", "XD3" or ["XC4", "XD3", "XF4"] (XC1-XC4, XD1-XD3, XS1-XS3, X0)')
+    if isinstance(value, str) and value in EXPOSURES:
+        return value, ()
+    if isinstance(value, str):
+        items = [v for v in re.split(r"[\s,;+]+", value.strip()) if v]
+    elif isinstance(value, list) and value and all(isinstance(v, str) for v in value):
+        items = [v.strip() for v in value]
+    else:
+        raise s.error(path, f"expected {accepted}; got {_describe(value)}")
+    classes = []
+    for item in items:
+        name = item.upper()
+        if name not in EN206_EXPOSURE and name not in EN206_OTHER_CLASSES:
+            raise s.error(path, f'"{quote_cell(item)}" is neither an exposure setting nor an '
+                                f"EN 206 exposure class; expected {accepted}")
+        if name not in classes:
+            classes.append(name)
+    corrosion = [c for c in classes if c in EN206_EXPOSURE]
+    if not corrosion:
+        raise s.error(path, f"{', '.join(classes)} describe(s) attack on the concrete, not "
+                            "corrosion of the reinforcement; add the carbonation or chloride "
+                            "class (X0, XC1-XC4, XD1-XD3 or XS1-XS3)")
+    exposure = max((EN206_EXPOSURE[c] for c in corrosion), key=_SEVERITY.index)
+    return exposure, tuple(classes)
+
+
+#: Exposure settings from mild to severe (several EN 206 classes: the most severe wins).
+_SEVERITY = ("internal", "sheltered soffit", "exposed deck")
+
+
+def _target_override(s: _Schema, body: dict, path: str) -> tuple[float | None, str | None]:
+    """``target_beta`` with its required ``target_beta_reason`` (both or neither)."""
+    has_beta, has_reason = "target_beta" in body, "target_beta_reason" in body
+    if not has_beta and not has_reason:
+        return None, None
+    if not has_beta:
+        raise s.error(f"{path}.target_beta", "'target_beta_reason' is given without "
+                                             "'target_beta'; give both or neither")
+    low, high = TARGET_BETA_RANGE
+    beta = s.number(body["target_beta"], f"{path}.target_beta", low, high, "-", True,
+                    hint=" (a reliability index; EN 1990 Annex B targets lie at 3.3-5.2)")
+    if not has_reason:
+        raise s.error(f"{path}.target_beta_reason",
+                      "a direct target_beta needs a target_beta_reason: say why the target "
+                      "differs from the one the [target] settings give")
+    reason = s.text(body["target_beta_reason"], f"{path}.target_beta_reason")
+    if len(reason.strip()) < MIN_REASON_CHARS:
+        raise s.error(f"{path}.target_beta_reason",
+                      f"give a reason of at least {MIN_REASON_CHARS} characters, got "
+                      f'"{quote_cell(reason)}"')
+    return beta, reason.strip()
+
+
 _MEMBER_COMMON = ("zone", "kind", "depth", "cover", "bar_diameter")
-_MEMBER_OPTIONAL = ("bar_spacing", "steel_area", "shear_reinforcement", "tension_face")
+_MEMBER_OPTIONAL = ("bar_spacing", "steel_area", "shear_reinforcement", "tension_face",
+                    "target_beta", "target_beta_reason")
 _MEMBER_KEYS = {
     "one-way slab": (_MEMBER_COMMON + ("span",), _MEMBER_OPTIONAL + ("width",)),
     "beam": (_MEMBER_COMMON + ("span", "width"),
@@ -528,7 +730,7 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
 
     zone = s.text(body["zone"], f"{path}.zone")
     if zone not in zones:
-        raise s.error(f"{path}.zone", f'unknown zone "{zone}"; the zones defined under [zones] '
+        raise s.error(f"{path}.zone", f'unknown zone "{quote_cell(zone)}"; the zones defined under [zones] '
                                       f"are: {', '.join(zones)}")
     depth = s.number(body["depth"], f"{path}.depth", 50.0, 3000.0, "mm", True,
                      hint=" (depths are in mm)")
@@ -541,7 +743,8 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
         raise s.error(f"{path}.bar_diameter",
                       f"cover + bar diameter ({cover + bar_diameter:g} mm) must be smaller than "
                       f"the depth ({depth:g} mm)")
-    width = s.number(body.get("width", 1000.0), f"{path}.width", 0.0, 10000.0, "mm")
+    width = s.number(body.get("width", 1000.0), f"{path}.width", 50.0, 10000.0, "mm", True,
+                     hint=" (widths are in mm; 1000 for a slab strip)")
 
     has_spacing, has_area = "bar_spacing" in body, "steel_area" in body
     if has_spacing == has_area:
@@ -555,6 +758,16 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
                                "mm", hint=" (must exceed the bar diameter)")
     else:
         steel_area = s.number(body["steel_area"], f"{path}.steel_area", 0.0, 1.0e6, "mm2")
+    area = steel_area if steel_area is not None else \
+        3.141592653589793 * bar_diameter ** 2 / 4.0 * width / bar_spacing
+    ratio = area / (width * depth)
+    if ratio > MAX_REINFORCEMENT_RATIO:
+        key = "steel_area" if steel_area is not None else "bar_spacing"
+        raise s.error(f"{path}.{key}",
+                      f"tension steel of {area:.6g} mm2 is {100 * ratio:.3g} % of the section "
+                      f"{width:g} x {depth:g} mm; at most {100 * MAX_REINFORCEMENT_RATIO:g} % "
+                      "is plausible (EN 1992-1-1 9.2.1.1(3) limits A_s to 4 % of A_c outside "
+                      "laps, from memory); check the unit (mm2) and the width")
 
     span = None
     if "span" in body:
@@ -579,6 +792,7 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
         slab_depth = s.number(body["slab_depth"], f"{path}.slab_depth", 50.0, depth, "mm", True,
                               hint=" (the slab depth is in mm and at most the beam depth)")
 
+    target_beta, reason = _target_override(s, body, path)
     return Member(
         member_id=member_id,
         zone=zone,
@@ -600,6 +814,8 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
         span_y=span_y,
         tributary_width=tributary_width,
         slab_depth=slab_depth,
+        target_beta=target_beta,
+        target_beta_reason=reason,
     )
 
 
@@ -661,7 +877,12 @@ def load_site(path: str | Path) -> Site:
     zones = _zones(s, sections["zones"])
     members = {}
     for member_id, body in sections.get("members", {}).items():
-        members[member_id] = _member(s, member_id, s.table(body, f"members.{member_id}"), zones)
+        members[member_id] = _member(s, member_id,
+                                     s.table(body, f"members.{quote_cell(member_id, 80)}"), zones)
+    if not members:
+        raise s.error("members", "the site file has no member: add at least one "
+                                 "[members.<id>] table (a slab, a beam or a flat-slab column "
+                                 "connection) to assess")
     return Site(
         path=path,
         site=_site_info(s, sections["site"]),
@@ -702,6 +923,22 @@ def load_campaign(path: str | Path) -> CampaignInfo:
     )
 
 
-__all__ = ["Site", "SiteInfo", "Target", "Materials", "Loads", "Zone", "Member", "Priors",
-           "CampaignInfo", "load_site", "load_campaign", "MEMBER_KINDS", "EXPOSURES",
-           "CAR_PARK_USES"]
+__all__ = [
+    "CAR_PARK_USES",
+    "EN206_EXPOSURE",
+    "EN206_OTHER_CLASSES",
+    "EXPOSURES",
+    "MEMBER_KINDS",
+    "TARGET_BETA_RANGE",
+    "CampaignInfo",
+    "Loads",
+    "Materials",
+    "Member",
+    "Priors",
+    "Site",
+    "SiteInfo",
+    "Target",
+    "Zone",
+    "load_campaign",
+    "load_site",
+]

@@ -7,6 +7,7 @@ Row numbers are as a spreadsheet shows them (header = row 1), docs/data-formats.
 import datetime as dt
 import json
 import math
+import re
 from pathlib import Path
 
 import pytest
@@ -354,3 +355,228 @@ def test_detect_kind_none_lists_identifying_columns():
 def test_detect_kind_several():
     with pytest.raises(InputError, match=r"fit several kinds \(cover, halfcell\)"):
         detect_kind(["location_id", "zone", "cover [mm]", "potential [mV CSE]"])
+
+
+# ---------------------------------------------------------------- hostile files (issue 16)
+# Each case below crashed with a traceback, hung, or was silently accepted before the
+# readers were hardened; each must now end in a clean InputError naming file and row.
+
+COVER = "zone,location_id,cover [mm]\nZ1,P1,30\n"
+
+
+@pytest.mark.parametrize("size", [200_000, 5_000_000])
+def test_huge_cell_is_refused_cleanly_not_by_the_csv_field_limit(tmp_path, size):
+    # Python docs, csv.field_size_limit: 131072 characters by default; csv raises _csv.Error
+    import csv
+    big = "x" * size
+    with pytest.raises(csv.Error, match="field larger than field limit"):
+        list(csv.reader([f'Z1,P2,"{big}"']))
+    for text in (COVER + f"Z1,P2,{big}\n", COVER + f'Z1,P2,"{big}"\n', COVER + f'Z1,"P2,{big}\n'):
+        with pytest.raises(InputError) as info:
+            read_campaign_file(write_csv(tmp_path, text))
+        assert info.value.row == 3 and "characters" in info.value.message
+        assert len(str(info.value)) < 400          # the cell is not echoed back
+
+
+def test_cell_below_the_csv_limit_but_above_ours_is_refused(tmp_path):
+    from inspection_io.tables import MAX_CELL_CHARS
+    path = write_csv(tmp_path, COVER + "Z1,P2,30,\nZ1,P3,31,\n".replace(
+        "Z1,P3", "Z1," + "p" * (MAX_CELL_CHARS + 1)))
+    with pytest.raises(InputError) as info:
+        read_campaign_file(path)
+    assert info.value.row == 4 and f"{MAX_CELL_CHARS + 1} characters" in info.value.message
+
+
+def test_file_row_and_column_limits(tmp_path, monkeypatch):
+    from inspection_io import tables
+    monkeypatch.setattr(tables, "MAX_FILE_BYTES", 40)
+    with pytest.raises(InputError, match="at most 40 bytes"):
+        read_campaign_file(write_csv(tmp_path, COVER + "Z1,P2,31\nZ1,P3,32\n"))
+    monkeypatch.setattr(tables, "MAX_FILE_BYTES", 10**6)
+    monkeypatch.setattr(tables, "MAX_ROWS", 3)
+    rows = "".join(f"Z1,P{i},30\n" for i in range(10, 15))
+    with pytest.raises(InputError, match="more than 3 data rows") as info:
+        read_campaign_file(write_csv(tmp_path, "zone,location_id,cover [mm]\n" + rows))
+    assert info.value.row == 5
+    monkeypatch.setattr(tables, "MAX_ROWS", 100_000)
+    wide = "Z1,P2,31" + "," * 300 + "stray\n"
+    with pytest.raises(InputError, match="more than 200 columns") as info:
+        read_campaign_file(write_csv(tmp_path, COVER + wide))
+    assert "column 303" in info.value.message
+
+
+def xlsx_with_sheet_xml(tmp_path, edit, name="hostile.xlsx"):
+    """A good cover workbook whose sheet XML is rewritten by `edit` (bytes -> bytes)."""
+    import zipfile
+    good = write_xlsx(tmp_path, {"cover": [["zone", "location_id", "cover [mm]"], ["Z1", "P1", 30],
+                                           ["Z1", "P2", 31.5]]}, name="good.xlsx")
+    with zipfile.ZipFile(good) as archive:
+        parts = {info.filename: archive.read(info.filename) for info in archive.infolist()}
+    sheet = next(n for n in parts if n.startswith("xl/worksheets/sheet"))
+    parts[sheet] = edit(parts[sheet])
+    path = tmp_path / name
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED, compresslevel=9) as archive:
+        for part, data in parts.items():
+            archive.writestr(part, data)
+    return path
+
+
+def test_xlsx_stray_value_at_the_last_cell_is_refused_without_building_the_grid(tmp_path):
+    # ECMA-376 sheet limits: 16384 columns (XFD) x 1048576 rows; a 5 kB file
+    workbook = Workbook()
+    sheet = workbook.active
+    for row in (["zone", "location_id", "cover [mm]"], ["Z1", "P1", 30]):
+        sheet.append(row)
+    sheet.cell(row=1048576, column=16384, value="stray")
+    path = tmp_path / "stray.xlsx"
+    workbook.save(path)
+    assert path.stat().st_size < 10_000
+    with pytest.raises(InputError) as info:
+        read_campaign_file(path)
+    assert info.value.row == 1048576 and "column 16384" in info.value.message
+
+
+def test_xlsx_styled_empty_cell_far_away_and_a_lying_dimension_are_ignored(tmp_path):
+    path = xlsx_with_sheet_xml(tmp_path, lambda xml: re.sub(
+        rb'<dimension ref="[^"]*"/>', b'<dimension ref="A1:XFD1048576"/>', xml).replace(
+        b"</sheetData>", b'<row r="1048576"><c r="XFD1048576" s="0"/></row></sheetData>'))
+    obs = read_campaign_file(path).observations
+    assert obs["value"].tolist() == [30.0, 31.5]
+
+
+def test_xlsx_zip_bomb_is_refused_from_the_zip_directory(tmp_path):
+    # a 20 MB run of blanks in a comment compresses about 1000:1 (deflate's limit is ~1032:1,
+    # RFC 1951); the ZIP central directory states the uncompressed size (PKWARE APPNOTE 4.3.12)
+    path = xlsx_with_sheet_xml(tmp_path, lambda xml: xml.replace(
+        b"<sheetData>", b"<!--" + b" " * (20 * 1024 * 1024) + b"--><sheetData>"))
+    assert path.stat().st_size < 200_000
+    with pytest.raises(InputError) as info:
+        read_campaign_file(path)
+    assert "expands" in info.value.message and "compression bomb" in info.value.message
+
+
+def test_xlsx_part_and_total_size_limits(tmp_path, monkeypatch):
+    from inspection_io import tables
+    path = write_xlsx(tmp_path, {"cover": [["zone", "location_id", "cover [mm]"], ["Z1", "P1", 30]]})
+    monkeypatch.setattr(tables, "MAX_XLSX_PART_BYTES", 100)
+    with pytest.raises(InputError, match="expands to .* bytes; at most 100 bytes"):
+        read_campaign_file(path)
+    monkeypatch.setattr(tables, "MAX_XLSX_PART_BYTES", 10**9)
+    monkeypatch.setattr(tables, "MAX_XLSX_TOTAL_BYTES", 1000)
+    with pytest.raises(InputError, match="the workbook expands to"):
+        read_campaign_file(path)
+
+
+@pytest.mark.parametrize("value, words", [
+    (b"1e999", "infinite"),                       # float('1e999') = inf in openpyxl
+    (b"1" * 5000, "ValueError"),                  # int() of 5000 digits (Python's 4300 limit)
+    (b"inf", "ValueError"),
+])
+def test_xlsx_unreadable_numbers_are_clean_errors(tmp_path, value, words):
+    path = xlsx_with_sheet_xml(tmp_path, lambda xml: re.sub(rb"<v>31.5</v>", b"<v>" + value +
+                                                            b"</v>", xml))
+    with pytest.raises(InputError) as info:
+        read_campaign_file(path)
+    assert words in info.value.message
+
+
+def test_not_a_zip_and_damaged_xlsx(tmp_path):
+    for data in (b"plain text", b"PK\x03\x04" + b"\x00" * 40):
+        path = tmp_path / "bad.xlsx"
+        path.write_bytes(data)
+        with pytest.raises(InputError, match="cannot open as an Excel workbook"):
+            read_campaign_file(path)
+
+
+@pytest.mark.parametrize("header, unit", [("Diameter (mm)", "mm"), ("diameter [mm]", "mm"),
+                                          ("Diameter ( cm )", "cm"), ("DIAMETER (in)", "in")])
+def test_lab_style_unit_in_parentheses(tmp_path, header, unit):
+    given = {"mm": 100, "cm": 10, "in": 4}[unit]
+    text = f"zone,core_id,{header},length [mm],Strength (N/mm2),Date (YYYY-MM-DD)\n" \
+           f"Z1,C1,{given},200,30,2009-06-15\n"
+    result = read_campaign_file(write_csv(tmp_path, text))
+    assert result.metadata["units"][header] == unit
+    diameter = json.loads(result.observations["extra"].iloc[0])["diameter"]
+    assert diameter == pytest.approx(given * {"mm": 1.0, "cm": 10.0, "in": 25.4}[unit])
+
+
+def test_unknown_unit_in_parentheses_is_refused(tmp_path):
+    with pytest.raises(InputError, match="unknown unit 'furlong'") as info:
+        read_campaign_file(write_csv(tmp_path, "zone,location_id,Cover (furlong)\nZ1,P1,3\n"))
+    assert info.value.column == "Cover (furlong)"
+
+
+def test_semicolon_file_with_only_ambiguous_numbers_is_refused(tmp_path):
+    path = write_csv(tmp_path, "zone;location_id;cover [mm]\nZ1;P1;35\nZ1;P2;1.234\n")
+    with pytest.raises(InputError) as info:
+        read_campaign_file(path)
+    assert (info.value.row, info.value.column) == (3, "cover [mm]")
+    assert "cannot tell whether '.'" in info.value.message
+
+
+def test_semicolon_file_with_decimal_comma_and_thousands_point(tmp_path):
+    path = write_csv(tmp_path, "zone;profile_id;depth_from [mm];depth_to [mm];chloride [% binder]\n"
+                               "Z1;P1;0;10;1,25\nZ1;P1;10;20;0,5\n")
+    result = read_campaign_file(path)
+    assert result.observations["value"].tolist() == [1.25, 0.5]
+    text = "zone;location_id;potential [mV CSE]\nZ1;P1;-1.234\nZ1;P2;-0,5\n"
+    result = read_campaign_file(write_csv(tmp_path, text))
+    assert result.observations["value"].tolist() == [-1234.0, -0.5]
+    fmt = result.metadata["number_format"]
+    assert (fmt["decimal"], fmt["thousands"]) == (",", ".")
+    assert "row 3, column 'potential [mV CSE]'" in fmt["evidence"]
+    assert any("decimal comma" in c for c in result.metadata["conversions"])
+
+
+def test_comma_file_states_decimal_point_and_reads_quoted_thousands(tmp_path):
+    result = read_campaign_file(write_csv(tmp_path, 'zone,location_id,potential [mV CSE]\n'
+                                                    'Z1,P1,"-1,234.5"\nZ1,P2,-200\n'))
+    assert result.observations["value"].tolist() == [-1234.5, -200.0]
+    assert result.metadata["number_format"]["description"] == \
+        "decimal point, thousands separator ','"
+
+
+def test_mixed_decimal_conventions_in_one_file_are_refused(tmp_path):
+    path = write_csv(tmp_path, "zone;location_id;cover [mm]\nZ1;P1;30,5\nZ1;P2;31.5\n")
+    with pytest.raises(InputError, match="mix conventions") as info:
+        read_campaign_file(path)
+    assert info.value.row == 3
+
+
+def test_xlsx_stored_numbers_are_never_thousands(tmp_path):
+    path = write_xlsx(tmp_path, {"cover": [["zone", "location_id", "cover [mm]"],
+                                           ["Z1", "P1", 1.234], ["Z1", "P2", 30]]})
+    assert read_campaign_file(path).observations["value"].tolist() == [1.234, 30.0]
+    mixed = write_xlsx(tmp_path, {"cover": [["zone", "location_id", "cover [mm]"],
+                                            ["Z1", "P1", 1.5], ["Z1", "P2", "30,5"]]}, "m.xlsx")
+    with pytest.raises(InputError, match="mix conventions"):
+        read_campaign_file(mixed)
+
+
+@pytest.mark.parametrize("cell, words", [("3_5", "'_'"), ("\u0663\u0665", "digits other than"),
+                                         ("inf", "infinite"), ("nan", "not-a-number"),
+                                         ("1e308", "plausible range"), ("-0", None)])
+def test_python_only_literals_are_refused_in_files(tmp_path, cell, words):
+    path = write_csv(tmp_path, f"zone,location_id,cover [mm]\nZ1,P1,30\nZ1,P2,{cell}\n")
+    if words is None:                      # "-0" is a number: zero cover
+        assert read_campaign_file(path).observations["value"].tolist() == [30.0, 0.0]
+        return
+    with pytest.raises(InputError) as info:
+        read_campaign_file(path)
+    assert (info.value.row, info.value.column) == (3, "cover [mm]") and words in info.value.message
+
+
+def test_markup_and_control_characters_in_cells_are_quoted_safely(tmp_path):
+    from rich.markup import render
+
+    from inspection_io.console_text import escape_markup
+    path = write_csv(tmp_path, "zone,location_id,cover [mm]\n[/x],P1,30\n")
+    with pytest.raises(InputError) as info:
+        read_campaign_file(path, known_zones=["Z1"])
+    assert "unknown zone '[/x]'" in str(info.value)
+    assert render(f"[red]Input error:[/] {escape_markup(str(info.value))}").plain == \
+        f"Input error: {info.value}"
+    path = write_csv(tmp_path, "zone,location_id,cover [mm]\nZ1,P1,30\x1b[2J\n")
+    with pytest.raises(InputError) as info:
+        read_campaign_file(path)
+    assert "\x1b" not in str(info.value) and "\\x1b" in str(info.value)

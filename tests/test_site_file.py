@@ -264,3 +264,164 @@ def test_campaign_file_good_and_broken(tmp_path):
         with pytest.raises(InputError) as info:
             load_campaign(path)
         assert info.value.column == key and info.value.file == str(path)
+
+
+# ---------------------------------------------------------------- hostile site files (issue 16)
+
+@pytest.mark.parametrize("old, new, key_path, words", [
+    # a beam with steel area 500 % of its section (EN 1992-1-1 9.2.1.1(3): A_s,max = 0.04 A_c
+    # outside laps, from memory; 8 % accepted for laps): 300 x 600 mm -> 900000 mm2
+    ("steel_area = 1473", "steel_area = 900000", "members.B2-01.steel_area", "500 % of the section"),
+    ("steel_area = 1473", "steel_area = 14730", "members.B2-01.steel_area", "8.18 %"),
+    # a slab of 1e-6 mm width; 50 mm is the narrowest accepted
+    ("width = 1000", "width = 1e-6", "members.S1-03.width", "widths are in mm"),
+    # 40 mm bars at 41 mm in a 200 mm slab: 1257 * 1000 / 41 / 200000 = 15.3 % of the section
+    ("bar_diameter = 12\nbar_spacing = 150", "bar_diameter = 40\nbar_spacing = 41",
+     "members.S1-03.bar_spacing", "15.3 % of the section"),
+    # 16^300 overflows a float (about 1.8e308, IEEE 754 double)
+    ("depth = 200", "depth = 0x" + "f" * 300, "members.S1-03.depth", "too large"),
+    ("span = 5.4", "span = nan", "members.S1-03.span", "[m]"),
+    ("span = 5.4", "span = inf", "members.S1-03.span", "[m]"),
+])
+def test_implausible_member_geometry_is_refused(tmp_path, old, new, key_path, words):
+    with pytest.raises(InputError) as info:
+        load_site(write(tmp_path, replace_line(GOOD, old, new)))
+    assert info.value.column == key_path and words in info.value.message
+
+
+def test_reinforcement_ratio_of_the_good_site_is_accepted():
+    # the limit is on A_s / (b h): B2-01 has 1473 / (300 * 600) = 0.82 %
+    assert 1473 / (300 * 600) < 0.08
+
+
+@pytest.mark.parametrize("members", ["", "\n[members]\n"])
+def test_site_without_members_is_refused(tmp_path, members):
+    text = GOOD.split("[members.S1-03]")[0] + members
+    with pytest.raises(InputError) as info:
+        load_site(write(tmp_path, text))
+    assert info.value.column == "members" and "no member" in info.value.message
+
+
+def test_deep_nesting_and_huge_integers_are_refused_before_parsing(tmp_path):
+    # Python's tomllib recurses once per nested array: 50 000 levels raise RecursionError
+    for value in ("[" * 50_000 + "]" * 50_000, "{a=" * 20_000 + "1" + "}" * 20_000):
+        with pytest.raises(InputError, match="nested deeper than 32 levels") as info:
+            load_site(write(tmp_path, GOOD + f"\n[priors]\nx = {value}\n"))
+        assert info.value.row == GOOD.count("\n") + 3
+    # a 5000-digit integer exceeds Python's int/str limit (4300 digits, sys.int_info)
+    with pytest.raises(InputError, match="5000 digits") as info:
+        load_campaign(write(tmp_path, 'name = "x"\ndate = 2020-01-01\nn = ' + "1" * 5000 + "\n",
+                            "campaign.toml"))
+    assert info.value.row == 3
+    with pytest.raises(InputError, match="401 digits"):
+        load_site(write(tmp_path, replace_line(GOOD, "depth = 200", "depth = 1" + "0" * 400)))
+
+
+def test_brackets_and_digits_inside_strings_and_comments_do_not_count(tmp_path):
+    text = replace_line(GOOD, 'description = "Level 1 deck"',
+                        'description = "[[\\"[[' + "[" * 40 + " " + "9" * 80 + '"  # ' + "{" * 40)
+    text = replace_line(text, 'description = "Level 2 soffit"',
+                        "description = '''\n" + "[" * 40 + "\n" + "7" * 60 + "\n'''")
+    text = replace_line(text, "[zones.L2]", '[zones.L2]\n# """' + "[" * 40)
+    site = load_site(write(tmp_path, text))
+    assert site.zones["L1"].description.startswith('[["[[[')
+    assert site.zones["L2"].description.startswith("[" * 40)
+    # and the line numbers counted across the multi-line string stay right
+    deep = text + "\n[priors]\nx = " + "[" * 40 + "]" * 40 + "\n"
+    with pytest.raises(InputError) as info:
+        load_site(write(tmp_path, deep))
+    assert info.value.row == deep.count("\n")
+
+
+def test_oversized_site_file_is_refused(tmp_path):
+    path = write(tmp_path, GOOD + "#" * 1_000_001 + "\n")
+    with pytest.raises(InputError, match="at most 1000000"):
+        load_site(path)
+
+
+# EN 206:2013+A2:2021 Table 1 exposure classes and the settings they map to (the mapping is
+# a stated judgement in inspection_io.site.EN206_EXPOSURE)
+@pytest.mark.parametrize("given, setting, classes", [
+    ('"exposed deck"', "exposed deck", ()),                       # old names keep working
+    ('"sheltered soffit"', "sheltered soffit", ()),
+    ('"internal"', "internal", ()),
+    ('"XC1"', "internal", ("XC1",)),
+    ('"xc3"', "sheltered soffit", ("XC3",)),
+    ('"XC4"', "sheltered soffit", ("XC4",)),
+    ('"XD1"', "sheltered soffit", ("XD1",)),
+    ('"XD3"', "exposed deck", ("XD3",)),                          # EN 206: car park slabs
+    ('"XS3"', "exposed deck", ("XS3",)),
+    ('"XC3, XD3, XF4"', "exposed deck", ("XC3", "XD3", "XF4")),   # most severe wins
+    ('["XC1", "XD1"]', "sheltered soffit", ("XC1", "XD1")),
+])
+def test_en206_exposure_classes_map_to_the_exposure_settings(tmp_path, given, setting, classes):
+    text = replace_line(GOOD, 'exposure = "exposed deck"', f"exposure = {given}")
+    zone = load_site(write(tmp_path, text)).zones["L1"]
+    assert (zone.exposure, zone.exposure_classes) == (setting, classes)
+
+
+def test_every_en206_corrosion_class_is_accepted(tmp_path):
+    from inspection_io.site import EN206_EXPOSURE, EXPOSURES
+    expected = {f"XC{i}" for i in range(1, 5)} | {f"XD{i}" for i in range(1, 4)} | \
+        {f"XS{i}" for i in range(1, 4)} | {"X0"}
+    assert set(EN206_EXPOSURE) == expected
+    assert set(EN206_EXPOSURE.values()) <= set(EXPOSURES)
+
+
+@pytest.mark.parametrize("given, words", [
+    ('"XF4"', "not corrosion of the reinforcement"),
+    ('"XC5"', "neither an exposure setting nor an EN 206"),
+    ('"outdoor"', "neither"),
+    ("[]", "expected"),
+    ("3", "expected"),
+])
+def test_bad_exposure_is_refused(tmp_path, given, words):
+    text = replace_line(GOOD, 'exposure = "exposed deck"', f"exposure = {given}")
+    with pytest.raises(InputError) as info:
+        load_site(write(tmp_path, text))
+    assert info.value.column == "zones.L1.exposure" and words in info.value.message
+
+
+def test_target_beta_override_on_member_and_zone(tmp_path):
+    text = replace_line(GOOD, "tension_face = \"bottom\"",
+                        'tension_face = "bottom"\ntarget_beta = 3.1\n'
+                        'target_beta_reason = "short remaining life agreed with the owner"')
+    text = replace_line(text, "mean_annual_temperature = 10.0",
+                        "mean_annual_temperature = 10.0\ntarget_beta = 4.2\n"
+                        'target_beta_reason = "zone above a public walkway"')
+    site = load_site(write(tmp_path, text))
+    member = site.members["S1-03"]
+    assert (member.target_beta, member.target_beta_reason) == \
+        (3.1, "short remaining life agreed with the owner")
+    assert site.zones["L1"].target_beta == 4.2
+    assert site.members["B2-01"].target_beta is None and site.zones["L2"].target_beta is None
+
+
+@pytest.mark.parametrize("lines, key, words", [
+    ("target_beta = 3.1", "target_beta_reason", "needs a target_beta_reason"),
+    ('target_beta_reason = "owner asked for it"', "target_beta", "without 'target_beta'"),
+    ('target_beta = 3.1\ntarget_beta_reason = "why"', "target_beta_reason", "at least 10"),
+    ('target_beta = 3.1\ntarget_beta_reason = "          "', "target_beta_reason", ""),
+    ('target_beta = 38\ntarget_beta_reason = "typed without the point"', "target_beta",
+     "EN 1990 Annex B"),
+    ('target_beta = "high"\ntarget_beta_reason = "a word, not a number"', "target_beta",
+     "number"),
+])
+def test_target_beta_override_needs_a_reason_and_a_plausible_value(tmp_path, lines, key, words):
+    text = replace_line(GOOD, "steel_area = 1473", "steel_area = 1473\n" + lines)
+    with pytest.raises(InputError) as info:
+        load_site(write(tmp_path, text))
+    assert info.value.column == f"members.B2-01.{key}" and words in info.value.message
+
+
+def test_ids_are_short_labels_without_control_characters(tmp_path):
+    for zone_id, words in (("L" * 65, "at most 64 characters"),
+                           ('"L1\\u001b[2J"', "control characters")):
+        text = GOOD.replace("[zones.L2]", f"[zones.{zone_id}]")
+        with pytest.raises(InputError, match=words) as info:
+            load_site(write(tmp_path, text))
+        assert len(str(info.value)) < 400
+    # a long unknown key is named, but not echoed in full
+    with pytest.raises(InputError, match="unknown key") as info:
+        load_site(write(tmp_path, GOOD.replace("cover = 35", "cover = 35\n" + "k" * 5000 + " = 1")))
+    assert len(str(info.value)) < 1000

@@ -16,6 +16,7 @@ from pathlib import Path
 import pandas as pd
 
 from inspection_io import screening, units
+from inspection_io.console_text import quote_cell
 from inspection_io.cores import CoreCorrections
 from inspection_io.errors import InputError
 from inspection_io.readers import (
@@ -102,7 +103,8 @@ def detect_kind(headers: Iterable[str | Header], *, file: str | Path | None = No
     rules = "; ".join(f"{kind}: {' + '.join(spec.identifying)}" for kind, spec in SPECS.items())
     if not matches:
         raise InputError(f"cannot tell the record kind from the headers "
-                         f"({', '.join(sorted(names)) or 'none'}); columns that identify each "
+                         f"({', '.join(quote_cell(n) for n in sorted(names)) or 'none'}); columns "
+                         f"that identify each "
                          f"kind: {rules}", file=file, row=1)
     raise InputError(f"the headers fit several kinds ({', '.join(matches)}); keep one kind per "
                      f"file or give the kind explicitly. Identifying columns: {rules}",
@@ -114,6 +116,7 @@ def read_campaign_file(path: str | Path, kind: str | None = None, *,
                        concrete_density: float | None = None,
                        known_zones: Collection[str] | None = None,
                        known_members: Collection[str] | Mapping[str, str] | None = None,
+                       member_depths: Mapping[str, float] | None = None,
                        core_corrections: CoreCorrections | None = None,
                        outlier_alpha: float = screening.OUTLIER_ALPHA) -> ReadResult:
     """Read and check one campaign file.
@@ -132,6 +135,10 @@ def read_campaign_file(path: str | Path, kind: str | None = None, *,
         Zone ids of the site file; other zones are an error.
     known_members : collection of str or mapping member -> zone, optional
         Member ids of the site file; with a mapping the member's zone is checked too.
+    member_depths : mapping member -> overall depth [mm], optional
+        From the site file: a cover not smaller than the row's member depth, or a
+        carbonation depth or chloride increment deeper than it, is refused
+        (`inspection_io.plausibility.within_member_depth`).
     core_corrections : CoreCorrections, optional
         Factor sets for core -> in-situ strength (default: all on, see
         `inspection_io.cores`).
@@ -141,6 +148,17 @@ def read_campaign_file(path: str | Path, kind: str | None = None, *,
     Returns
     -------
     ReadResult
+        ``metadata["number_format"]`` states the file's detected number convention
+        (decimal point or comma, thousands separator, and the evidence).
+
+    Raises
+    ------
+    InputError
+        Anything wrong, naming file, row and column: a file beyond the size limits of
+        `inspection_io.tables`, a cell that is not a number in the file's convention
+        (`inspection_io.number_text`), a value outside its hard plausibility range
+        (`inspection_io.plausibility`; values outside the soft range are kept and
+        flagged ``unusual <quantity>``).
     """
     path = Path(path)
     if kind is not None and kind not in SPECS:
@@ -152,7 +170,7 @@ def read_campaign_file(path: str | Path, kind: str | None = None, *,
     spec = SPECS[kind]
     context = Context(table=table, spec=spec, binder_content=binder_content,
                       concrete_density=concrete_density, known_zones=known_zones,
-                      known_members=known_members,
+                      known_members=known_members, member_depths=member_depths,
                       options={"core_corrections": core_corrections or CoreCorrections(),
                                "outlier_alpha": outlier_alpha})
     resolve_columns(context)
@@ -186,6 +204,8 @@ def _metadata(context: Context, detected: bool) -> dict:
         "conversions": list(context.conversions),
         "ignored_columns": [h.raw for h in table.headers if h.name not in known],
         "n_rows": len(table.rows),
+        "number_format": (context.number_format.to_dict() if context.number_format
+                          else None),
     }
     if spec.kind == "cores":
         metadata["core_corrections"] = context.options["core_corrections"].to_dict()

@@ -14,8 +14,9 @@ from inspection_io.units import chloride_concrete_to_binder
 COLUMNS = (
     Column("profile_id", "text", required=True),
     Column("depth_from", "number", "length_metric", required=True, lower=0.0,
-           what="depth_from"),
-    Column("depth_to", "number", "length_metric", required=True, lower=0.0, what="depth_to"),
+           what="depth_from", plausible="chloride_depth"),
+    Column("depth_to", "number", "length_metric", required=True, lower=0.0, what="depth_to",
+           plausible="chloride_depth"),
     Column("chloride", "number", "chloride", required=True, lower=0.0, what="chloride content"),
 )
 
@@ -46,11 +47,18 @@ def _build(row: Row) -> list[dict]:
         raise row.error(f"depth_to ({end:g} mm) must be greater than depth_from ({start:g} mm)",
                         column="depth_to")
     _check_profile(row, start, end)
+    row.check_within_member(end, "depth_to", "chloride increment depth_to", allow_equal=True)
     context = row.context
     value = row["chloride"]
+    as_given = None
+    if value > 100.0:
+        raise row.error(f"chloride content {value:g} {row.unit('chloride')} is more than "
+                        "100 %", column="chloride")
     if context.units["chloride"].needs_binder:
+        as_given = f"{value:g} % concrete"
         value = chloride_concrete_to_binder(value, context.concrete_density,
                                             context.binder_content)
+    row.check_plausible("chloride", value, "chloride", as_given=as_given)
     extra = {"depth_from": start, "depth_to": end, "depth_mid": 0.5 * (start + end),
              "chloride_as_given": row["chloride"], "chloride_unit": row.unit("chloride"),
              "depth_unit": row.unit("depth_from")}

@@ -10,7 +10,11 @@ below 50 mm) are set here; the zone-level outlier test runs at the end
 from __future__ import annotations
 
 from inspection_io import screening
-from inspection_io.cores import CoreCorrections, insitu_strength, strength_from_failure_load
+from inspection_io.cores import (
+    CoreCorrections,
+    insitu_strength,
+    strength_from_failure_load,
+)
 from inspection_io.readers._common import Column, Context, KindSpec, Row
 
 #: Relative tolerance between a stated strength and 4F/(pi d^2) from the stated
@@ -20,12 +24,12 @@ STRENGTH_LOAD_TOLERANCE = 0.02
 COLUMNS = (
     Column("core_id", "text", required=True),
     Column("diameter", "number", "length", required=True, lower=0.0, lower_inclusive=False,
-           what="diameter"),
+           what="diameter", plausible="core_diameter"),
     Column("length", "number", "length", required=True, lower=0.0, lower_inclusive=False,
-           what="length"),
+           what="length", plausible="core_length"),
     Column("strength", "number", "stress", lower=0.0, lower_inclusive=False, what="strength"),
     Column("failure_load", "number", "force", lower=0.0, lower_inclusive=False,
-           what="failure load"),
+           what="failure load", plausible="failure_load"),
     Column("moisture", "choice", choices=("as-received", "dry", "soaked")),
     Column("bar_in_core", "bool"),
     Column("damaged", "bool"),
@@ -36,6 +40,9 @@ COLUMNS = (
 def _build(row: Row) -> list[dict]:
     diameter, length = row["diameter"], row["length"]
     strength = row["strength"]
+    if strength is not None:
+        row.check_plausible("core_strength", strength, "strength",
+                            as_given=row.as_given("strength"))
     if row["failure_load"] is not None:
         from_load = float(strength_from_failure_load(row["failure_load"], diameter))
         if strength is None:
@@ -44,6 +51,10 @@ def _build(row: Row) -> list[dict]:
             raise row.error(f"strength {strength:.4g} MPa disagrees with 4F/(pi d^2) = "
                             f"{from_load:.4g} MPa from the failure load and diameter",
                             column="strength")
+    if row["strength"] is None:
+        row.check_plausible("core_strength", strength, "failure_load",
+                            as_given=f"4F/(pi d^2) from failure load {row['failure_load']:.6g} kN "
+                                     f"and diameter {diameter:.6g} mm")
     corrections = row.context.options.get("core_corrections") or CoreCorrections()
     moisture = row["moisture"] or "as-received"
     insitu, factors = insitu_strength(strength, diameter, length, moisture, corrections)

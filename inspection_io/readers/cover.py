@@ -6,12 +6,14 @@ from inspection_io.readers._common import Column, KindSpec, Row
 
 COLUMNS = (
     Column("location_id", "text", required=True),
-    Column("cover", "number", "length", required=True, lower=0.0, what="cover"),
+    Column("cover", "number", "length", required=True, lower=0.0, what="cover",
+           plausible="cover"),
     Column("face", "choice", choices=("", "top", "bottom")),
 )
 
 
 def _build(row: Row) -> list[dict]:
+    row.check_within_member(row["cover"], "cover", "cover")
     extra = {"face": row["face"] or None, "cover_unit": row.unit("cover")}
     return [row.observation("cover", row["cover"], "mm", extra)]
 

@@ -11,7 +11,8 @@ from inspection_io.readers._common import Column, KindSpec, Row
 
 COLUMNS = (
     Column("location_id", "text", required=True),
-    Column("potential", "number", "potential", required=True, what="potential"),
+    Column("potential", "number", "potential", required=True, what="potential",
+           plausible="potential"),
 )
 
 

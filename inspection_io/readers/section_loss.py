@@ -12,9 +12,11 @@ from inspection_io.readers._common import Column, KindSpec, Row
 COLUMNS = (
     Column("breakout_id", "text", required=True),
     Column("bar_diameter", "number", "length_mm", required=True, lower=0.0,
-           lower_inclusive=False, what="bar diameter"),
-    Column("residual_diameter", "number", "length_mm", lower=0.0, what="residual diameter"),
-    Column("max_pit_depth", "number", "length_mm", lower=0.0, what="pit depth"),
+           lower_inclusive=False, what="bar diameter", plausible="bar_diameter"),
+    Column("residual_diameter", "number", "length_mm", lower=0.0, what="residual diameter",
+           plausible="residual_diameter", flags_quantities=("residual_area_ratio",)),
+    Column("max_pit_depth", "number", "length_mm", lower=0.0, what="pit depth",
+           plausible="pit_depth", flags_quantities=("max_pit_depth",)),
 )
 
 

@@ -7,12 +7,15 @@ from inspection_io.readers._common import Column, KindSpec, Row
 COLUMNS = (
     Column("specimen_id", "text", required=True),
     Column("diameter", "number", "length_mm", required=True, lower=0.0, lower_inclusive=False,
-           what="diameter"),
+           what="diameter", plausible="bar_diameter"),
     Column("yield_strength", "number", "stress_metric_ksi", required=True, lower=0.0,
-           lower_inclusive=False, what="yield strength"),
+           lower_inclusive=False, what="yield strength", plausible="yield_strength",
+           flags_quantities=("yield_strength",)),
     Column("tensile_strength", "number", "stress_metric_ksi", lower=0.0, lower_inclusive=False,
-           what="tensile strength"),
-    Column("elongation", "number", "percent", lower=0.0, what="elongation"),
+           what="tensile strength", plausible="tensile_strength",
+           flags_quantities=("tensile_strength",)),
+    Column("elongation", "number", "percent", lower=0.0, what="elongation",
+           plausible="elongation", flags_quantities=("elongation",)),
 )
 
 
