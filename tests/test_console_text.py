@@ -88,8 +88,7 @@ def test_quote_cell_shows_control_characters_and_cuts_long_cells():
 
 
 # ---------------------------------------------------------------- through the CLI
-# The CLI prints InputError messages with rich markup on (assess/cli/app.py, guarded()).
-# Until it passes them through escape_markup these fail: strict xfail, so the fix shows.
+# The CLI prints InputError messages with its consoles set to markup=False (assess/cli/app.py).
 
 def _import_with_cover_file(tmp_path, text):
     from pathlib import Path
@@ -107,7 +106,6 @@ def _import_with_cover_file(tmp_path, text):
     return CliRunner().invoke(app, ["site", "import", str(tmp_path / "site")])
 
 
-@pytest.mark.xfail(strict=True, reason="lead: escape_markup(str(exc)) in assess/cli/app.py")
 @pytest.mark.parametrize("text, shown", [
     ("zone,location_id,cover [mm]\n[/x],P1,30\n", "'[/x]'"),
     ("zone,location_id,cover [unit]\nZ1,P1,30\n", "'cover [unit]'"),

@@ -32,8 +32,8 @@ app = typer.Typer(
     rich_markup_mode=None,  # help text is plain: units in brackets such as [MPa] stay visible
 )
 
-err_console = Console(stderr=True)
-out_console = Console()
+err_console = Console(stderr=True, markup=False, emoji=False)
+out_console = Console(markup=False, emoji=False)
 
 
 def _version_callback(value: bool):
