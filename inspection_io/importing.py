@@ -352,7 +352,8 @@ def _read(path: Path, kind: str | None, site: Site):
         binder_content=site.materials.binder_content,
         concrete_density=site.materials.concrete_density,
         known_zones=site.zone_ids,
-        known_members={m.member_id: m.zone for m in site.members.values()})
+        known_members={m.member_id: m.zone for m in site.members.values()},
+        member_depths={m.member_id: m.depth for m in site.members.values()})
 
 
 def _read_bytes(path: Path) -> bytes:

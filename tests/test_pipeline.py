@@ -184,3 +184,20 @@ def test_site_file_sampling_table_is_read_and_checked(fresh_site, tmp_path):
     (folder / "site.toml").write_text(text + "\n[sampling.corrosion]\ndraws = 10\n")
     result = run("run", folder, "--quick")
     assert result.exit_code == 2 and "sampling.corrosion.draws" in result.stderr
+
+
+def test_a_target_set_in_the_site_file_replaces_the_site_target(fresh_site, tmp_path):
+    folder = tmp_path / "site"
+    shutil.copytree(fresh_site, folder)
+    text = (folder / "site.toml").read_text()
+    text = text.replace('[members.M1]\n', '[members.M1]\ntarget_beta = 3.1\n'
+                        'target_beta_reason = "agreed with the owner for a closed deck"\n')
+    (folder / "site.toml").write_text(text)
+    result = run("members", folder, *FAST, "--json", "--no-plots")
+    assert result.exit_code == 0, result.stderr
+    payload = json.loads(result.stdout)
+    rows = [r for r in payload["results"] if r["member"] == "M1"]
+    assert rows and all(r["target"] == 3.1 for r in rows)
+    for r in rows:  # the verdict is against the member's own target
+        assert (r["verdict"] == "meets target") == (r["beta_after"] >= 3.1)
+    assert any("agreed with the owner" in note for note in payload["notes"])

@@ -20,7 +20,7 @@ from assess.reliability.dispatch import run_method
 from assess.site.member_models import build_member_model
 from assess.site.record import LedgerRow
 from assess.site.settings import DEFAULT_SEED
-from assess.targets import target_beta, verdict
+from assess.targets import Target, target_beta, verdict
 
 DEFAULT_METHOD = "subset_simulation"
 
@@ -120,6 +120,34 @@ class Assessment:
         }
 
 
+def member_target(site, member, target: Target) -> Target:
+    """The target of one member: its own ``target_beta``, else its zone's, else the site's.
+
+    A direct target in the site file carries a required reason, which becomes the source.
+    """
+    zone = site.zones[member.zone]
+    for owner, value, reason in (
+        (
+            f"member {member.member_id}",
+            getattr(member, "target_beta", None),
+            getattr(member, "target_beta_reason", None),
+        ),
+        (
+            f"zone {member.zone}",
+            getattr(zone, "target_beta", None),
+            getattr(zone, "target_beta_reason", None),
+        ),
+    ):
+        if value is not None:
+            return Target(
+                float(value),
+                target.reference_period_years,
+                f"set in the site file for {owner}: {reason}",
+                note=f"replaces {target.beta:.2f} ({target.source})",
+            )
+    return target
+
+
 def _verdict(beta: float, target) -> str:
     """`assess.targets.verdict`, with "no result" for an undefined beta (NaN)."""
     return "no result" if np.isnan(beta) else verdict(beta, target)
@@ -173,6 +201,9 @@ def assess_members(
     notes: list[str] = []
     for member_id in chosen:
         member = site.members[member_id]
+        own_target = member_target(site, member, target)
+        if own_target is not target:
+            notes.append(f"Member {member_id}: target {own_target.beta:.2f}, {own_target.source}.")
         models = {
             state: build_member_model(
                 site,
@@ -212,8 +243,8 @@ def assess_members(
                     before=outcome["before"],
                     after=outcome["after"],
                     form_after=form_after,
-                    target=target.beta,
-                    verdict=_verdict(beta_after, target),
+                    target=own_target.beta,
+                    verdict=_verdict(beta_after, own_target),
                 )
             )
         if progress:
