@@ -24,6 +24,11 @@ DEMO = Path(__file__).resolve().parents[1] / "demo_sites" / "tanners-yard"
 SUITE_SEED = int(os.environ.get("ASSESS_TEST_SEED", DEFAULT_SEED))
 """Seed of the session's MCMC runs (environment variable ASSESS_TEST_SEED)."""
 
+# Chains one after another in the test process: on a 2-core machine running the suite this
+# is faster than worker processes (each pays for importing PyMC and the compiled model), and
+# the draws are the same (one seed per chain). See assess.updating.models.CORES_VARIABLE.
+os.environ.setdefault("ASSESS_MCMC_CORES", "1")
+
 
 @pytest.fixture(scope="session")
 def suite_seed():

@@ -111,6 +111,25 @@ def _group_parameters(pm, prior, *, dims=None, shape=None, name_suffix=""):
     return mu, sigma
 
 
+CORES_VARIABLE = "ASSESS_MCMC_CORES"
+"""Environment variable: worker processes for the chains (default: one per chain, at most one
+per CPU). ``1`` samples the chains one after another in this process, which on a small
+machine is faster for small models: each worker process pays for importing PyMC and
+receiving the compiled model (measured in benchmarks/update_demo.py). The draws do not
+depend on it: every chain has its own seed."""
+
+
+def chain_processes(chains: int) -> int:
+    """Worker processes for ``chains`` chains (`CORES_VARIABLE`, else min(chains, CPUs))."""
+    text = os.environ.get(CORES_VARIABLE, "").strip()
+    if text:
+        if not (text.isascii() and text.isdigit() and int(text) >= 1):
+            raise InputError(f"{CORES_VARIABLE} must be a whole number >= 1, got {text!r}",
+                             column=CORES_VARIABLE)
+        return min(int(text), chains)
+    return max(1, min(chains, os.cpu_count() or 1))
+
+
 def sample_posterior(model, *, draws: int = 1000, tune: int = 1000, chains: int = 4,
                      seed: int | None = None, target_accept: float = 0.95,
                      sampler: str = "pymc", progressbar: bool = False):
@@ -132,7 +151,7 @@ def sample_posterior(model, *, draws: int = 1000, tune: int = 1000, chains: int 
 
     import pymc as pm
 
-    cores = max(1, min(chains, os.cpu_count() or 1))
+    cores = chain_processes(chains)
     logger = logging.getLogger("pymc")
     previous = logger.level
     if not progressbar:  # PyMC logs its progress at INFO level
