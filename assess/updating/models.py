@@ -171,9 +171,12 @@ def _sample(pm, model, draws, tune, chains, cores, seed, target_accept, sampler,
                              target_accept=target_accept)
         if sampler != "pymc":
             raise InputError(f"sampler must be 'pymc' or 'nutpie', got {sampler!r}")
+        from assess.updating.workers import dying_context
+
         return pm.sample(draws=draws, tune=tune, chains=chains, cores=cores, random_seed=seed,
                          target_accept=target_accept, progressbar=progressbar,
-                         compute_convergence_checks=False)
+                         compute_convergence_checks=False,
+                         mp_ctx=dying_context() if cores > 1 else None)
 
 
 def group_draws(idata, group: str, name: str | None = None):

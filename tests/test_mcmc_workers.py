@@ -1,0 +1,63 @@
+"""Worker processes of parallel chains die with the process that started them (a kill -9 of a
+run used to leave PyMC workers asleep for ever). Reference: POSIX kill(2) with signal 0 as the test of a process being alive.
+
+A parent starts a sleeping child through `assess.updating.workers.dying_context` (what
+`sample_posterior` hands to PyMC) and is killed; the child must go. The same with the plain
+multiprocessing context is the control: that child survives, so the check can fail.
+"""
+
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import textwrap
+import time
+
+import pytest
+
+SCRIPT = textwrap.dedent("""
+    import multiprocessing, sys, time
+    from assess.updating.workers import dying_context
+
+    if __name__ == "__main__":
+        context = dying_context() if sys.argv[1] == "dying" else multiprocessing.get_context(
+            "forkserver")
+        child = context.Process(target=time.sleep, args=(120,), daemon=True)
+        child.start()
+        print(child.pid, flush=True)
+        time.sleep(120)
+""")
+
+
+def running(pid: int) -> bool:
+    state = subprocess.run(["ps", "-o", "stat=", "-p", str(pid)], capture_output=True,
+                           text=True).stdout.strip()
+    return bool(state) and not state.startswith("Z")
+
+
+def child_after_killing_its_parent(kind: str, tmp_path) -> bool:
+    script = tmp_path / "parent.py"
+    script.write_text(SCRIPT)
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(sys.path)}
+    parent = subprocess.Popen([sys.executable, str(script), kind], stdout=subprocess.PIPE,
+                              env=env, text=True)
+    child = int(parent.stdout.readline())
+    try:
+        assert running(child)
+        parent.send_signal(signal.SIGKILL)
+        parent.wait(timeout=30)
+        deadline = time.time() + 20
+        while time.time() < deadline and running(child):
+            time.sleep(0.2)
+        return running(child)
+    finally:
+        if running(child):
+            os.kill(child, signal.SIGKILL)
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="POSIX processes")
+def test_a_worker_dies_with_its_killed_parent(tmp_path):
+    assert child_after_killing_its_parent("plain", tmp_path), "control: a plain child survives"
+    assert not child_after_killing_its_parent("dying", tmp_path)
