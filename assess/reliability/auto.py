@@ -11,9 +11,12 @@ The steps, each on the same limit state:
 3. Importance sampling on the mixture of all design points found, until its CoV
    reaches ``target_cov`` (or ``n`` samples).
 4. The two estimates are compared on the log scale (`assess.reliability.check`). If
-   they agree, the importance-sampling estimate (the smaller CoV) is reported. If not,
-   or if FORM found no usable design point, subset simulation is reported, repeated
-   until ``target_cov`` or the evaluation budget; the result warns and says why.
+   they agree, the importance-sampling estimate (the smaller CoV) is reported. If
+   importance sampling is significantly higher, it is reported too: its weighted
+   failed samples show failure mass that subset simulation missed. If it is
+   significantly lower, or FORM found no usable design point, subset simulation is
+   reported, repeated until ``target_cov`` or the evaluation budget. A disagreement
+   always gives a warning that says which estimate was trusted and why.
 
 When no sample fails even at the deepest level (very reliable modes with no usable
 design point), pf is 0 and ``details`` holds the upper bound ``pf_upper`` and the
@@ -36,7 +39,7 @@ import math
 
 import numpy as np
 
-from assess.reliability.check import compare
+from assess.reliability.check import trust_between
 from assess.reliability.crude import check_int, check_real, resolve_seed
 from assess.reliability.form import form_with_starts
 from assess.reliability.importance import (
@@ -142,22 +145,21 @@ def auto(problem: StandardNormalProblem, *, seed=None, n_per_level: int | None =
     if usable:
         imp = importance_sampling(problem, n=n_max, seed=rng, design_point=centres,
                                   weights=weights, target_cov=target_cov)
-        outcome = compare(imp.pf, imp.cov, sus)
+        decision = trust_between(imp.pf, imp.cov, sus, "importance_sampling")
         tried.append(_summary(imp, f"mixture over {n_points} design point(s)"))
         check_record = {"estimate": "importance_sampling", "pf": imp.pf, "cov": imp.cov,
                         "check": "subset_simulation", "check_pf": sus.pf,
-                        "check_cov": sus.cov, **outcome}
-        if outcome["agree"] and imp.pf > 0:
+                        "check_cov": sus.cov, **decision}
+        if decision["trust"] == "importance_sampling" and imp.pf > 0:
             chosen = imp
-            check_record["trust"] = "importance_sampling"
         else:
             check_record["trust"] = "subset_simulation"
+        if not decision["agree"]:
             warnings.append(
                 f"importance sampling on {n_points} design point(s) gives pf = {imp.pf:.3g} "
                 f"(CoV {imp.cov:.2g}) and subset simulation pf = {sus.pf:.3g} (CoV "
-                f"{sus.cov:.2g}); {outcome['note']}. Trusting subset simulation: the design "
-                "points do not describe the whole failure domain (another region, strong "
-                "curvature or a non-smooth limit state)")
+                f"{sus.cov:.2g}); {decision['note']}. Trusting "
+                f"{check_record['trust'].replace('_', ' ')}: {decision['reason']}")
     else:
         warnings.append("FORM found no usable design point (beta "
                         f"{form_result.beta:.3g}); the answer is subset simulation's")

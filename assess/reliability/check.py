@@ -10,9 +10,18 @@ The two are compared on the log scale, where both estimators are close to normal
     z = |ln pf_method - ln pf_check| / sqrt(s_method^2 + s_check^2),
     s^2 = ln(1 + CoV^2)  (lognormal spread of each estimate; 0 for FORM).
 
-z above 3 is a disagreement: the result gets a warning that names the method to
-trust (subset simulation, which makes no assumption about the shape of the failure
-domain) and ``details["check"]`` keeps both numbers.
+z above 3 is a disagreement, and which estimate to trust depends on its direction:
+
+- the estimate below the check: the design points miss part of the failure domain
+  (another region, strong curvature, a kink) - trust subset simulation;
+- importance sampling above the check: its failed samples, weighted by exact density
+  ratios, show failure mass that subset simulation's Markov chains did not reach (a
+  narrow region, a funnel-shaped tail of a parameter-uncertainty variable) - trust
+  importance sampling;
+- FORM or SORM above the check: importance sampling at the design point(s) decides.
+
+The result gets a warning that names the method to trust and ``details["check"]``
+keeps the numbers.
 
 References
 ----------
@@ -106,35 +115,73 @@ def run_check(problem, pf_reference: float, *, seed, n_per_level: int = 500,
                    max_calls=None)
 
 
+def trust_between(pf: float, cov: float, check: ReliabilityResult, method: str) -> dict:
+    """Which of a sampling estimate (pf, cov) by ``method`` and a subset-simulation
+    check to trust: the comparison of `compare` plus ``trust`` and ``reason``."""
+    outcome = compare(pf, cov, check)
+    if outcome["agree"]:
+        return {**outcome, "trust": method, "reason": "the two agree"}
+    if method == "importance_sampling" and pf > check.pf:
+        return {**outcome, "trust": "importance_sampling",
+                "reason": "importance sampling's failed samples show failure mass that "
+                          "subset simulation's Markov chains did not reach (a narrow region "
+                          "or a funnel-shaped tail), so subset simulation is too low"}
+    return {**outcome, "trust": "subset_simulation",
+            "reason": _REASON.get(method, "the method does not fit this problem")}
+
+
 def checked(problem, result: ReliabilityResult, *, seed, n_per_level: int = 500,
             check: ReliabilityResult | None = None) -> ReliabilityResult:
     """``result`` with an independent subset-simulation check in ``details["check"]``.
 
     A disagreement beyond `Z_DISAGREE` adds a warning naming the method to trust;
-    the check's evaluations are added to ``n_calls`` unless ``check`` (a run made
-    before, already counted) is given.
+    for FORM or SORM above the check, 1000 importance samples at the design
+    point(s) decide. Evaluations of the check are added to ``n_calls`` unless
+    ``check`` (a run made before, already counted) is given.
     """
-    extra_calls = 0
+    calls_before = problem.n_calls
     if check is None:
         check, _ = run_check(problem, result.pf, seed=seed, n_per_level=n_per_level)
-        extra_calls = check.n_calls
-    outcome = compare(result.pf, result.cov, check)
-    trust = result.method if outcome["agree"] else "subset_simulation"
+    decision = trust_between(result.pf, result.cov, check, result.method)
+    arbiter = None
+    if result.method in ("form", "sorm") and not decision["agree"] and result.pf > check.pf:
+        arbiter = _arbiter(problem, result, seed)
+        if arbiter is not None:
+            decision = trust_between(arbiter.pf, arbiter.cov, check, "importance_sampling")
     record = {"method": "subset_simulation", "pf": check.pf, "beta": check.beta,
               "cov": check.cov, "n_calls": check.n_calls, "seed": check.seed,
-              "n_per_level": n_per_level, "agree": outcome["agree"], "z": outcome["z"],
-              "note": outcome["note"], "trust": trust}
+              "n_per_level": n_per_level, "agree": decision["agree"], "z": decision["z"],
+              "note": decision["note"], "trust": decision["trust"]}
+    if arbiter is not None:
+        record["importance_sampling"] = {"pf": arbiter.pf, "beta": arbiter.beta,
+                                         "cov": arbiter.cov, "n_calls": arbiter.n_calls}
     warnings = list(result.warnings)
-    if not outcome["agree"]:
-        warnings.append(
-            f"{result.method} gives pf = {result.pf:.3g} (beta {_beta_text(result.pf)}), an "
-            f"independent subset-simulation check gives pf = {check.pf:.3g} (beta "
-            f"{_beta_text(check.pf)}, CoV {check.cov:.2g}); {outcome['note']}. Trust subset "
-            f"simulation: {_REASON.get(result.method, 'the method does not fit this problem')}")
+    if not decision["agree"]:
+        trusted = decision["trust"].replace("_", " ")
+        text = (f"{result.method} gives pf = {result.pf:.3g} (beta {_beta_text(result.pf)}), an "
+                f"independent subset-simulation check gives pf = {check.pf:.3g} (beta "
+                f"{_beta_text(check.pf)}, CoV {check.cov:.2g}); {decision['note']}.")
+        if arbiter is not None:
+            text += (f" Importance sampling at the design point(s) gives pf = "
+                     f"{arbiter.pf:.3g} (CoV {arbiter.cov:.2g}).")
+        warnings.append(f"{text} Trust {trusted}: {decision['reason']}")
     details = dict(result.details)
     details["check"] = record
     return dataclasses.replace(result, warnings=tuple(warnings), details=details,
-                               n_calls=result.n_calls + extra_calls)
+                               n_calls=result.n_calls + problem.n_calls - calls_before)
+
+
+def _arbiter(problem, result: ReliabilityResult, seed):
+    """1000 importance samples on the design points of a FORM or SORM result."""
+    from assess.reliability.importance import centres_from_form, importance_sampling
+
+    details = result.details.get("form", result.details)
+    holder = dataclasses.replace(result, details=details)
+    centres, weights = centres_from_form(holder)
+    if centres.shape[0] == 0 or not np.all(np.isfinite(centres)):
+        return None
+    return importance_sampling(problem, n=1000, seed=check_rng(seed, 2), design_point=centres,
+                               weights=weights)
 
 
 def _beta_text(pf: float) -> str:
@@ -151,4 +198,5 @@ __all__ = [
     "levels_for",
     "log_spread",
     "run_check",
+    "trust_between",
 ]

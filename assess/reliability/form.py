@@ -39,6 +39,7 @@ from assess.reliability.systems import ditlevsen_bounds
 _ARMIJO_A = 0.5      # sufficient-decrease constant a of the Armijo rule [3]
 _ARMIJO_B = 0.5      # step reduction factor b of the Armijo rule [3]
 _MAX_HALVINGS = 30
+_HALVINGS_PER_CALL = 10  # trial steps of the line search evaluated per limit-state call
 _ANDERSON_MEMORY = 3  # residuals kept by the Anderson acceleration [5]
 _MERIT_GAMMA = 2.5  # gamma > 1 in c = gamma max(|u|/|grad G|, |u + d|^2/(2|G|)) [3]
 
@@ -67,6 +68,10 @@ class _ModeFunction:
 
     def value(self, u: np.ndarray) -> float:
         return float(self._g(u[None, :])[0])
+
+    def values(self, u: np.ndarray) -> np.ndarray:
+        """G at the rows of ``u``, one vectorised call."""
+        return self._g(u)
 
     def value_and_gradient(self, u: np.ndarray) -> tuple[float, np.ndarray]:
         """G(u) and grad G(u) from dim + 1 points evaluated in one vectorised call."""
@@ -103,7 +108,7 @@ def _anderson_point(us: list, fs: list) -> np.ndarray | None:
 
 
 def _ihlrf(func: _ModeFunction, u0: np.ndarray, tol: float, tol_direction: float,
-           max_iter: int, g_scale: float | None = None) -> dict:
+           max_iter: int, g_scale: float | None = None, known: tuple = ()) -> dict:
     """Improved HL-RF search for the design point of one smooth limit state [3], with
     Anderson acceleration of the HL-RF fixed-point map [5] tried before each line search."""
     u = u0.copy()
@@ -129,6 +134,11 @@ def _ihlrf(func: _ModeFunction, u0: np.ndarray, tol: float, tol_direction: float
                         "direction_error": direction_error})
         if abs(g) / g_scale <= tol and direction_error <= tol_direction:
             converged = True
+            break
+        if known and abs(g) / g_scale <= 1e-3 and any(
+                float(np.linalg.norm(u - point)) <= 0.05 * max(1.0, float(np.linalg.norm(u)))
+                for point in known):
+            message = "the search returned to a design point already found"
             break
         if _stalled(history, tol):
             stalled = True
@@ -170,13 +180,8 @@ def _ihlrf(func: _ModeFunction, u0: np.ndarray, tol: float, tol_direction: float
         step = 1.0
         slack = 1e-10 * merit   # rounding: a linear G meets the rule with equality
         if not (0.5 * float(u_new @ u_new) + c * abs(g_new) - merit <= -step * decrease + slack):
-            for _ in range(_MAX_HALVINGS):
-                step *= _ARMIJO_B
-                u_try = u + step * d
-                g_try = func.value(u_try)
-                if (0.5 * float(u_try @ u_try) + c * abs(g_try) - merit
-                        <= -step * decrease + slack):
-                    break
+            # all halvings of the step at once, in batches of _HALVINGS_PER_CALL points
+            step = _line_search(func, u, d, c, merit, decrease, slack)
             u_new = u + step * d
             g_new, grad_new = func.value_and_gradient(u_new)
         history[-1]["step"] = step
@@ -186,9 +191,27 @@ def _ihlrf(func: _ModeFunction, u0: np.ndarray, tol: float, tol_direction: float
             "g_scale": g_scale}
 
 
+def _line_search(func: _ModeFunction, u: np.ndarray, d: np.ndarray, c: float, merit: float,
+                 decrease: float, slack: float) -> float:
+    """Largest step b^k (k = 1 .. _MAX_HALVINGS) meeting the Armijo rule; the trial points
+    are evaluated _HALVINGS_PER_CALL at a time in one vectorised call."""
+    powers = np.arange(1, _MAX_HALVINGS + 1)
+    steps = _ARMIJO_B ** powers
+    for first in range(0, powers.size, _HALVINGS_PER_CALL):
+        batch = steps[first:first + _HALVINGS_PER_CALL]
+        trials = u[None, :] + batch[:, None] * d[None, :]
+        values = func.values(trials)
+        merits = 0.5 * (trials * trials).sum(axis=1) + c * np.abs(values)
+        ok = np.flatnonzero(merits - merit <= -batch * decrease + slack)
+        if ok.size:
+            return float(batch[ok[0]])
+    return float(steps[-1])
+
+
 def _stalled(history: list, tol: float, window: int = 5) -> bool:
-    """True when the last ``window`` iterations sat on the surface (|G|/G0 <= 100 tol)
-    with small steps and beta changing by less than 1e-6 relative."""
+    """True when the last ``window`` iterations sat on the surface (|G|/G0 <= 100 tol),
+    beta changed by less than 1e-4 relative and the direction error fell by less than
+    10 %: the search crawls along a kink of the limit state and makes no progress."""
     if len(history) <= window:
         return False
     recent = history[-window - 1:]
@@ -196,10 +219,9 @@ def _stalled(history: list, tol: float, window: int = 5) -> bool:
     scale = abs(history[0]["g"]) if math.isfinite(history[0]["g"]) else 1.0
     scale = scale or 1.0
     on_surface = all(abs(h["g"]) / scale <= 100.0 * tol for h in recent)
-    small_steps = all(isinstance(h.get("step"), float) and h["step"] < 0.1
-                      for h in recent[:-1])
-    return (on_surface and small_steps
-            and float(np.ptp(betas)) <= 1e-6 * max(1.0, float(np.abs(betas).max())))
+    no_progress = recent[-1]["direction_error"] >= 0.9 * recent[0]["direction_error"]
+    return (on_surface and no_progress
+            and float(np.ptp(betas)) <= 1e-4 * max(1.0, float(np.abs(betas).max())))
 
 
 def _result_fields(problem: StandardNormalProblem, search: dict) -> dict:
@@ -217,6 +239,7 @@ def _result_fields(problem: StandardNormalProblem, search: dict) -> dict:
             "importance_factors": {name: float(a * a) for name, a in zip(problem.names, alpha)}}
 
 
+_MAX_ITER_EXTRA = 40  # iterations of a search started from a scouting sample
 _NEGLIGIBLE = 1e-2    # a design point with Phi(-beta) < 1 % of the nearest one's is not kept
 CHECK_SEED = 20260611
 """Seed of the scout and of the check when none is given, so FORM stays deterministic."""
@@ -240,8 +263,9 @@ def search_from_starts(func: _ModeFunction, starts: list, found: list, tol: floa
     for start in starts:
         if len(found) >= max_points:
             break
-        search = _ihlrf(func, np.asarray(start, dtype=float), tol, tol_direction, max_iter,
-                        g_scale=g_scale)
+        known = tuple(p["u"] for p in found if _usable(p))
+        search = _ihlrf(func, np.asarray(start, dtype=float), tol, tol_direction,
+                        min(max_iter, _MAX_ITER_EXTRA), g_scale=g_scale, known=known)
         if not _usable(search):
             continue
         norm = float(np.linalg.norm(search["u"]))
@@ -314,14 +338,14 @@ def form(problem: StandardNormalProblem, *, u0=None, tol: float = 1e-6,
     c = 2.5 max(|u| / |grad G|, |u_HLRF|^2 / (2 |G|)) (improved HL-RF [3]_), which
     makes the iteration converge where plain HL-RF can cycle. The Armijo
     condition is m(u + s d) - m(u) <= a s (grad m . d) with a = 1/2 and s halved
-    from 1. Before each line search, the Anderson-accelerated point of the
+    from 1 (ten halvings are evaluated at a time, in one vectorised call). Before each line search, the Anderson-accelerated point of the
     HL-RF fixed-point map (memory 3) [5]_ is tried and kept if it lowers the
     merit function; this cuts the iterations where the surface is curved enough
     to make HL-RF oscillate (e.g. 380 to about 60 evaluations for
     g = x1^3 + x2^3 - 18 with x1 ~ N(10, 5), x2 ~ N(9.9, 5)).
 
-    A search whose last iterations sit on the surface with beta fixed but the
-    direction test unmet stops as "stalled": the limit state has a kink there
+    A search whose last five iterations sit on the surface with beta fixed to
+    1e-4 and the direction error not falling stops as "stalled": the limit state has a kink there
     (e.g. max(v, v_min) in a shear capacity); beta is then the distance to the
     kink, and the result is not marked converged.
 
