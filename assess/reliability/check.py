@@ -147,7 +147,12 @@ def checked(problem, result: ReliabilityResult, *, seed, n_per_level: int = 500,
     if result.method in ("form", "sorm") and not decision["agree"] and result.pf > check.pf:
         arbiter = _arbiter(problem, result, seed)
         if arbiter is not None:
-            decision = trust_between(arbiter.pf, arbiter.cov, check, "importance_sampling")
+            by_sampling = trust_between(arbiter.pf, arbiter.cov, check, "importance_sampling")
+            decision = {**decision, "trust": by_sampling["trust"],
+                        "reason": ("importance sampling at the design point(s) "
+                                   + ("agrees with the check" if by_sampling["agree"] else
+                                      "decides: " + by_sampling["reason"])
+                                   + "; " + _REASON[result.method])}
     record = {"method": "subset_simulation", "pf": check.pf, "beta": check.beta,
               "cov": check.cov, "n_calls": check.n_calls, "seed": check.seed,
               "n_per_level": n_per_level, "agree": decision["agree"], "z": decision["z"],

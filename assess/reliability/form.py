@@ -142,10 +142,12 @@ def _ihlrf(func: _ModeFunction, u0: np.ndarray, tol: float, tol_direction: float
             break
         if _stalled(history, tol):
             stalled = True
-            message = (f"FORM stalled at beta = {beta:.4f} on the limit state (|G|/G0 = "
-                       f"{abs(g) / g_scale:.1e}) with the direction test unmet (error "
-                       f"{direction_error:.1e}): the limit state is not smooth there, e.g. a "
-                       "min or max in a capacity formula; beta is the distance to that kink")
+            where = ("on the limit state" if abs(g) / g_scale <= 100.0 * tol
+                     else "off the limit state")
+            message = (f"FORM stalled at |u| = {float(np.linalg.norm(u)):.4f} {where} (|G|/G0 "
+                       f"= {abs(g) / g_scale:.1e}, direction error {direction_error:.1e}): the "
+                       "limit state is not smooth there (e.g. a min, max or abs in a capacity "
+                       "formula), so the linearisation does not settle; see the check")
             break
         if iteration == max_iter:
             message = (f"FORM did not converge in {max_iter} iterations "
@@ -186,9 +188,10 @@ def _ihlrf(func: _ModeFunction, u0: np.ndarray, tol: float, tol_direction: float
             g_new, grad_new = func.value_and_gradient(u_new)
         history[-1]["step"] = step
         u, g, grad = u_new, g_new, grad_new
-    return {"u": u, "g": g, "grad": grad, "converged": converged, "stalled": stalled,
-            "message": message, "history": history, "iterations": len(history) - 1,
-            "g_scale": g_scale}
+    on_surface = math.isfinite(g) and abs(g) / g_scale <= 100.0 * tol
+    return {"u": u, "g": g, "grad": grad, "converged": converged,
+            "stalled": stalled and on_surface, "message": message, "history": history,
+            "iterations": len(history) - 1, "g_scale": g_scale}
 
 
 def _line_search(func: _ModeFunction, u: np.ndarray, d: np.ndarray, c: float, merit: float,
@@ -209,9 +212,13 @@ def _line_search(func: _ModeFunction, u: np.ndarray, d: np.ndarray, c: float, me
 
 
 def _stalled(history: list, tol: float, window: int = 5) -> bool:
-    """True when the last ``window`` iterations sat on the surface (|G|/G0 <= 100 tol),
-    beta changed by less than 1e-4 relative and the direction error fell by less than
-    10 %: the search crawls along a kink of the limit state and makes no progress."""
+    """True when the search makes no progress: either the last three line searches all
+    took steps below 1e-3, or the last ``window`` iterations sat on the surface
+    (|G|/G0 <= 100 tol) with beta fixed to 1e-4 and the direction error not falling
+    by 10 % (a search crawling along a kink of the limit state)."""
+    steps = [h.get("step") for h in history[-4:-1]]
+    if len(steps) == 3 and all(isinstance(s, float) and s < 1e-3 for s in steps):
+        return True
     if len(history) <= window:
         return False
     recent = history[-window - 1:]
@@ -230,6 +237,9 @@ def _result_fields(problem: StandardNormalProblem, search: dict) -> dict:
     ok = grad_norm > 0 and math.isfinite(grad_norm)
     alpha = -search["grad"] / grad_norm if ok else np.full(problem.dim, np.nan)
     beta = float(alpha @ u) if ok else math.nan
+    if search.get("stalled") and ok:
+        # the one-sided gradient at a kink is not normal to the surface: use the distance
+        beta = math.copysign(float(np.linalg.norm(u)), beta)
     design_point_x = None
     if problem.to_physical is not None:
         x = problem.to_physical(u[None, :])
@@ -344,8 +354,9 @@ def form(problem: StandardNormalProblem, *, u0=None, tol: float = 1e-6,
     to make HL-RF oscillate (e.g. 380 to about 60 evaluations for
     g = x1^3 + x2^3 - 18 with x1 ~ N(10, 5), x2 ~ N(9.9, 5)).
 
-    A search whose last five iterations sit on the surface with beta fixed to
-    1e-4 and the direction error not falling stops as "stalled": the limit state has a kink there
+    A search whose last three line searches took steps below 1e-3, or whose last
+    five iterations sit on the surface with beta fixed to 1e-4 and the direction
+    error not falling, stops as "stalled" (beta is then the distance |u|): the limit state has a kink there
     (e.g. max(v, v_min) in a shear capacity); beta is then the distance to the
     kink, and the result is not marked converged.
 

@@ -75,7 +75,10 @@ class StandardNormalProblem:
         u = np.atleast_2d(np.asarray(u, dtype=float))
         if u.shape[1] != self.dim:
             raise ValueError(f"u has {u.shape[1]} columns, the problem has {self.dim} variables")
-        values = np.asarray(self._g_u(u), dtype=float)
+        # numpy's floating-point warnings are silenced here: non-finite values are counted
+        # and reported once per analysis by the methods (`nonfinite_warnings`)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            values = np.asarray(self._g_u(u), dtype=float)
         if values.ndim == 1:
             values = values[:, None]
         if values.shape[0] != u.shape[0]:
