@@ -8,8 +8,15 @@ from scipy import optimize, stats
 
 from assess.errors import AnalysisError, InputError
 from assess.reliability import StandardNormalProblem, form, run_method
-from tests.reference_problems import (form_trap, four_branch_series, four_branch_single,
-                                      linear_100d, linear_normal, lognormal_r_s, parabolic)
+from tests.reference_problems import (
+    form_trap,
+    four_branch_series,
+    four_branch_single,
+    linear_100d,
+    linear_normal,
+    lognormal_r_s,
+    parabolic,
+)
 
 
 def test_linear_normal_beta_design_point_and_importance_factors():
