@@ -14,6 +14,20 @@ from assess.reliability.result import ReliabilityResult
 from assess.reliability.sorm import sorm
 from assess.reliability.subset import subset_simulation
 
+
+def polynomial_chaos(problem: StandardNormalProblem, *, seed=None, n_samples: int = 200,
+                     max_samples: int = 1000, tolerance: float = 0.1,
+                     check_points: int = 100, max_degree: int = 5, n_per_level: int = 2000,
+                     max_loo: float = 1e-2) -> ReliabilityResult:
+    """Reliability on a polynomial-chaos surrogate checked at its failure boundary
+    (`assess.surrogate.reliability.chaos_reliability`, imported on first use)."""
+    from assess.surrogate.reliability import chaos_reliability
+
+    return chaos_reliability(problem, seed=seed, n_samples=n_samples, max_samples=max_samples,
+                             tolerance=tolerance, check_points=check_points,
+                             max_degree=max_degree, n_per_level=n_per_level, max_loo=max_loo)
+
+
 METHODS = {
     "auto": auto,
     "form": form,
@@ -21,6 +35,7 @@ METHODS = {
     "importance_sampling": importance_sampling,
     "subset_simulation": subset_simulation,
     "crude_monte_carlo": crude_monte_carlo,
+    "polynomial_chaos": polynomial_chaos,
 }
 """Reliability methods by name; the keys are the valid ``method`` values of `run_method`."""
 
@@ -43,7 +58,8 @@ def run_method(problem: StandardNormalProblem, method: str, *, seed=None,
         Limit state(s) in u-space; g <= 0 is failure.
     method : str
         One of ``"auto"``, ``"form"``, ``"sorm"``, ``"importance_sampling"``,
-        ``"subset_simulation"``, ``"crude_monte_carlo"`` (see `METHODS`).
+        ``"subset_simulation"``, ``"crude_monte_carlo"``, ``"polynomial_chaos"``
+        (see `METHODS`).
     seed : int, numpy.random.Generator or None
         Seed of the sampling methods and of the checks; FORM and SORM themselves
         are deterministic.
