@@ -92,7 +92,8 @@ def chaos_reliability(problem: StandardNormalProblem, *, seed=None, n_samples: i
         evaluations only; ``details``: ``sobol`` (first and total indices by
         variable), ``loo_error``, ``degree``, ``n_terms``, ``boundary_checks``
         (per round: points, surrogate failures, true failures, sign changes) and
-        ``surrogate_evaluations``.
+        ``surrogate_evaluations``. The design point and importance factors come
+        from FORM on the surrogate (no true evaluations).
 
     Raises
     ------
@@ -166,6 +167,14 @@ def chaos_reliability(problem: StandardNormalProblem, *, seed=None, n_samples: i
                           germ_map=germ_map, max_degree=max_degree)
 
     cov = math.hypot(sus.cov, share) if math.isfinite(sus.cov) else math.nan
+    # design point and importance factors from FORM on the surrogate (no true evaluations)
+    from assess.reliability.form import form
+    first_order = form(_surrogate_problem(problem, chaos))
+    fields = {}
+    if math.isfinite(first_order.beta):
+        fields = {"design_point_u": first_order.design_point_u,
+                  "design_point_x": first_order.design_point_x, "alpha": first_order.alpha,
+                  "importance_factors": first_order.importance_factors}
     warnings = [w for w in sus.warnings]
     warnings += problem.nonfinite_warnings(counters)
     return ReliabilityResult(
@@ -179,7 +188,9 @@ def chaos_reliability(problem: StandardNormalProblem, *, seed=None, n_samples: i
                  "degree": chaos.degree, "n_terms": int(chaos.coefficients.size),
                  "mean": chaos.mean, "std": math.sqrt(chaos.variance),
                  "boundary_checks": checks, "surrogate_evaluations": surrogate_calls,
-                 "cov_subset_simulation": sus.cov, "families": [f.name for f in families]})
+                 "cov_subset_simulation": sus.cov, "families": [f.name for f in families],
+                 "form_beta_on_surrogate": first_order.beta},
+        **fields)
 
 
 __all__ = ["chaos_reliability"]
