@@ -148,10 +148,11 @@ def test_small_pf_subset_simulation_2d():
     levels = result.details["levels"]
     thresholds = [level["threshold"] for level in levels]
     assert thresholds == sorted(thresholds, reverse=True) and thresholds[-1] == 0.0
-    # Each intermediate threshold is the p0 = 0.1 quantile; repeated chain states (rejected
-    # proposals) can tie at the threshold, which only raises the fraction a little.
+    # Each intermediate threshold is the p0 = 0.2 quantile (the default); repeated chain
+    # states (rejected proposals) can tie at the threshold, which only raises the fraction
+    # a little.
     for level in levels[:-1]:
-        assert 0.1 <= level["conditional_probability"] < 0.12
+        assert 0.2 <= level["conditional_probability"] < 0.22
     assert all(0.1 < level["acceptance_rate"] < 0.9 for level in levels[1:])
 
 

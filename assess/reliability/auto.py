@@ -35,6 +35,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import numpy as np
@@ -49,7 +50,7 @@ from assess.reliability.importance import (
 )
 from assess.reliability.problem import StandardNormalProblem
 from assess.reliability.result import ReliabilityResult, beta_from_pf
-from assess.reliability.subset import MAX_SAMPLES_PER_LEVEL, _pool, _subset
+from assess.reliability.subset import DEFAULT_P0, MAX_SAMPLES_PER_LEVEL, _pool, _subset
 
 DEFAULT_LEVEL_SAMPLES = 500
 """Samples per level of the subset-simulation step when none are given [-]."""
@@ -58,7 +59,10 @@ DEFAULT_MAX_IMPORTANCE = 4000
 DEFAULT_BUDGET = 200_000
 """Limit-state evaluations the method may spend repeating subset simulation [-]."""
 MAX_LEVELS = 40
-"""Deepest subset-simulation level: pf down to about 1e-40 (beta about 13) [-]."""
+"""Deepest subset-simulation level: pf down to about 0.2**40 = 1e-28 (beta about 11) [-]."""
+CONFIRMATION_RUNS = 2
+"""Further subset-simulation runs, pooled, before a disagreement is declared (a single
+run's estimate has long tails) [-]."""
 
 _HANDLED = ("series system of", "design points found", "the limit state was undefined",
             "the limit state was infinite")
@@ -123,7 +127,7 @@ def auto(problem: StandardNormalProblem, *, seed=None, n_per_level: int | None =
     tried: list[dict] = []
 
     # 1. subset simulation: an estimate that needs no design point, and the scout
-    sus, (scout_u, scout_g) = _subset(problem, n_per_level=n_per_level, p0=0.1, seed=rng,
+    sus, (scout_u, scout_g) = _subset(problem, n_per_level=n_per_level, p0=DEFAULT_P0, seed=rng,
                                       sampler="acs", max_levels=MAX_LEVELS, target_cov=None,
                                       max_calls=None)
     tried.append(_summary(sus, "needs no design point; its deepest samples scout the regions"))
@@ -141,15 +145,34 @@ def auto(problem: StandardNormalProblem, *, seed=None, n_per_level: int | None =
 
     # 3. importance sampling on the mixture of the design points
     chosen = sus
+    runs = [sus]
     check_record: dict = {}
     if usable:
         imp = importance_sampling(problem, n=n_max, seed=rng, design_point=centres,
                                   weights=weights, target_cov=target_cov)
         decision = trust_between(imp.pf, imp.cov, sus, "importance_sampling")
         tried.append(_summary(imp, f"mixture over {n_points} design point(s)"))
+        if not decision["agree"]:
+            # A disagreement may be a large fluctuation of the one subset-simulation run
+            # (its distribution has long tails): confirm with further runs, pooled, before
+            # either estimate is declared wrong.
+            for _ in range(CONFIRMATION_RUNS):
+                extra, _ = _subset(problem, n_per_level=n_per_level, p0=DEFAULT_P0, seed=rng,
+                                   sampler="acs", max_levels=MAX_LEVELS, target_cov=None,
+                                   max_calls=None)
+                runs.append(extra)
+                decision = trust_between(imp.pf, imp.cov, _pooled(runs), "importance_sampling")
+                if decision["agree"]:
+                    break
+            if len(runs) > 1:
+                tried.append({"method": "subset_simulation", "pf": _pooled(runs).pf,
+                              "beta": _pooled(runs).beta, "cov": _pooled(runs).cov,
+                              "n_calls": sum(r.n_calls for r in runs[1:]), "converged": True,
+                              "note": f"{len(runs) - 1} confirming run(s), pooled"})
+        reference = _pooled(runs)
         check_record = {"estimate": "importance_sampling", "pf": imp.pf, "cov": imp.cov,
-                        "check": "subset_simulation", "check_pf": sus.pf,
-                        "check_cov": sus.cov, **decision}
+                        "check": "subset_simulation", "check_pf": reference.pf,
+                        "check_cov": reference.cov, "check_runs": len(runs), **decision}
         if decision["trust"] == "importance_sampling" and imp.pf > 0:
             chosen = imp
         else:
@@ -157,28 +180,28 @@ def auto(problem: StandardNormalProblem, *, seed=None, n_per_level: int | None =
         if not decision["agree"]:
             warnings.append(
                 f"importance sampling on {n_points} design point(s) gives pf = {imp.pf:.3g} "
-                f"(CoV {imp.cov:.2g}) and subset simulation pf = {sus.pf:.3g} (CoV "
-                f"{sus.cov:.2g}); {decision['note']}. Trusting "
+                f"(CoV {imp.cov:.2g}) and subset simulation pf = {reference.pf:.3g} (CoV "
+                f"{reference.cov:.2g}, {len(runs)} run(s)); {decision['note']}. Trusting "
                 f"{check_record['trust'].replace('_', ' ')}: {decision['reason']}")
     else:
         warnings.append("FORM found no usable design point (beta "
                         f"{form_result.beta:.3g}); the answer is subset simulation's")
 
     # 4. subset simulation as the answer: repeat towards the target CoV
-    runs = [sus]
     if chosen is sus and sus.pf > 0:
         spent = problem.n_calls - calls_before
         while (_pooled_cov(runs) > target_cov
                and problem.n_calls - calls_before + sus.n_calls <= budget):
-            extra, _ = _subset(problem, n_per_level=n_per_level, p0=0.1, seed=rng,
+            extra, _ = _subset(problem, n_per_level=n_per_level, p0=DEFAULT_P0, seed=rng,
                                sampler="acs", max_levels=MAX_LEVELS, target_cov=None,
                                max_calls=None)
             runs.append(extra)
-        if len(runs) > 1:
-            tried.append({"method": "subset_simulation", "pf": float(np.mean(
-                [r.pf for r in runs])), "beta": math.nan, "cov": _pooled_cov(runs),
-                "n_calls": problem.n_calls - calls_before - spent, "converged": True,
-                "note": f"{len(runs) - 1} more run(s) pooled towards CoV {target_cov:g}"})
+        added = problem.n_calls - calls_before - spent
+        if added:
+            tried.append({"method": "subset_simulation", "pf": _pooled(runs).pf,
+                          "beta": _pooled(runs).beta, "cov": _pooled_cov(runs),
+                          "n_calls": added, "converged": True,
+                          "note": f"runs pooled towards CoV {target_cov:g} ({len(runs)} in all)"})
         if _pooled_cov(runs) > target_cov:
             warnings.append(f"subset simulation reached CoV {_pooled_cov(runs):.2g}, above "
                             f"the {target_cov:g} aimed at, within the budget of {budget} "
@@ -220,6 +243,15 @@ def auto(problem: StandardNormalProblem, *, seed=None, n_per_level: int | None =
         n_calls=problem.n_calls - calls_before, seed=recorded_seed, settings=settings,
         converged=bool(converged), warnings=tuple(dict.fromkeys(warnings)), details=details,
         **fields)
+
+
+def _pooled(runs: list) -> ReliabilityResult:
+    """The mean of independent subset-simulation runs as one result (pf, beta, cov)."""
+    if len(runs) == 1:
+        return runs[0]
+    pf = float(np.mean([r.pf for r in runs]))
+    return dataclasses.replace(runs[0], pf=pf, beta=beta_from_pf(pf), cov=_pooled_cov(runs),
+                               n_calls=sum(r.n_calls for r in runs))
 
 
 def _pooled_cov(runs: list) -> float:

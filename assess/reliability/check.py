@@ -10,7 +10,9 @@ The two are compared on the log scale, where both estimators are close to normal
     z = |ln pf_method - ln pf_check| / sqrt(s_method^2 + s_check^2),
     s^2 = ln(1 + CoV^2)  (lognormal spread of each estimate; 0 for FORM).
 
-z above 3 is a disagreement, and which estimate to trust depends on its direction:
+z above 3 is a disagreement. A single subset-simulation run has long tails, so a
+disagreement is confirmed with up to two further runs (pooled) first. Which estimate to
+trust then depends on the direction:
 
 - the estimate below the check: the design points miss part of the failure domain
   (another region, strong curvature, a kink) - trust subset simulation;
@@ -42,6 +44,10 @@ from assess.reliability.result import ReliabilityResult, beta_from_pf
 Z_DISAGREE = 3.0
 """Standard deviations (log scale) beyond which a result and its check disagree [-]."""
 
+CONFIRMATION_RUNS = 2
+"""Further check runs, pooled, before a disagreement is declared [-]: a single subset-
+simulation run has long tails, so one run alone would raise false alarms."""
+
 CHECK_SEED = 20260611
 """Seed of a check when the caller gives none (keeps FORM deterministic)."""
 
@@ -63,7 +69,7 @@ def check_rng(seed, tag: int) -> np.random.Generator:
     return np.random.default_rng(np.random.SeedSequence([base, tag]))
 
 
-def levels_for(pf: float, p0: float = 0.1) -> int:
+def levels_for(pf: float, p0: float = 0.2) -> int:
     """Subset-simulation levels enough to go two levels below ``pf`` (4 to 60); 40
     (pf about 1e-40) when pf is not known [-]."""
     if not (pf > 0.0 and math.isfinite(pf)):
@@ -108,10 +114,11 @@ def compare(pf: float, cov: float, check: ReliabilityResult) -> dict:
 def run_check(problem, pf_reference: float, *, seed, n_per_level: int = 500,
               tag: int = 1) -> tuple[ReliabilityResult, tuple]:
     """A subset-simulation run deep enough for ``pf_reference``, and its last-level samples."""
-    from assess.reliability.subset import _subset
+    from assess.reliability.subset import DEFAULT_P0, _subset
 
-    return _subset(problem, n_per_level=n_per_level, p0=0.1, seed=check_rng(seed, tag),
-                   sampler="acs", max_levels=levels_for(pf_reference), target_cov=None,
+    return _subset(problem, n_per_level=n_per_level, p0=DEFAULT_P0, seed=check_rng(seed, tag),
+                   sampler="acs", max_levels=levels_for(pf_reference, DEFAULT_P0),
+                   target_cov=None,
                    max_calls=None)
 
 
@@ -143,6 +150,16 @@ def checked(problem, result: ReliabilityResult, *, seed, n_per_level: int = 500,
     if check is None:
         check, _ = run_check(problem, result.pf, seed=seed, n_per_level=n_per_level)
     decision = trust_between(result.pf, result.cov, check, result.method)
+    runs = [check]
+    tag = 10
+    while not decision["agree"] and len(runs) <= CONFIRMATION_RUNS:
+        # a single check run has long tails: confirm a disagreement with further runs,
+        # pooled, before it is declared
+        tag += 1
+        runs.append(run_check(problem, result.pf, seed=seed, n_per_level=n_per_level,
+                              tag=tag)[0])
+        check = _pool_runs(runs)
+        decision = trust_between(result.pf, result.cov, check, result.method)
     arbiter = None
     if result.method in ("form", "sorm") and not decision["agree"] and result.pf > check.pf:
         arbiter = _arbiter(problem, result, seed)
@@ -155,8 +172,8 @@ def checked(problem, result: ReliabilityResult, *, seed, n_per_level: int = 500,
                                    + "; " + _REASON[result.method])}
     record = {"method": "subset_simulation", "pf": check.pf, "beta": check.beta,
               "cov": check.cov, "n_calls": check.n_calls, "seed": check.seed,
-              "n_per_level": n_per_level, "agree": decision["agree"], "z": decision["z"],
-              "note": decision["note"], "trust": decision["trust"]}
+              "n_per_level": n_per_level, "runs": len(runs), "agree": decision["agree"],
+              "z": decision["z"], "note": decision["note"], "trust": decision["trust"]}
     if arbiter is not None:
         record["importance_sampling"] = {"pf": arbiter.pf, "beta": arbiter.beta,
                                          "cov": arbiter.cov, "n_calls": arbiter.n_calls}
@@ -174,6 +191,16 @@ def checked(problem, result: ReliabilityResult, *, seed, n_per_level: int = 500,
     details["check"] = record
     return dataclasses.replace(result, warnings=tuple(warnings), details=details,
                                n_calls=result.n_calls + problem.n_calls - calls_before)
+
+
+def _pool_runs(runs: list) -> ReliabilityResult:
+    """Mean of independent subset-simulation runs, CoV sqrt(mean CoV^2 / runs)."""
+    pf = float(np.mean([r.pf for r in runs]))
+    covs = np.array([r.cov for r in runs], dtype=float)
+    cov = (float(np.sqrt(np.mean(covs**2) / len(runs))) if np.all(np.isfinite(covs))
+           else math.nan)
+    return dataclasses.replace(runs[0], pf=pf, beta=beta_from_pf(pf), cov=cov,
+                               n_calls=sum(r.n_calls for r in runs))
 
 
 def _arbiter(problem, result: ReliabilityResult, seed):

@@ -52,19 +52,12 @@ def _check_positive(value, name: str) -> float:
 
 
 class _ModeFunction:
-    """One column of a problem's limit state, with its forward-difference gradient.
+    """One column of a problem's limit state, with its forward-difference gradient."""
 
-    ``bulges`` (centre, radius r, strength s) add s (r^2 - |u - centre|^2)^2 inside
-    each ball |u - centre| < r: the deflation of Der Kiureghian & Dakessian [6]_,
-    which lifts the limit state around design points already found.
-    """
-
-    def __init__(self, problem: StandardNormalProblem, mode: int | None, fd_step: float,
-                 bulges: tuple = ()):
+    def __init__(self, problem: StandardNormalProblem, mode: int | None, fd_step: float):
         self.problem = problem
         self.mode = mode
         self.fd_step = fd_step
-        self.bulges = tuple(bulges)
 
     def value(self, u: np.ndarray) -> float:
         return float(self._g(u[None, :])[0])
@@ -83,13 +76,8 @@ class _ModeFunction:
 
     def _g(self, u: np.ndarray) -> np.ndarray:
         if self.mode is None:
-            values = self.problem.g(u)
-        else:
-            values = self.problem.g_modes(u)[:, self.mode]
-        for centre, radius, strength in self.bulges:
-            inside = np.maximum(radius * radius - ((u - centre) ** 2).sum(axis=1), 0.0)
-            values = values + strength * inside * inside
-        return values
+            return self.problem.g(u)
+        return self.problem.g_modes(u)[:, self.mode]
 
 
 def _anderson_point(us: list, fs: list) -> np.ndarray | None:
@@ -242,7 +230,8 @@ def _result_fields(problem: StandardNormalProblem, search: dict) -> dict:
         beta = math.copysign(float(np.linalg.norm(u)), beta)
     design_point_x = None
     if problem.to_physical is not None:
-        x = problem.to_physical(u[None, :])
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            x = problem.to_physical(u[None, :])
         design_point_x = {name: float(np.ravel(value)[0]) for name, value in x.items()}
     return {"beta": beta, "pf": pf_from_beta(beta) if math.isfinite(beta) else math.nan,
             "design_point_u": u, "design_point_x": design_point_x, "alpha": alpha,

@@ -35,7 +35,7 @@ from assess.errors import AnalysisError
 from assess.reliability.crude import check_int, check_real, resolve_seed
 from assess.reliability.problem import StandardNormalProblem
 from assess.reliability.result import ReliabilityResult, beta_from_pf
-from assess.reliability.subset import _subset
+from assess.reliability.subset import DEFAULT_P0, _subset
 from assess.surrogate.chaos import (
     chaos_for_problem,
     families_for_model,
@@ -123,7 +123,7 @@ def chaos_reliability(problem: StandardNormalProblem, *, seed=None, n_samples: i
     checks, surrogate_calls = [], 0
     while True:
         surrogate = _surrogate_problem(problem, chaos)
-        sus, (last_u, last_g) = _subset(surrogate, n_per_level=n_per_level, p0=0.1, seed=rng,
+        sus, (last_u, last_g) = _subset(surrogate, n_per_level=n_per_level, p0=DEFAULT_P0, seed=rng,
                                         sampler="acs", max_levels=40, target_cov=None,
                                         max_calls=None)
         surrogate_calls += surrogate.n_calls
