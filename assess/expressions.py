@@ -26,7 +26,10 @@ Evaluation is vectorised: every name may be bound to a numpy array (one entry
 per sample) or a float, and the result broadcasts like numpy arithmetic. All
 arithmetic is in float64 (a power of huge numbers gives ``inf``, never a hang).
 Division by zero, ``log`` of a negative value and the like give ``inf``/``nan``
-without a warning; the reliability layer reports non-finite limit-state values.
+without a numpy warning; the reliability layer counts them: a NaN margin counts as a
+failed point and the result carries one warning with the number of such points (e.g.
+``log(S - 10)`` undefined only in the far tail of S), see
+`assess.reliability.problem.StandardNormalProblem`.
 """
 
 from __future__ import annotations
@@ -35,15 +38,15 @@ import ast
 import difflib
 import functools
 import math
+from collections.abc import Callable, Iterable, Mapping
 from pathlib import Path
-from typing import Callable, Iterable, Mapping
 
 import numpy as np
 from scipy import special
 
 from assess.errors import InputError
 
-__all__ = ["Expression", "FUNCTIONS", "BUILTIN_CONSTANTS", "RESERVED_NAMES", "ALLOWED_SUMMARY"]
+__all__ = ["ALLOWED_SUMMARY", "BUILTIN_CONSTANTS", "FUNCTIONS", "RESERVED_NAMES", "Expression"]
 
 _Node = Callable[[Mapping[str, object]], np.ndarray]
 

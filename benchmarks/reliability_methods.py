@@ -1,13 +1,19 @@
-"""Accuracy and cost of the reliability methods on the reference problems.
+"""Accuracy, honesty and cost of the reliability methods on reference problems.
 
-Run: ``python benchmarks/reliability_methods.py [--repeats 20]``
+Run: ``python benchmarks/reliability_methods.py [--repeats 20] [--study-repeats 200]``
 
-For each reference problem (tests/reference_problems.py) and method, prints the mean
-pf and its beta, the CoV of pf over the repeats (and the mean CoV each run reports),
-the mean number of limit-state evaluations, the mean wall time, and the crude Monte
-Carlo sample size that would give the same CoV, N = (1 - pf) / (pf CoV^2). Then it
-checks the targets of the reliability engine and measures the overhead of subset
-simulation against evaluating the same number of points in one vectorised call.
+Prints, in one run:
+
+1. every method on every reference problem (tests/reference_problems.py): reference pf,
+   mean pf over the repeats and its bias (mean / reference), the CoV observed over the
+   repeats against the mean CoV each run reports, the mean number of limit-state
+   evaluations, and the crude Monte Carlo sample size for the same CoV,
+   N = (1 - pf) / (pf CoV^2), with the gain N / evaluations;
+2. the subset-simulation study of issue 14 (linear limit states, 2 and 100 dimensions,
+   pf 1e-4 and 1e-6, ``--study-repeats`` independent runs): mean reported CoV against the
+   observed spread, and the CoV reached within 10 000 evaluations, for the settings tried;
+3. engine overhead: wall time of each method per limit-state evaluation against the same
+   number of points evaluated by the bare numpy function in one call.
 """
 
 from __future__ import annotations
@@ -16,6 +22,7 @@ import argparse
 import math
 import sys
 import time
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -23,151 +30,211 @@ from scipy.stats import norm
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from assess.reliability import StandardNormalProblem, run_method  # noqa: E402
-from tests import reference_problems as ref  # noqa: E402
-
-# Subset simulation settings for CoV of about 0.25 at pf = 1e-6 (CoV scales as 1/sqrt(N):
-# about 0.4 at N = 1000, measured with this script).
-SUBSET_PF_1E6_COV_025 = {"n_per_level": 3000, "p0": 0.1}
+from assess.reliability import StandardNormalProblem, run_method
+from assess.reliability.subset import subset_simulation
+from tests import reference_problems as ref
 
 PROBLEMS = [
     ("linear normal R-S", ref.linear_normal),
     ("lognormal R-S", ref.lognormal_r_s),
     ("linear 100-D b=4.2", ref.linear_100d),
-    ("four-branch series", ref.four_branch_series),
-    ("parabolic 2 DP", ref.parabolic),
+    ("four-branch (4 modes)", ref.four_branch_series),
+    ("four-branch (1 margin)", ref.four_branch_single),
+    ("parabola 2 DP", ref.parabolic),
+    ("curved quadratic", ref.curved_quadratic),
+    ("quartic", ref.quartic),
+    ("R - S/(S-40)", ref.form_trap),
     ("linear 2-D pf=1e-6", lambda: ref.linear_pf_1e6(2)),
     ("linear 100-D pf=1e-6", lambda: ref.linear_pf_1e6(100)),
 ]
 
 METHODS = [
-    ("FORM", "form", {}),
-    ("IS n=1500", "importance_sampling", {"n": 1500}),
-    ("SuS aCS N=1000", "subset_simulation", {}),
-    ("SuS MMA N=1000", "subset_simulation", {"sampler": "mma"}),
-    ("SuS aCS N=3000", "subset_simulation", SUBSET_PF_1E6_COV_025),
-    ("crude MC n=1e5", "crude_monte_carlo", {"n": 100_000}),
+    ("FORM (plain)", "form", {"check": False, "design_points": 1}),
+    ("FORM (checked)", "form", {}),
+    ("SORM", "sorm", {"check": False, "design_points": 1}),
+    ("auto", "auto", {}),
+    ("IS (checked)", "importance_sampling", {}),
+    ("SuS N=1000", "subset_simulation", {}),
+    ("crude MC 1e5", "crude_monte_carlo", {"n": 100_000}),
+    ("poly. chaos", "polynomial_chaos", {}),
 ]
 
 
 def run_repeats(make_case, method: str, options: dict, repeats: int) -> dict:
-    pfs, covs, calls, times, iterations = [], [], [], [], []
-    for seed in range(repeats if method != "form" else 1):
+    pfs, covs, calls, times = [], [], [], []
+    n_runs = 1 if method in ("form", "sorm") else repeats
+    failures = 0
+    for seed in range(n_runs):
         case = make_case()
         start = time.perf_counter()
-        result = run_method(case.problem, method, seed=seed, **options)
+        try:
+            result = run_method(case.problem, method, seed=seed, **options)
+        except Exception as exc:  # noqa: BLE001 - a refusal is a result of the benchmark
+            failures += 1
+            last_error = str(exc)
+            continue
         times.append(time.perf_counter() - start)
         pfs.append(result.pf)
         covs.append(result.cov)
         calls.append(result.n_calls)
-        iterations.append(result.details.get("iterations", math.nan))
+    if not pfs:
+        return {"refused": last_error, "ref_pf": make_case().pf}
     pfs = np.array(pfs)
     mean_pf = float(pfs.mean())
     spread = float(pfs.std(ddof=1) / mean_pf) if len(pfs) > 1 and mean_pf > 0 else math.nan
-    return {"pf": mean_pf, "cov": spread, "reported_cov": (float(np.nanmean(covs)) if np.any(np.isfinite(covs))
-                                     else math.nan),
+    covs = np.array(covs, dtype=float)
+    return {"pf": mean_pf, "cov": spread,
+            "reported_cov": float(np.nanmean(covs)) if np.any(np.isfinite(covs)) else math.nan,
             "calls": float(np.mean(calls)), "time": float(np.mean(times)),
-            "iterations": float(np.mean(iterations)), "ref_pf": make_case().pf}
+            "ref_pf": make_case().pf, "refused_runs": failures}
 
 
 def crude_equivalent(pf: float, cov: float) -> float:
     return (1.0 - pf) / (pf * cov * cov) if pf > 0 and cov > 0 else math.nan
 
 
-def print_table(rows: list) -> None:
-    header = (f"{'problem':22s} {'method':16s} {'ref pf':>9s} {'mean pf':>9s} {'beta':>6s} "
-              f"{'CoV':>6s} {'rep.CoV':>7s} {'evals':>8s} {'time ms':>8s} {'MC evals':>9s} "
-              f"{'gain':>6s}")
+def print_methods_table(repeats: int) -> None:
+    header = (f"{'problem':23s} {'method':15s} {'ref pf':>9s} {'mean pf':>9s} {'bias':>6s} "
+              f"{'obs CoV':>7s} {'rep CoV':>7s} {'evals':>8s} {'MC evals':>9s} {'gain':>7s} "
+              f"{'ms/run':>7s}")
     print(header)
     print("-" * len(header))
-    for problem, label, s in rows:
-        mc = crude_equivalent(s["pf"], s["cov"])
-        beta = -np.inf if s["pf"] <= 0 else float(norm.isf(s["pf"]))
-        extra = f"  ({s['iterations']:.0f} it.)" if label == "FORM" else ""
-        print(f"{problem:22s} {label:16s} {s['ref_pf']:9.3e} {s['pf']:9.3e} {beta:6.3f} "
-              f"{s['cov']:6.3f} {s['reported_cov']:7.3f} {s['calls']:8.0f} "
-              f"{1e3 * s['time']:8.2f} {mc:9.3g} {mc / s['calls']:6.1f}{extra}")
+    for problem, make_case in PROBLEMS:
+        small = make_case().pf < 1e-4
+        for label, method, options in METHODS:
+            if method == "crude_monte_carlo" and small:
+                continue
+            if method == "polynomial_chaos" and make_case().problem.dim > 20:
+                continue
+            s = run_repeats(make_case, method, options, repeats)
+            if "refused" in s:
+                print(f"{problem:23s} {label:15s} {s['ref_pf']:9.3e}  refused: "
+                      f"{s['refused'][:70]}")
+                continue
+            # for FORM/SORM (one deterministic run) the CoV column is the relative error
+            cov = s["cov"] if not math.isnan(s["cov"]) else math.nan
+            mc = crude_equivalent(s["ref_pf"], cov) if math.isfinite(cov) else math.nan
+            gain = mc / s["calls"] if math.isfinite(mc) else math.nan
+            print(f"{problem:23s} {label:15s} {s['ref_pf']:9.3e} {s['pf']:9.3e} "
+                  f"{s['pf'] / s['ref_pf']:6.3f} {cov:7.3f} {s['reported_cov']:7.3f} "
+                  f"{s['calls']:8.0f} {mc:9.3g} {gain:7.1f} {1e3 * s['time']:7.1f}"
+                  + (f"  ({s['refused_runs']} refused)" if s["refused_runs"] else ""))
+    print("\nbias: mean pf / reference; obs CoV: spread of pf over the repeats (blank for "
+          "FORM/SORM, one deterministic run);\nrep CoV: mean CoV reported by the runs; "
+          "MC evals: crude Monte Carlo samples for the observed CoV, (1 - pf)/(pf CoV^2); "
+          "gain: MC evals / evals.")
 
 
-def overhead(make_problem, label: str, repeats: int) -> None:
-    """Subset simulation wall time / time of one vectorised call on the same number of points."""
-    sus_times, direct_times = [], []
-    for seed in range(repeats):
-        problem = make_problem()
-        start = time.perf_counter()
-        result = run_method(problem, "subset_simulation", seed=seed)
-        sus_times.append(time.perf_counter() - start)
-        u = np.random.default_rng(seed).standard_normal((result.n_calls, problem.dim))
-        start = time.perf_counter()
-        problem.g(u)
-        direct_times.append(time.perf_counter() - start)
-    sus, direct = np.median(sus_times), np.median(direct_times)
-    print(f"  {label:58s} SuS {1e3 * sus:8.2f} ms, direct {1e3 * direct:8.2f} ms, "
-          f"ratio {sus / direct:6.1f}")
+def subset_study(repeats: int) -> None:
+    """Issue 14: reported vs observed CoV over many runs, and the CoV at 10 000 evaluations."""
+    settings = [("N=1000 p0=0.1 (before)", {"n_per_level": 1000, "p0": 0.1}),
+                ("N=1700 p0=0.1", {"n_per_level": 1700, "p0": 0.1}),
+                ("N=1250 p0=0.2 (default)", {"n_per_level": 1250, "p0": 0.2}),
+                ("N=1000 p0=0.3", {"n_per_level": 1000, "p0": 0.3}),
+                ("N=1000 p0=0.1 MMA", {"n_per_level": 1000, "p0": 0.1, "sampler": "mma"})]
+    header = (f"{'case':22s} {'setting':24s} {'bias':>6s} {'obs CoV':>7s} {'rep CoV':>7s} "
+              f"{'rep/obs':>7s} {'+/-':>5s} {'Au-Beck/obs':>11s} {'evals':>7s} "
+              f"{'CoV@10k':>7s}")
+    print(header)
+    print("-" * len(header))
+    for dim in (2, 100):
+        for pf in (1e-4, 1e-6):
+            beta = float(norm.isf(pf))
+            for label, options in settings:
+                if options.get("sampler") == "mma" and pf > 1e-5:
+                    continue
+                pfs, covs, au_beck, calls = [], [], [], []
+                for seed in range(repeats):
+                    case = ref.linear_standard_normal(dim, beta)
+                    result = subset_simulation(case.problem, seed=10_000 + seed, **options)
+                    pfs.append(result.pf)
+                    covs.append(result.cov)
+                    au_beck.append(result.details["cov_au_beck"])
+                    calls.append(result.n_calls)
+                pfs = np.array(pfs)
+                observed = float(pfs.std(ddof=1) / pfs.mean())
+                ratio = float(np.mean(covs)) / observed
+                # standard error of the ratio from the spread of the sample std (delta
+                # method with the sample kurtosis of pf)
+                z = (pfs - pfs.mean()) / pfs.std(ddof=1)
+                kurtosis = float(np.mean(z**4))
+                error = ratio * math.sqrt(max(kurtosis - 1.0, 0.0) / (4.0 * repeats))
+                at_10k = observed * math.sqrt(float(np.mean(calls)) / 10_000)
+                print(f"{dim:3d}-D pf={pf:.0e}{'':10s} {label:24s} {pfs.mean() / pf:6.3f} "
+                      f"{observed:7.3f} {np.mean(covs):7.3f} {ratio:7.2f} {error:5.2f} "
+                      f"{np.mean(au_beck) / observed:11.2f} {np.mean(calls):7.0f} "
+                      f"{at_10k:7.3f}")
+    print("\nrep/obs: mean reported CoV / observed spread of pf (target 0.85-1.15), +/- its "
+          "standard error;\nAu-Beck/obs: the same for the per-level formula of Au & Beck "
+          "(2001), kept in details['cov_au_beck'];\nCoV@10k: observed CoV scaled to 10 000 "
+          "evaluations as 1/sqrt(evaluations) (target <= 0.25 at pf = 1e-6).")
 
 
-def costly_linear_100d() -> StandardNormalProblem:
-    """The 100-D pf = 1e-6 limit state plus vectorised work of about 40 us per point
-    (a stand-in for a sectional analysis), to separate fixed overhead from evaluation."""
-    case = ref.linear_pf_1e6(100)
+def overhead(repeats: int) -> None:
+    """Engine time per evaluation against the bare numpy function on the same points."""
+    def costly(dim: int) -> StandardNormalProblem:
+        base = ref.linear_pf_1e6(dim).problem
 
-    def g_u(u):
-        extra = u[:, :1] * np.ones((1, 400))
-        for _ in range(10):
-            extra = np.sin(extra) * 1e-9
-        return case.problem.g(u) + extra.sum(axis=1) * 0.0
+        def g_u(u):
+            extra = u[:, :1] * np.ones((1, 400))
+            for _ in range(10):
+                extra = np.sin(extra) * 1e-9
+            return base.g(u) + extra.sum(axis=1) * 0.0
 
-    return StandardNormalProblem(g_u, 100)
+        return StandardNormalProblem(g_u, dim)
+
+    cases = [("linear 2-D pf=1e-6 (g ~ free)", lambda: ref.linear_pf_1e6(2).problem),
+             ("linear 100-D pf=1e-6", lambda: ref.linear_pf_1e6(100).problem),
+             ("100-D + ~40 us/point of work", lambda: costly(100))]
+    methods = [("SuS N=1000", "subset_simulation", {}), ("auto", "auto", {}),
+               ("IS (checked)", "importance_sampling", {}),
+               ("FORM (plain)", "form", {"check": False, "design_points": 1})]
+    header = (f"{'case':32s} {'method':14s} {'evals':>7s} {'engine ms':>10s} {'bare ms':>8s} "
+              f"{'us/eval engine':>15s} {'us/eval bare':>13s} {'ratio':>6s}")
+    print(header)
+    print("-" * len(header))
+    for label, make in cases:
+        for name, method, options in methods:
+            engine, bare, calls = [], [], []
+            for seed in range(repeats):
+                problem = make()
+                start = time.perf_counter()
+                result = run_method(problem, method, seed=seed, **options)
+                engine.append(time.perf_counter() - start)
+                calls.append(result.n_calls)
+                u = np.random.default_rng(seed).standard_normal((result.n_calls, problem.dim))
+                raw = make()
+                start = time.perf_counter()
+                raw._g_u(u)
+                bare.append(time.perf_counter() - start)
+            e, b, n = np.median(engine), np.median(bare), float(np.mean(calls))
+            print(f"{label:32s} {name:14s} {n:7.0f} {1e3 * e:10.2f} {1e3 * b:8.2f} "
+                  f"{1e6 * e / n:15.2f} {1e6 * b / n:13.2f} {e / b:6.1f}")
+    print("\nbare: the same number of points evaluated by the numpy function in one call; "
+          "ratio: engine / bare (medians).")
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeats", type=int, default=20, help="runs per method and problem")
+    parser.add_argument("--study-repeats", type=int, default=200,
+                        help="runs per case of the subset-simulation study")
+    parser.add_argument("--skip", nargs="*", default=[], choices=["methods", "study", "overhead"])
     args = parser.parse_args()
+    warnings.simplefilter("ignore")
     repeats = max(2, args.repeats)
-
-    rows, stats = [], {}
-    for problem, make_case in PROBLEMS:
-        small = make_case().pf < 1e-5
-        for label, method, options in METHODS:
-            if method == "crude_monte_carlo" and small:
-                continue
-            if options is SUBSET_PF_1E6_COV_025 and not small:
-                continue
-            s = run_repeats(make_case, method, options, repeats)
-            rows.append((problem, label, s))
-            stats[(problem, label)] = s
-    print(f"Reliability methods, {repeats} repeats each (FORM: one run, deterministic)\n")
-    print_table(rows)
-    print("\nCoV: spread of pf over the repeats; rep.CoV: mean CoV reported by each run;"
-          "\nMC evals: crude Monte Carlo samples for the same CoV, (1 - pf)/(pf CoV^2);"
-          " gain: MC evals / evals.")
-
-    print("\nTargets")
-    for problem in ("linear 2-D pf=1e-6", "linear 100-D pf=1e-6"):
-        for label in ("SuS aCS N=1000", "SuS aCS N=3000"):
-            s = stats[(problem, label)]
-            print(f"  SuS at pf = 1e-6, {problem:21s} {label}: CoV {s['cov']:.3f} "
-                  f"(<= 0.25: {'yes' if s['cov'] <= 0.25 else 'no'}), {s['calls']:.0f} evals "
-                  f"(<= 6000: {'yes' if s['calls'] <= 6000 else 'no'})")
-    for problem in ("linear normal R-S", "lognormal R-S", "linear 100-D b=4.2",
-                    "linear 2-D pf=1e-6", "linear 100-D pf=1e-6"):
-        s = stats[(problem, "IS n=1500")]
-        beta = float(norm.isf(s["ref_pf"]))
-        ok = s["cov"] <= 0.1 and s["calls"] <= 2000
-        print(f"  IS CoV <= 0.1 with <= 2000 evals, {problem:21s} (beta {beta:.2f}): "
-              f"CoV {s['cov']:.3f}, {s['calls']:.0f} evals (incl. FORM) -> "
-              f"{'met' if ok else 'NOT met'}")
-    for problem, _ in PROBLEMS:
-        s = stats[(problem, "FORM")]
-        print(f"  FORM <= 10 iterations, {problem:21s}: {s['iterations']:.0f} iterations, "
-              f"{s['calls']:.0f} evals -> {'met' if s['iterations'] <= 10 else 'NOT met'}")
-
-    print("\nSubset simulation overhead (median over repeats; target ratio <= 3):")
-    overhead(lambda: ref.linear_pf_1e6(2).problem, "linear 2-D pf=1e-6 (g costs ~nothing)",
-             repeats)
-    overhead(lambda: ref.linear_pf_1e6(100).problem, "linear 100-D pf=1e-6", repeats)
-    overhead(costly_linear_100d, "linear 100-D pf=1e-6 + ~40 us/point of work", min(repeats, 5))
+    if "methods" not in args.skip:
+        print(f"1. Methods on the reference problems, {repeats} repeats each (FORM and SORM: "
+              "one run)\n")
+        print_methods_table(repeats)
+    if "study" not in args.skip:
+        print(f"\n2. Subset simulation: reported against observed CoV, {args.study_repeats} "
+              "runs per case\n")
+        subset_study(max(10, args.study_repeats))
+    if "overhead" not in args.skip:
+        print(f"\n3. Engine overhead per limit-state evaluation (median of {min(repeats, 5)} "
+              "runs)\n")
+        overhead(min(repeats, 5))
 
 
 if __name__ == "__main__":

@@ -166,3 +166,124 @@ def parabolic(b: float = 5.0, kappa: float = 0.5, e: float = 0.1) -> ReferenceCa
     return ReferenceCase("parabolic (two design points)", StandardNormalProblem(g_u, 2),
                          pf, float(stats.norm.isf(pf)), False, 2,
                          "Der Kiureghian & Dakessian (1998) (from memory)")
+
+
+def four_branch_single(k: float = 6.0) -> ReferenceCase:
+    """The four-branch series system written as ONE limit state g = min(g1..g4).
+
+    FORM from the mean point sees one branch only; the failure domain has four
+    equally important regions (beta = 3 each). Same reference pf as
+    `four_branch_series` (Waarts 2000, from memory; checked by crude Monte Carlo in
+    tests/test_sampling_methods.py).
+    """
+    system = four_branch_series(k)
+
+    def g_u(u):
+        return system.problem._g_u(u).min(axis=1)
+
+    return ReferenceCase("four-branch as one limit state", StandardNormalProblem(g_u, 2),
+                         system.pf, system.beta, False, 3, system.source)
+
+
+def curved_quadratic() -> ReferenceCase:
+    """g = 2.5 - (u1 + u2)/sqrt(2) + 0.1 (u1 - u2)^2: a strongly curved surface.
+
+    One design point at beta = 2.5 with curvature kappa = 0.4 (so FORM is 48 % high).
+    Reference pf = 4.21e-3 (from memory): the curved case of the importance-sampling
+    benchmark of Engelund & Rackwitz (1993), Struct. Saf. 12(4):255-276,
+    doi:10.1016/0167-4730(93)90056-7. Checked by 2 x 10^6-point crude Monte Carlo in
+    tests/test_sorm.py.
+    """
+    root2 = math.sqrt(2.0)
+
+    def g_u(u):
+        return 2.5 - (u[:, 0] + u[:, 1]) / root2 + 0.1 * (u[:, 0] - u[:, 1]) ** 2
+
+    pf = 4.21e-3
+    return ReferenceCase("curved quadratic", StandardNormalProblem(g_u, 2), pf,
+                         float(stats.norm.isf(pf)), False, 3,
+                         "Engelund & Rackwitz (1993) (from memory)")
+
+
+def quartic() -> ReferenceCase:
+    """g = 3 - u2 + (4 u1)^4: curvature zero at the design point (0, 3), yet the surface
+    closes in fast, so FORM and SORM are about 7 times too high.
+
+    pf = integral of phi(u1) Phi(-(3 + 256 u1^4)) du1, evaluated by scipy quad (exact
+    up to quadrature error, about 1.81e-4).
+    """
+    from scipy import integrate
+
+    def g_u(u):
+        return 3.0 - u[:, 1] + (4.0 * u[:, 0]) ** 4
+
+    pf, _ = integrate.quad(lambda v: stats.norm.pdf(v) * stats.norm.sf(3.0 + 256.0 * v**4),
+                           -np.inf, np.inf, epsabs=0.0, epsrel=1e-10)
+    return ReferenceCase("quartic", StandardNormalProblem(g_u, 2), float(pf),
+                         float(stats.norm.isf(pf)), True, None,
+                         "one-dimensional integral by scipy quad")
+
+
+def paraboloid(beta: float, kappas) -> ReferenceCase:
+    """g = beta - u_n + 1/2 sum kappa_i v_i^2 (u_n the last coordinate, v the others).
+
+    Principal curvatures kappa_i at the design point (0, .., beta) exactly.
+    pf = E_v[Phi(-(beta + 1/2 sum kappa_i v_i^2))] by Gauss-Hermite quadrature
+    (numpy hermegauss, 160 nodes per curvature; exact to quadrature error, checked
+    against scipy quad for one curvature in tests/test_sorm.py).
+    """
+    kappas = np.asarray(kappas, dtype=float)
+    dim = kappas.size + 1
+
+    def g_u(u):
+        return beta - u[:, -1] + 0.5 * (u[:, :-1] ** 2 @ kappas)
+
+    return ReferenceCase(f"paraboloid beta={beta} kappa={kappas.tolist()}",
+                         StandardNormalProblem(g_u, dim), paraboloid_pf(beta, kappas),
+                         float(stats.norm.isf(paraboloid_pf(beta, kappas))), True, None,
+                         "Gauss-Hermite quadrature over the tangent plane")
+
+
+def paraboloid_pf(beta: float, kappas, nodes: int = 160) -> float:
+    """Exact probability of {u_n >= beta + 1/2 sum kappa_i v_i^2} by Gauss-Hermite
+    quadrature over v (one or two curvatures) [-]."""
+    kappas = np.asarray(kappas, dtype=float)
+    x, w = np.polynomial.hermite_e.hermegauss(nodes)
+    w = w / math.sqrt(2.0 * math.pi)
+    if kappas.size == 1:
+        return float(w @ stats.norm.sf(beta + 0.5 * kappas[0] * x * x))
+    if kappas.size == 2:
+        grid = beta + 0.5 * (kappas[0] * x[:, None] ** 2 + kappas[1] * x[None, :] ** 2)
+        return float(w @ stats.norm.sf(grid) @ w)
+    raise ValueError("one or two curvatures")
+
+
+def form_trap() -> ReferenceCase:
+    """g = R - S / (S - 40), R lognormal (mean 100, sd 10), S Gumbel (mean 40, sd 8).
+
+    Failure is the thin band 40 < S <= 40 + 40 / (R - 1) (S / (S - 40) is negative
+    below 40 and falls towards 1 above): FORM from the mean point runs off to a
+    far, unimportant point (beta 78.5 in issue 14). pf = integral over r > 1 of
+    f_R(r) [F_S(40 + 40 / (r - 1)) - F_S(40)] dr by scipy quad (beta about 2.05),
+    with the marginals of `assess.distributions`.
+    """
+    from scipy import integrate
+
+    from assess.distributions import make_distribution
+    from assess.model import ProbabilisticModel
+
+    r_dist = make_distribution("lognormal", mean=100.0, std=10.0)
+    s_dist = make_distribution("gumbel", mean=40.0, std=8.0)
+    model = ProbabilisticModel()
+    model.add("R", r_dist)
+    model.add("S", s_dist)
+    problem = model.problem(lambda x: x["R"] - x["S"] / (x["S"] - 40.0))
+    f_s40 = float(s_dist.cdf(40.0))
+
+    def integrand(r):
+        return float(r_dist.pdf(r)) * (float(s_dist.cdf(40.0 + 40.0 / (r - 1.0))) - f_s40)
+
+    pf, _ = integrate.quad(integrand, 1.0 + 1e-9, 400.0, points=[60.0, 100.0, 140.0],
+                           epsabs=0.0, epsrel=1e-9, limit=200)
+    return ReferenceCase("R - S/(S - 40)", problem, float(pf), float(stats.norm.isf(pf)),
+                         True, None, "one-dimensional integral by scipy quad")

@@ -1,93 +1,93 @@
-"""``assess solve``: run the reliability analysis stated in a problem file.
+"""``assess solve``: solve the failure modes stated in a problem file.
 
-Results go to stdout (a table, or JSON with ``--json``); the standing caution,
-warnings and error messages go to stderr.
+Results go to stdout (tables, or the result block as JSON with ``--json``); the standing
+caution, warnings and error messages go to stderr. The words of the tables and of the
+JSON block are those of the report (`assess.problem_file.result_block`).
 """
 
 import json
 import math
 from enum import Enum
 from pathlib import Path
-from typing import Annotated, Optional
+from typing import Annotated
 
 import typer
+from rich.markup import escape
 from rich.table import Table
 
 from assess.cli.app import app, err_console, guard, out_console, print_caution
 from assess.errors import InputError
-from assess.problem_file import SAMPLES_OPTION, LoadedProblem, load_problem
+from assess.problem_file import (
+    METHODS,
+    SAMPLES_OPTION,
+    LoadedProblem,
+    load_problem,
+    result_block,
+)
 
-
-class Method(str, Enum):
-    """Reliability methods selectable on the command line."""
-
-    form = "form"
-    importance_sampling = "importance_sampling"
-    subset_simulation = "subset_simulation"
-    crude_monte_carlo = "crude_monte_carlo"
+Approach = Enum("Approach", {name: name for name in METHODS}, type=str)
+Approach.__doc__ = "Approaches selectable on the command line (the engine's methods)."
 
 
 @app.command()
 @guard
 def solve(
     problem_file: Annotated[Path, typer.Argument(
-        help="Problem file (TOML): variables, limit states, analysis settings.",
+        help="Problem file (TOML): uncertain quantities, failure modes, how to solve.",
         dir_okay=False)],
-    method: Annotated[Optional[Method], typer.Option(
-        help="Reliability method; overrides the method named in the file.")] = None,
-    seed: Annotated[Optional[int], typer.Option(
-        help="Random seed (int >= 0) of a sampling method; overrides the file. "
+    approach: Annotated[Approach | None, typer.Option(
+        "--approach", "--method",
+        help="How to solve; overrides [solve] approach in the file. 'auto' lets the tool "
+             "choose and cross-check.")] = None,
+    seed: Annotated[int | None, typer.Option(
+        help="Random seed (int >= 0) of the sampling and of the checks; overrides the file. "
              "Without one, a seed is drawn and reported.")] = None,
-    samples: Annotated[Optional[int], typer.Option(
-        help="Number of samples [-]: per level for subset simulation, in total for "
-             "importance sampling and crude Monte Carlo; overrides the file.")] = None,
+    samples: Annotated[int | None, typer.Option(
+        help="Number of samples [-]: per level for subset simulation and auto, in total for "
+             "importance sampling and crude Monte Carlo, the first design for "
+             "polynomial_chaos; overrides the file.")] = None,
     json_output: Annotated[bool, typer.Option(
-        "--json", help="Print the result and the problem description as JSON on stdout.")]
-        = False,
+        "--json", help="Print the result block and the case as JSON on stdout.")] = False,
 ):
-    """Solve the reliability problem in PROBLEM_FILE: probability of failure, reliability
-    index, design point and importance factors."""
+    """Solve the failure modes in PROBLEM_FILE: probability of failure, reliability index,
+    design point and which uncertainty drives the risk."""
     from assess.reliability.dispatch import run_method
 
     if seed is not None and seed < 0:
         raise InputError(f"--seed must be a non-negative integer, got {seed}")
     if samples is not None and samples < 1:
         raise InputError(f"--samples must be a positive integer, got {samples}")
-    loaded = load_problem(problem_file)
-    method_name = method.value if method is not None else loaded.method
+    try:
+        loaded = load_problem(problem_file)
+    except InputError as exc:
+        # printed without markup: the message may show TOML tables such as [about]
+        err_console.print(f"[bold red]Input error:[/] {escape(str(exc))}", highlight=False,
+                          soft_wrap=True)
+        raise typer.Exit(code=2) from None
+    method_name = approach.value if approach is not None else loaded.method
     if samples is not None and SAMPLES_OPTION[method_name] is None:
         raise InputError(f"--samples does not apply to {method_name} (it does not sample)")
     run_seed = seed if seed is not None else loaded.seed
     result = run_method(loaded.problem(), method_name, seed=run_seed,
                         **loaded.run_options(method_name, samples))
+    block = result_block(result, loaded)
 
     if json_output:
-        payload = result.to_dict()
-        payload["problem"] = _json_ready(loaded.metadata)
-        typer.echo(json.dumps(payload, indent=2, allow_nan=False))
+        typer.echo(json.dumps(block, indent=2, allow_nan=False))
     else:
-        out_console.print(_result_table(result, loaded))
-        modes = _modes_table(result)
-        if modes is not None:
-            out_console.print(modes)
-        factors = _design_point_table(result, loaded)
-        if factors is not None:
-            out_console.print(factors)
+        out_console.print(_answer_table(block, loaded))
+        for table in (_modes_table(block), _design_point_table(block, loaded),
+                      _drivers_table(block)):
+            if table is not None:
+                out_console.print(table)
     for warning in result.warnings:
-        err_console.print(f"[yellow]Warning:[/] {warning}", highlight=False, soft_wrap=True)
+        err_console.print(f"[yellow]Warning:[/] {escape(warning)}", highlight=False,
+                          soft_wrap=True)
+    trust = (block.get("independent_check") or {}).get("trust")
+    if trust and not block["independent_check"].get("agree", True):
+        err_console.print(f"[yellow]Method to trust:[/] {trust.replace('_', ' ')}",
+                          highlight=False, soft_wrap=True)
     print_caution()
-
-
-def _json_ready(value):
-    """Metadata with non-finite numbers (e.g. an unbounded truncation) as None, like
-    `ReliabilityResult.to_dict`."""
-    if isinstance(value, dict):
-        return {key: _json_ready(item) for key, item in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_json_ready(item) for item in value]
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    return value
 
 
 def _number(value, digits: int = 4) -> str:
@@ -98,53 +98,84 @@ def _number(value, digits: int = 4) -> str:
     return f"{value:.{digits}g}"
 
 
-def _result_table(result, loaded: LoadedProblem) -> Table:
-    title = loaded.metadata.get("title") or Path(loaded.metadata.get("file", "")).name
-    table = Table(title=f"Reliability of: {title}", show_header=False, title_justify="left")
+def _answer_table(block: dict, loaded: LoadedProblem) -> Table:
+    case = block["case"]
+    title = case.get("title") or Path(case.get("file", "")).name
+    answer = block["answer"]
+    table = Table(title=f"Reliability of: {escape(title)}", show_header=False,
+                  title_justify="left")
     table.add_column("quantity", style="bold")
     table.add_column("value")
-    table.add_row("limit states", ", ".join(loaded.mode_names)
+    table.add_row("failure modes", escape(", ".join(loaded.mode_names))
                   + (" (series system)" if len(loaded.mode_names) > 1 else ""))
-    table.add_row("method", result.method)
-    table.add_row("probability of failure pf", _number(result.pf, 4))
-    table.add_row("reliability index beta", _number(result.beta, 4))
-    table.add_row("CoV of pf", _number(result.cov, 3) if not math.isnan(result.cov)
-                  else "- (not a sampling estimate)" if result.method == "form" else "-")
-    table.add_row("limit-state evaluations", str(result.n_calls))
-    table.add_row("seed", "-" if result.seed is None else str(result.seed))
-    table.add_row("converged", "yes" if result.converged else "NO")
+    table.add_row("approach", block["approach"])
+    if answer["method_used"] != block["approach"]:
+        table.add_row("answer from", answer["method_used"].replace("_", " "))
+    table.add_row("reliability index beta", _number(answer["reliability_index"], 4))
+    table.add_row("probability of failure", _number(answer["probability_of_failure"], 4))
+    cov = answer["cov_of_estimate"]
+    table.add_row("CoV of the estimate",
+                  _number(cov, 3) if cov is not None
+                  else "- (not a sampling estimate)" if block["approach"] in ("form", "sorm")
+                  else "-")
+    bound = answer.get("beta_lower_bound")
+    if bound is not None:
+        table.add_row("no failure observed", f"beta > {bound:.2f} (a bound, not an estimate)")
+    table.add_row("limit-state evaluations", str(answer["limit_state_evaluations"]))
+    table.add_row("seed", "-" if answer["seed"] is None else str(answer["seed"]))
+    table.add_row("stopping rule met", "yes" if answer["stopping_rule_met"] else "NO")
+    check = block.get("independent_check")
+    if check:
+        verdict = "agrees" if check["agree"] else "DISAGREES"
+        table.add_row("independent check", f"{check['by']}: {verdict} - trust "
+                      f"{check['trust'].replace('_', ' ')}")
     return table
 
 
-def _modes_table(result) -> Table | None:
-    """Per-mode indices of a series system solved by FORM."""
-    modes = result.details.get("modes") if isinstance(result.details, dict) else None
+def _modes_table(block: dict) -> Table | None:
+    """Per-mode indices of a series system solved by FORM or SORM."""
+    modes = block.get("modes")
     if not modes or len(modes) < 2:
         return None
     table = Table(title="Failure modes (FORM, each mode alone)", title_justify="left")
-    table.add_column("limit state")
+    table.add_column("mode")
     table.add_column("beta", justify="right")
     table.add_column("pf", justify="right")
     table.add_column("converged")
     for mode in modes:
-        table.add_row(str(mode.get("mode", "")), _number(mode.get("beta")),
+        table.add_row(escape(str(mode.get("mode", ""))), _number(mode.get("beta")),
                       _number(mode.get("pf")), "yes" if mode.get("converged", True) else "NO")
     return table
 
 
-def _design_point_table(result, loaded: LoadedProblem) -> Table | None:
-    if result.design_point_x is None and result.importance_factors is None:
+def _design_point_table(block: dict, loaded: LoadedProblem) -> Table | None:
+    x = block.get("design_point") or {}
+    if not x:
         return None
     units = loaded.units
-    x = result.design_point_x or {}
-    factors = result.importance_factors or {}
-    names = list(x) + [name for name in factors if name not in x]
-    table = Table(title="Design point and importance factors", title_justify="left")
-    table.add_column("variable")
+    table = Table(title="Design point (most likely failure point)", title_justify="left")
+    table.add_column("quantity")
     table.add_column("design value", justify="right")
     table.add_column("unit")
+    for name, value in x.items():
+        table.add_row(escape(name), _number(value, 5), escape(units.get(name, "")))
+    return table
+
+
+def _drivers_table(block: dict) -> Table | None:
+    rows = block.get("which_uncertainty_drives_the_risk") or []
+    if not rows:
+        return None
+    table = Table(title="Which uncertainty drives the risk", title_justify="left")
+    table.add_column("quantity")
     table.add_column("importance factor alpha^2", justify="right")
-    for name in names:
-        table.add_row(name, _number(x.get(name), 5), units.get(name, ""),
-                      _number(factors.get(name), 3) if name in factors else "-")
+    has_sobol = any(r["sobol_total"] is not None for r in rows)
+    if has_sobol:
+        table.add_column("Sobol first order", justify="right")
+        table.add_column("Sobol total", justify="right")
+    for row in rows:
+        cells = [escape(row["variable"]), _number(row["importance_factor"], 3)]
+        if has_sobol:
+            cells += [_number(row["sobol_first"], 3), _number(row["sobol_total"], 3)]
+        table.add_row(*cells)
     return table

@@ -7,19 +7,33 @@ Every method takes a problem object with
 - optionally ``to_physical(u)`` -> dict of arrays and ``names`` (variable names),
 and returns a `ReliabilityResult`.
 
-Methods: `form` (improved HL-RF), `importance_sampling` (around the design
-point(s)), `subset_simulation` (aCS or modified Metropolis), `crude_monte_carlo`;
-`run_method` dispatches by name.
+Methods: `auto` (let the tool choose and cross-check), `form` (improved HL-RF,
+several design points), `sorm` (curvatures; Breitung, Hohenbichler-Rackwitz, Tvedt),
+`importance_sampling` (mixture around the design points), `subset_simulation`
+(aCS or modified Metropolis), `crude_monte_carlo`; `run_method` dispatches by name.
 """
 
+from assess.reliability.auto import auto
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.dispatch import METHODS, run_method
 from assess.reliability.form import form
 from assess.reliability.importance import importance_sampling
 from assess.reliability.problem import StandardNormalProblem
 from assess.reliability.result import ReliabilityResult, beta_from_pf, pf_from_beta
+from assess.reliability.sorm import sorm
 from assess.reliability.subset import subset_simulation
 
-__all__ = ["ReliabilityResult", "beta_from_pf", "pf_from_beta", "StandardNormalProblem",
-           "form", "importance_sampling", "subset_simulation", "crude_monte_carlo",
-           "run_method", "METHODS"]
+__all__ = [
+           "METHODS",
+           "ReliabilityResult",
+           "StandardNormalProblem",
+           "auto",
+           "beta_from_pf",
+           "crude_monte_carlo",
+           "form",
+           "importance_sampling",
+           "pf_from_beta",
+           "run_method",
+           "sorm",
+           "subset_simulation",
+]

@@ -47,11 +47,20 @@ def resolve_seed(seed, caller: str) -> tuple[np.random.Generator, int | None]:
     return np.random.default_rng(int(seed)), int(seed)
 
 
-def check_int(value, name: str, caller: str, minimum: int) -> int:
-    """Validated integer option (``minimum`` inclusive)."""
-    if isinstance(value, bool) or not isinstance(value, Integral) or value < minimum:
+MAX_CRUDE_SAMPLES = 10**9
+"""Upper bound on the samples of crude Monte Carlo [-]: drawn in chunks, so memory stays
+small, but 10**9 evaluations already take minutes to hours."""
+
+
+def check_int(value, name: str, caller: str, minimum: int, maximum: int | None = None,
+              why: str = "") -> int:
+    """Validated integer option (``minimum`` and ``maximum`` inclusive)."""
+    if (isinstance(value, bool) or not isinstance(value, Integral) or value < minimum
+            or (maximum is not None and value > maximum)):
+        upper = "inf)" if maximum is None else f"{maximum:_}]".replace("_", " ")
+        reason = f" ({why})" if why and maximum is not None else ""
         raise InputError(f"The {name!r} parameter of {caller} must be an int in the range "
-                         f"[{minimum}, inf). Got {value!r} instead.")
+                         f"[{minimum}, {upper}{reason}. Got {value!r} instead.")
     return int(value)
 
 
@@ -74,7 +83,7 @@ def crude_monte_carlo(problem: StandardNormalProblem, *, n: int = 10**6, seed=No
         Limit state in u-space; g <= 0 is failure (a series system uses its
         minimum over modes).
     n : int, default 10**6
-        Number of samples [-].
+        Number of samples [-], at most `MAX_CRUDE_SAMPLES` (10**9).
     seed : int, numpy.random.Generator or None
         Pass an int for reproducible output across calls.
     chunk : int, default 100_000
@@ -101,10 +110,11 @@ def crude_monte_carlo(problem: StandardNormalProblem, *, n: int = 10**6, seed=No
        *The American Statistician*, 51(2):137-139, 1997, doi:10.1080/00031305.1997.10473947.
     """
     caller = "crude_monte_carlo"
-    n = check_int(n, "n", caller, 1)
-    chunk = check_int(chunk, "chunk", caller, 1)
+    n = check_int(n, "n", caller, 1, MAX_CRUDE_SAMPLES, "upper bound of the run time")
+    chunk = check_int(chunk, "chunk", caller, 1, 10**7, "memory per limit-state call")
     rng, recorded_seed = resolve_seed(seed, caller)
     calls_before = problem.n_calls
+    counters = problem.counters()
 
     n_fail = 0
     remaining = n
@@ -127,6 +137,7 @@ def crude_monte_carlo(problem: StandardNormalProblem, *, n: int = 10**6, seed=No
         cov = math.nan
     else:
         cov = math.sqrt((1.0 - pf) / (n * pf))
+    warnings += problem.nonfinite_warnings(counters)
     return ReliabilityResult(
         method="crude_monte_carlo", pf=pf, beta=beta_from_pf(pf), cov=cov,
         n_calls=problem.n_calls - calls_before, seed=recorded_seed,

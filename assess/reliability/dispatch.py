@@ -5,20 +5,47 @@ from __future__ import annotations
 import inspect
 
 from assess.errors import InputError
+from assess.reliability.auto import auto
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.form import form
 from assess.reliability.importance import importance_sampling
 from assess.reliability.problem import StandardNormalProblem
 from assess.reliability.result import ReliabilityResult
+from assess.reliability.sorm import sorm
 from assess.reliability.subset import subset_simulation
 
+
+def polynomial_chaos(problem: StandardNormalProblem, *, seed=None, n_samples: int = 200,
+                     max_samples: int = 1000, tolerance: float = 0.1,
+                     check_points: int = 100, max_degree: int = 5, n_per_level: int = 2000,
+                     max_loo: float = 1e-2) -> ReliabilityResult:
+    """Reliability on a polynomial-chaos surrogate checked at its failure boundary
+    (`assess.surrogate.reliability.chaos_reliability`, imported on first use)."""
+    from assess.surrogate.reliability import chaos_reliability
+
+    return chaos_reliability(problem, seed=seed, n_samples=n_samples, max_samples=max_samples,
+                             tolerance=tolerance, check_points=check_points,
+                             max_degree=max_degree, n_per_level=n_per_level, max_loo=max_loo)
+
+
 METHODS = {
+    "auto": auto,
     "form": form,
+    "sorm": sorm,
     "importance_sampling": importance_sampling,
     "subset_simulation": subset_simulation,
     "crude_monte_carlo": crude_monte_carlo,
+    "polynomial_chaos": polynomial_chaos,
 }
 """Reliability methods by name; the keys are the valid ``method`` values of `run_method`."""
+
+CHECKED_DEFAULTS = {"check": True, "design_points": 4}
+"""Options `run_method` gives FORM, SORM and importance sampling unless the caller sets
+them: an independent subset-simulation check, and a search for up to 4 design points
+per failure mode. A direct call of `form` keeps the plain defaults (one design point,
+no check), which inner loops (value of information, remaining life) rely on for speed."""
+
+_CHECKED = ("form", "sorm", "importance_sampling")
 
 
 def run_method(problem: StandardNormalProblem, method: str, *, seed=None,
@@ -30,12 +57,15 @@ def run_method(problem: StandardNormalProblem, method: str, *, seed=None,
     problem : StandardNormalProblem
         Limit state(s) in u-space; g <= 0 is failure.
     method : str
-        One of ``"form"``, ``"importance_sampling"``, ``"subset_simulation"``,
-        ``"crude_monte_carlo"`` (see `METHODS`).
+        One of ``"auto"``, ``"form"``, ``"sorm"``, ``"importance_sampling"``,
+        ``"subset_simulation"``, ``"crude_monte_carlo"``, ``"polynomial_chaos"``
+        (see `METHODS`).
     seed : int, numpy.random.Generator or None
-        Seed of the sampling methods; FORM is deterministic and ignores it.
+        Seed of the sampling methods and of the checks; FORM and SORM themselves
+        are deterministic.
     **options
         Keyword options of the chosen method (e.g. ``n_per_level=1000``).
+        FORM, SORM and importance sampling get `CHECKED_DEFAULTS` unless given.
 
     Returns
     -------
@@ -55,6 +85,8 @@ def run_method(problem: StandardNormalProblem, method: str, *, seed=None,
     if unknown:
         raise InputError(f"{method} does not take the option(s) {', '.join(unknown)}; "
                          f"its options are {', '.join(accepted)}")
+    if method in _CHECKED:
+        options = {**CHECKED_DEFAULTS, **options}
     if "seed" in accepted:
         options["seed"] = seed
     return function(problem, **options)

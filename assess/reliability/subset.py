@@ -8,6 +8,9 @@ References
 .. [2] I. Papaioannou, W. Betz, K. Zwirglmaier and D. Straub, "MCMC algorithms for
    subset simulation," *Probabilistic Engineering Mechanics*, 41:89-103, 2015,
    doi:10.1016/j.probengmech.2015.06.006.
+.. [3] H. P. Chan and T. L. Lai, "A general theory of particle filters in hidden Markov
+   models and some applications," *Annals of Statistics*, 41(6):2877-2904, 2013,
+   doi:10.1214/13-AOS1172 (variance estimate from the ancestral origins of the particles).
 """
 
 from __future__ import annotations
@@ -25,6 +28,19 @@ SAMPLERS = ("acs", "mma")
 TARGET_ACCEPTANCE = 0.44   # a* of adaptive conditional sampling [2]
 LAMBDA_START = 0.6         # lambda_0 of adaptive conditional sampling [2]
 MMA_PROPOSAL_STD = 1.0     # component proposal spread of the modified Metropolis algorithm [1]
+DEFAULT_P0 = 0.2
+"""Default level probability [-]: over 200 runs at pf 1e-4 and 1e-6 in 2 and 100
+dimensions its reported CoV is within 5 % of the observed spread and its CoV per
+evaluation slightly better than with 0.1 (benchmarks/reliability_methods.py)."""
+DEFAULT_MAX_LEVELS = 30
+"""Default deepest level: pf down to about 0.2**30 = 1e-21 (beta about 9.5) [-]."""
+MAX_SAMPLES_PER_LEVEL = 10**6
+"""Upper bound on ``n_per_level`` [-]."""
+MAX_LEVEL_VALUES = 2 * 10**7
+"""Upper bound on ``n_per_level`` x number of variables: one level's points in memory
+(8 bytes each, about 160 MB) [-]."""
+MAX_REPEAT_CALLS = 10**7
+"""Default budget of limit-state evaluations when running until a requested CoV [-]."""
 
 
 def _chain_gamma(indicator: np.ndarray, lengths: np.ndarray, n_total: int) -> float:
@@ -119,88 +135,42 @@ class _ChainSampler:
         return accept
 
 
-def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000,
-                      p0: float = 0.1, seed=None, sampler: str = "acs",
-                      max_levels: int = 20) -> ReliabilityResult:
-    """Probability of failure by subset simulation.
+def _lineage_cov(records: list, n_per_level: int) -> float:
+    """CoV of the subset-simulation pf from the ancestral origins of the samples [3]_.
 
-    Parameters
-    ----------
-    problem : StandardNormalProblem
-        Limit state(s) in u-space; g <= 0 is failure (a series system uses its
-        minimum over modes, which subset simulation handles directly).
-    n_per_level : int, default 1000
-        Samples per level N [-]. The run costs about
-        N (1 + (m - 1)(1 - p0)) limit-state calls for m levels.
-    p0 : float, default 0.1
-        Level probability: each threshold is the p0-quantile of g [-].
-    seed : int, numpy.random.Generator or None
-        Pass an int for reproducible output across calls.
-    sampler : {"acs", "mma"}, default "acs"
-        Conditional sampler: adaptive conditional sampling [2]_ or the modified
-        Metropolis algorithm [1]_.
-    max_levels : int, default 20
-        Maximum number of levels (pf down to about p0**max_levels) [-].
-
-    Returns
-    -------
-    ReliabilityResult
-        pf = prod P_i, beta, cov, and in ``details["levels"]`` the threshold,
-        conditional probability, chain-correlation factor gamma, level CoV,
-        acceptance rate and aCS scaling lambda of each level.
-
-    Notes
-    -----
-    Level i CoV: delta_i^2 = (1 - P_i) / (N P_i) (1 + gamma_i), with gamma_i from
-    the lag correlations of the level indicator along the chains (eq. 29 of [1]_;
-    gamma_1 = 0 for the direct Monte Carlo level). The reported
-    cov = sqrt(sum delta_i^2) treats the levels as uncorrelated, so it is a lower
-    bound; the spread over repeated runs is typically somewhat larger.
-
-    The N P_i seeds of a level are shuffled and each grows a chain; all chains
-    advance together, so each step costs one vectorised limit-state call. With
-    aCS, the proposal spread sigma_k = min(1, lambda sigma_hat_k) uses the seeds'
-    sample standard deviation sigma_hat_k, and ln lambda is updated after every
-    step from the acceptance rate of that step's proposals, with step size
-    1/sqrt(t), target a* = 0.44 and lambda_0 = 0.6, carried over from level to
-    level [2]_. Adapting after each joint step of the N p0 chains uses N p0
-    proposals per update, which equals the p_a N proposals per update of [2]_
-    for p_a = p0 (= 0.1 by default).
-
-    Cost and accuracy at pf = 1e-6 (linear limit state, benchmarks/
-    reliability_methods.py, 20 runs): N = 1000, p0 = 0.1 costs about 5900
-    evaluations for a CoV of about 0.3 (100-D) to 0.5 (2-D); the CoV falls as
-    1/sqrt(N), so CoV <= 0.25 needs N of about 3000 (about 18 000 evaluations).
-
-    If no failure is reached within ``max_levels`` levels, or a level does not
-    lower the threshold (a flat limit state), the run stops with
-    ``converged=False`` and a warning; pf may then be 0 (beta = inf).
+    ln pf = sum_i ln P_i; to first order its error is the sum over levels and
+    samples of (I_ik - P_i) / (N P_i). Every sample descends from one sample
+    of the first (direct Monte Carlo) level, its root; the roots are
+    independent, so the squared sums per root add up to the variance. This
+    counts the correlation along each chain, between chains grown from related
+    seeds, and between levels, which the per-level formula of Au & Beck leaves
+    out.
     """
-    caller = "subset_simulation"
-    n_per_level = check_int(n_per_level, "n_per_level", caller, 10)
-    p0 = check_real(p0, "p0", caller, 0.0, 0.5 + 1e-12)
-    max_levels = check_int(max_levels, "max_levels", caller, 1)
-    if sampler not in SAMPLERS:
-        raise InputError(f"The 'sampler' parameter of {caller} must be one of "
-                         f"{', '.join(repr(s) for s in SAMPLERS)}. Got {sampler!r} instead.")
-    n_seeds_target = int(round(n_per_level * p0))
-    if n_seeds_target < 2:
-        raise InputError(f"n_per_level * p0 must give at least 2 chains; got "
-                         f"n_per_level={n_per_level}, p0={p0}")
-    rng, recorded_seed = resolve_seed(seed, caller)
-    calls_before = problem.n_calls
-    chains = _ChainSampler(sampler, rng)
+    totals = np.zeros(n_per_level)
+    for record in records:
+        p = record["p"]
+        if not 0.0 < p:
+            return math.nan
+        np.add.at(totals, record["roots"], (record["inside"] - p) / (n_per_level * p))
+    return float(math.sqrt(float(totals @ totals)))
 
+
+def _one_run(problem: StandardNormalProblem, n_per_level: int, p0: float,
+             rng: np.random.Generator, sampler: str, max_levels: int) -> dict:
+    """One subset-simulation run: pf, its CoV, the levels and warnings."""
+    n_seeds_target = round(n_per_level * p0)
+    chains = _ChainSampler(sampler, rng)
     u = rng.standard_normal((n_per_level, problem.dim))
     g = problem.g(u)
-    indicator_shape = (1, n_per_level)
+    roots = np.arange(n_per_level)
     lengths = np.ones(n_per_level, dtype=int)
-    chain_g = g.reshape(indicator_shape)
+    chain_g = g.reshape((1, n_per_level))
     acceptance, lam = math.nan, math.nan
 
-    levels, warnings = [], []
+    levels, records, warnings = [], [], []
     pf = 1.0
     converged = False
+    n_fail = 0
     for level in range(max_levels):
         n_fail = int(np.count_nonzero(g <= 0.0))
         final = n_fail >= n_seeds_target or level == max_levels - 1
@@ -211,6 +181,7 @@ def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000
             threshold = 0.5 * (g_sorted[n_seeds_target - 1] + g_sorted[n_seeds_target])
         inside = g <= threshold
         p_level = float(inside.mean())
+        records.append({"p": p_level, "inside": inside.astype(float), "roots": roots})
         gamma = _chain_gamma(chain_g <= threshold, lengths, n_per_level)
         cov2 = ((1.0 - p_level) / (n_per_level * p_level) * (1.0 + gamma)
                 if p_level > 0 else math.nan)
@@ -234,28 +205,192 @@ def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000
                 "progress - check the limit state or use crude_monte_carlo")
             pf = 0.0 if n_fail == 0 else pf * n_fail / n_per_level
             break
-        seeds_u, seeds_g = u[inside], g[inside]
-        order = rng.permutation(seeds_g.size)
-        seeds_u, seeds_g = seeds_u[order], seeds_g[order]
+        seed_index = np.flatnonzero(inside)
+        seed_index = seed_index[rng.permutation(seed_index.size)]
+        seeds_u, seeds_g = u[seed_index], g[seed_index]
         n_chains = seeds_g.size
         lengths = np.full(n_chains, n_per_level // n_chains)
         lengths[: n_per_level % n_chains] += 1
         run = chains.run(problem, seeds_u, seeds_g, threshold, lengths)
         valid = np.arange(run["chain_g"].shape[0])[:, None] < lengths[None, :]
         u, g = run["chain_u"][valid], run["chain_g"][valid]
+        chain_of_sample = np.broadcast_to(np.arange(n_chains), valid.shape)[valid]
+        roots = roots[seed_index][chain_of_sample]
         chain_g = run["chain_g"]
         acceptance, lam = run["acceptance_rate"], run["lambda"]
         if sampler == "mma":
             lam = math.nan
 
     cov2_sum = sum(lv["cov"]**2 for lv in levels)
-    cov = math.sqrt(cov2_sum) if pf > 0 and math.isfinite(cov2_sum) else math.nan
+    cov_au_beck = math.sqrt(cov2_sum) if pf > 0 and math.isfinite(cov2_sum) else math.nan
+    cov = _lineage_cov(records, n_per_level) if pf > 0 else math.nan
     if pf == 0 and not warnings:
         warnings.append("no failed sample: pf = 0 is not an estimate")
-    return ReliabilityResult(
+    return {"pf": pf, "cov": cov, "cov_au_beck": cov_au_beck, "levels": levels,
+            "warnings": warnings, "converged": converged, "n_failures_last_level": n_fail,
+            "last_u": u, "last_g": g}
+
+
+def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000,
+                      p0: float = DEFAULT_P0, seed=None, sampler: str = "acs",
+                      max_levels: int = DEFAULT_MAX_LEVELS, target_cov: float | None = None,
+                      max_calls: int | None = None) -> ReliabilityResult:
+    """Probability of failure by subset simulation.
+
+    Parameters
+    ----------
+    problem : StandardNormalProblem
+        Limit state(s) in u-space; g <= 0 is failure (a series system uses its
+        minimum over modes, which subset simulation handles directly).
+    n_per_level : int, default 1000
+        Samples per level N [-], at most `MAX_SAMPLES_PER_LEVEL` (10**6) and
+        N x dim at most `MAX_LEVEL_VALUES` (2 x 10**7, memory). The run costs
+        about N (1 + (m - 1)(1 - p0)) limit-state calls for m levels.
+    p0 : float, default 0.2
+        Level probability: each threshold is the p0-quantile of g [-] (0.1 before
+        issue 14; see `DEFAULT_P0`).
+    seed : int, numpy.random.Generator or None
+        Pass an int for reproducible output across calls.
+    sampler : {"acs", "mma"}, default "acs"
+        Conditional sampler: adaptive conditional sampling [2]_ or the modified
+        Metropolis algorithm [1]_.
+    max_levels : int, default 30
+        Maximum number of levels (pf down to about p0**max_levels) [-].
+    target_cov : float, optional
+        Run independent repetitions of N samples per level and pool them until
+        the CoV of the pooled pf is at most this value [-] (or ``max_calls``
+        is spent). Without it, one run.
+    max_calls : int, optional
+        Budget of limit-state evaluations for ``target_cov`` [-]; default
+        `MAX_REPEAT_CALLS` (10**7).
+
+    Returns
+    -------
+    ReliabilityResult
+        pf = prod P_i, beta, cov, and in ``details["levels"]`` the threshold,
+        conditional probability, chain-correlation factor gamma, level CoV of
+        Au & Beck, acceptance rate and aCS scaling lambda of each level; with
+        ``target_cov``, ``details["runs"]`` lists the repetitions.
+
+    Notes
+    -----
+    Reported CoV. Each sample descends from one sample of the first level (its
+    root). To first order the relative error of pf is
+    sum_i sum_k (I_ik - P_i) / (N P_i) over levels i and samples k, and the sums
+    per root are independent, so cov^2 = sum_roots (sum of the root's terms)^2
+    (an ancestral-origin variance estimate in the sense of Chan & Lai [3]_). It
+    counts the correlation of the samples within each chain, between chains
+    grown from related seeds and between levels. The per-level formula of Au &
+    Beck [1]_, delta_i^2 = (1 - P_i) / (N P_i) (1 + gamma_i) summed over levels,
+    leaves the last two out; it is kept as ``details["cov_au_beck"]``.
+    Measured over 200 runs of linear limit states at pf = 1e-4 and 1e-6 in 2 and 100
+    dimensions (benchmarks/reliability_methods.py), the mean reported CoV is 0.95-1.05
+    of the observed spread of pf with p0 = 0.2 and N = 1250 (0.81-0.98 with p0 = 0.1;
+    the per-level formula of Au & Beck: 0.77-0.92).
+
+    The N P_i seeds of a level are shuffled and each grows a chain; all chains
+    advance together, so each step costs one vectorised limit-state call. With
+    aCS, the proposal spread sigma_k = min(1, lambda sigma_hat_k) uses the seeds'
+    sample standard deviation sigma_hat_k, and ln lambda is updated after every
+    step from the acceptance rate of that step's proposals, with step size
+    1/sqrt(t), target a* = 0.44 and lambda_0 = 0.6, carried over from level to
+    level [2]_. Adapting after each joint step of the N p0 chains uses N p0
+    proposals per update, which equals the p_a N proposals per update of [2]_
+    for p_a = p0 (= 0.1 by default).
+
+    Cost and accuracy at pf = 1e-6 (linear limit state, 200 runs): N = 1250, p0 = 0.2
+    costs about 9300 evaluations for a CoV of 0.32-0.33 in 2 and 100 dimensions
+    (N = 1000, p0 = 0.1: 6000 evaluations, CoV 0.43-0.47); the CoV falls as 1/sqrt(N).
+    A CoV of 0.25 at pf = 1e-6 needs about 16 000 evaluations; see the benchmark for the
+    settings tried.
+
+    If no failure is reached within ``max_levels`` levels, or a level does not
+    lower the threshold (a flat limit state), the run stops with
+    ``converged=False`` and a warning; pf may then be 0 (beta = inf), and
+    ``details["pf_upper"]`` gives p0**(levels - 1) times the bound 3/N on the
+    last level (rule of three).
+    """
+    return _subset(problem, n_per_level=n_per_level, p0=p0, seed=seed, sampler=sampler,
+                   max_levels=max_levels, target_cov=target_cov, max_calls=max_calls)[0]
+
+
+def _subset(problem, *, n_per_level, p0, seed, sampler, max_levels, target_cov, max_calls):
+    """`subset_simulation` and the samples of the last level of its first run (u, g)."""
+    caller = "subset_simulation"
+    n_per_level = check_int(n_per_level, "n_per_level", caller, 10, MAX_SAMPLES_PER_LEVEL,
+                            "memory")
+    if n_per_level * problem.dim > MAX_LEVEL_VALUES:
+        raise InputError(f"The 'n_per_level' parameter of {caller} times the number of "
+                         f"variables ({problem.dim}) must not exceed {MAX_LEVEL_VALUES:.0e} "
+                         f"(memory of one level). Got n_per_level={n_per_level} instead.")
+    p0 = check_real(p0, "p0", caller, 0.0, 0.5 + 1e-12)
+    max_levels = check_int(max_levels, "max_levels", caller, 1, 200)
+    if sampler not in SAMPLERS:
+        raise InputError(f"The 'sampler' parameter of {caller} must be one of "
+                         f"{', '.join(repr(s) for s in SAMPLERS)}. Got {sampler!r} instead.")
+    if target_cov is not None:
+        target_cov = check_real(target_cov, "target_cov", caller, 0.0, 10.0)
+    max_calls = (MAX_REPEAT_CALLS if max_calls is None
+                 else check_int(max_calls, "max_calls", caller, 1))
+    if round(n_per_level * p0) < 2:
+        raise InputError(f"n_per_level * p0 must give at least 2 chains; got "
+                         f"n_per_level={n_per_level}, p0={p0}")
+    rng, recorded_seed = resolve_seed(seed, caller)
+    calls_before = problem.n_calls
+    counters = problem.counters()
+    settings = {"n_per_level": n_per_level, "p0": p0, "sampler": sampler,
+                "max_levels": max_levels}
+
+    runs = [_one_run(problem, n_per_level, p0, rng, sampler, max_levels)]
+    if target_cov is not None:
+        settings.update({"target_cov": target_cov, "max_calls": max_calls})
+        per_run = problem.n_calls - calls_before
+        while True:
+            pooled = _pool(runs)
+            if pooled["cov"] <= target_cov or pooled["pf"] == 0.0:
+                break
+            if problem.n_calls - calls_before + per_run > max_calls:
+                break
+            runs.append(_one_run(problem, n_per_level, p0, rng, sampler, max_levels))
+
+    first = runs[0]
+    warnings = list(first["warnings"])
+    details = {"levels": first["levels"], "n_levels": len(first["levels"]),
+               "cov_au_beck": first["cov_au_beck"], "cov_method": "ancestral origins"}
+    if len(runs) == 1:
+        pf, cov, converged = first["pf"], first["cov"], first["converged"]
+    else:
+        pooled = _pool(runs)
+        pf, cov = pooled["pf"], pooled["cov"]
+        converged = all(r["converged"] for r in runs) and cov <= target_cov
+        for r in runs[1:]:
+            warnings += [w for w in r["warnings"] if w not in warnings]
+        details["runs"] = [{"pf": r["pf"], "cov": r["cov"], "n_levels": len(r["levels"])}
+                           for r in runs]
+        details["cov_spread"] = pooled["cov_spread"]
+        if cov > target_cov:
+            warnings.append(f"the requested CoV {target_cov:g} was not reached within "
+                            f"max_calls={max_calls}: CoV {cov:.3g} after {len(runs)} runs")
+    if pf == 0.0:
+        levels_done = len(first["levels"])
+        details["pf_upper"] = min(1.0, p0 ** max(levels_done - 1, 0) * 3.0 / n_per_level)
+    warnings += problem.nonfinite_warnings(counters)
+    result = ReliabilityResult(
         method="subset_simulation", pf=pf, beta=beta_from_pf(pf), cov=cov,
         n_calls=problem.n_calls - calls_before, seed=recorded_seed,
-        settings={"n_per_level": n_per_level, "p0": p0, "sampler": sampler,
-                  "max_levels": max_levels},
-        converged=converged, warnings=tuple(warnings),
-        details={"levels": levels, "n_levels": len(levels)})
+        settings=settings, converged=converged, warnings=tuple(warnings), details=details)
+    return result, (first["last_u"], first["last_g"])
+
+
+def _pool(runs: list) -> dict:
+    """Mean pf of independent runs, its CoV from the runs' own CoVs, and the CoV from
+    their spread (for three runs or more)."""
+    pfs = np.array([r["pf"] for r in runs])
+    covs = np.array([r["cov"] for r in runs])
+    pf = float(pfs.mean())
+    if pf <= 0 or not np.all(np.isfinite(covs)):
+        return {"pf": pf, "cov": math.inf, "cov_spread": math.nan}
+    cov = float(math.sqrt(float(np.mean(covs**2)) / len(runs)))
+    spread = (float(pfs.std(ddof=1) / pf / math.sqrt(len(runs))) if len(runs) >= 3
+              else math.nan)
+    return {"pf": pf, "cov": cov, "cov_spread": spread}
