@@ -12,10 +12,9 @@ from pathlib import Path
 from typing import Annotated
 
 import typer
-from rich.markup import escape
 from rich.table import Table
 
-from assess.cli.app import app, err_console, guard, out_console, print_caution
+from assess.cli.app import app, err_console, guard, out_console, plain, print_caution
 from assess.errors import InputError
 from assess.problem_file import (
     METHODS,
@@ -61,7 +60,7 @@ def solve(
         loaded = load_problem(problem_file)
     except InputError as exc:
         # printed without markup: the message may show TOML tables such as [about]
-        err_console.print(f"[bold red]Input error:[/] {escape(str(exc))}", highlight=False,
+        err_console.print(plain("Input error: ", "bold red", str(exc)), highlight=False,
                           soft_wrap=True)
         raise typer.Exit(code=2) from None
     method_name = approach.value if approach is not None else loaded.method
@@ -81,11 +80,11 @@ def solve(
             if table is not None:
                 out_console.print(table)
     for warning in result.warnings:
-        err_console.print(f"[yellow]Warning:[/] {escape(warning)}", highlight=False,
+        err_console.print(plain("Warning: ", "yellow", warning), highlight=False,
                           soft_wrap=True)
     trust = (block.get("independent_check") or {}).get("trust")
     if trust and not block["independent_check"].get("agree", True):
-        err_console.print(f"[yellow]Method to trust:[/] {trust.replace('_', ' ')}",
+        err_console.print(plain("Method to trust: ", "yellow", trust.replace("_", " ")),
                           highlight=False, soft_wrap=True)
     print_caution()
 
@@ -102,11 +101,11 @@ def _answer_table(block: dict, loaded: LoadedProblem) -> Table:
     case = block["case"]
     title = case.get("title") or Path(case.get("file", "")).name
     answer = block["answer"]
-    table = Table(title=f"Reliability of: {escape(title)}", show_header=False,
+    table = Table(title=f"Reliability of: {(title)}", show_header=False,
                   title_justify="left")
     table.add_column("quantity", style="bold")
     table.add_column("value")
-    table.add_row("failure modes", escape(", ".join(loaded.mode_names))
+    table.add_row("failure modes", (", ".join(loaded.mode_names))
                   + (" (series system)" if len(loaded.mode_names) > 1 else ""))
     table.add_row("approach", block["approach"])
     if answer["method_used"] != block["approach"]:
@@ -143,7 +142,7 @@ def _modes_table(block: dict) -> Table | None:
     table.add_column("pf", justify="right")
     table.add_column("converged")
     for mode in modes:
-        table.add_row(escape(str(mode.get("mode", ""))), _number(mode.get("beta")),
+        table.add_row((str(mode.get("mode", ""))), _number(mode.get("beta")),
                       _number(mode.get("pf")), "yes" if mode.get("converged", True) else "NO")
     return table
 
@@ -158,7 +157,7 @@ def _design_point_table(block: dict, loaded: LoadedProblem) -> Table | None:
     table.add_column("design value", justify="right")
     table.add_column("unit")
     for name, value in x.items():
-        table.add_row(escape(name), _number(value, 5), escape(units.get(name, "")))
+        table.add_row((name), _number(value, 5), (units.get(name, "")))
     return table
 
 
@@ -174,7 +173,7 @@ def _drivers_table(block: dict) -> Table | None:
         table.add_column("Sobol first order", justify="right")
         table.add_column("Sobol total", justify="right")
     for row in rows:
-        cells = [escape(row["variable"]), _number(row["importance_factor"], 3)]
+        cells = [(row["variable"]), _number(row["importance_factor"], 3)]
         if has_sobol:
             cells += [_number(row["sobol_first"], 3), _number(row["sobol_total"], 3)]
         table.add_row(*cells)
