@@ -73,7 +73,7 @@ def _site_table(rows: list[dict]) -> Table:
 
     table = Table(title="Where to act and test first (most urgent first)")
     formatted = table_rows(rows)
-    columns = ("rank", "site", "urgency", "governing member", "beta now", "target",
+    columns = ("rank", "site", "governing member", "beta now", "target",
                "remaining life", "recommended action", "further testing", "cost of keeping as is",
                "last campaign")
     for column in columns:

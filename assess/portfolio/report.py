@@ -81,7 +81,8 @@ def table_rows(rows: list[dict], report_link: Path | None = None) -> list[dict]:
 
 
 def write_portfolio_report(folder: Path, *, name: str, rows: list[dict], members: list[dict],
-                           failed: list[dict], run_info: dict, site_folders: dict) -> tuple[Path, Path]:
+                           failed: list[dict], run_info: dict, site_folders: dict,
+                           warnings: list[dict] | None = None) -> tuple[Path, Path]:
     """Write the portfolio page and its JSON; returns their paths."""
     from assess.report.document import ReportDocument
     from assess.report.writer import report_paths, write_report
@@ -115,6 +116,9 @@ def write_portfolio_report(folder: Path, *, name: str, rows: list[dict], members
         sec = doc.add_section("Sites that failed")
         sec.add_table([{"site": f["site"], "failure": f["failure"], "reason": f["reason"]}
                        for f in failed], caption="Reasons (the other sites were run)")
+    if warnings:
+        sec = doc.add_section("Points to check per site")
+        sec.add_table(warnings, caption="Warnings of each site's last run (details in its report)")
     sec = doc.add_section("Site reports")
     links = []
     for r in rows:
@@ -124,6 +128,6 @@ def write_portfolio_report(folder: Path, *, name: str, rows: list[dict], members
     sec.add_table(links, caption="Each site's own report, in its folder (path from this page)")
     html_path, json_path = report_paths(reports, prefix="portfolio")
     numbers = {"name": name, "rule": ranking.RULE, "sites": rows, "members": members,
-               "failed": failed, "run": run_info,
+               "failed": failed, "warnings": warnings or [], "run": run_info,
                "site_folders": {k: str(v) for k, v in site_folders.items()}}
     return write_report(html_path, json_path, doc, numbers)

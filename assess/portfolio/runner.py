@@ -182,7 +182,7 @@ def _run_on_dask(to_run, skipped, settings, job, progress, finish, scheduler, wo
                 except Exception as exc:  # noqa: BLE001 - a lost worker, a task that could not run
                     outcome = {"status": "failed", "error_kind": "lost",
                                "message": f"{type(exc).__name__}: {exc}", "warnings": [],
-                               "seconds": None, "worker": None}
+                               "seconds": None, "steps": [], "worker": None}
                 finish(entry, outcome)
         finally:
             dask_client.unsubscribe_topic(STEP_TOPIC)
@@ -196,16 +196,23 @@ def _summary_page(portfolio, record, outcomes, hashes, to_run, skipped, executor
     if not to_run and last_page is not None and last_page.get("hashes") == hashes:
         return (folder / last_page["report_html"], folder / last_page["report_json"])
     from assess.portfolio.report import write_portfolio_report
-    from assess.portfolio.summary import failed_rows, member_rows, site_rows
+    from assess.portfolio.summary import (
+        failed_rows,
+        member_rows,
+        site_rows,
+        warning_rows,
+    )
 
     run_info = {"ran": [s.key for s in to_run], "skipped": skipped, "executor": executor,
                 "seconds": seconds,
                 "site_seconds": {k: o.get("seconds") for k, o in outcomes.items()
-                                 if not o.get("skipped")}}
+                                 if not o.get("skipped")},
+                "site_steps": {k: o.get("steps") for k, o in outcomes.items()
+                               if not o.get("skipped")}}
     html, json_path = write_portfolio_report(
         folder, name=portfolio.name, rows=site_rows(outcomes), members=member_rows(outcomes),
         failed=failed_rows(outcomes), run_info=run_info,
-        site_folders={s.key: s.folder for s in portfolio.sites})
+        site_folders={s.key: s.folder for s in portfolio.sites}, warnings=warning_rows(outcomes))
     record.append({"kind": "portfolio", "hashes": hashes, "ran": run_info["ran"],
                    "skipped": skipped, "failed": [k for k, o in outcomes.items()
                                                   if o.get("status") != "done"],

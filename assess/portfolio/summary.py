@@ -92,3 +92,9 @@ def failed_rows(outcomes: dict[str, dict]) -> list[dict]:
     return [{"site": k, "failure": o.get("error_kind"), "reason": o.get("message"),
              "worker": o.get("worker")}
             for k, o in outcomes.items() if o.get("status") != "done"]
+
+
+def warning_rows(outcomes: dict[str, dict]) -> list[dict]:
+    """One row per site and distinct warning of its last run."""
+    return [{"site": k, "warning": text} for k, o in outcomes.items()
+            for text in o.get("warnings") or []]

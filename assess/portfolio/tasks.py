@@ -22,6 +22,9 @@ from assess.errors import AnalysisError, InputError
 #: Topic of the worker events that carry the per-site step.
 STEP_TOPIC = "assess-portfolio-step"
 
+#: Library notes that say nothing about the structure (as the CLI drops them).
+QUIET_WARNINGS = ("could not link to a BLAS",)
+
 #: Lines of traceback kept for an unexpected error.
 TRACEBACK_LINES = 12
 
@@ -66,12 +69,18 @@ def site_task(key: str, folder: str, settings: dict, job: Callable | None = None
         ``status`` ("done" or "failed"), ``summary`` (the job's dict, done
         only), ``error_kind`` ("input", "analysis" or "error") and ``message``
         (failed only), ``warnings`` (distinct warning texts), ``seconds`` [s],
-        ``worker`` ("host:pid").
+        ``steps`` ([step text, seconds] in order), ``worker`` ("host:pid").
     """
     if job is None:
         from assess.portfolio.site_job import run_one_site as job
-    step = step or _worker_step(key) or (lambda _text: None)
+    report = step or _worker_step(key) or (lambda _text: None)
     started = time.perf_counter()
+    marks: list = []
+
+    def step(text: str) -> None:
+        marks.append((str(text), time.perf_counter()))
+        report(text)
+
     outcome: dict = {"status": "failed"}
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
@@ -86,13 +95,16 @@ def site_task(key: str, folder: str, settings: dict, job: Callable | None = None
             outcome = {"status": "failed", "error_kind": "error",
                        "message": f"{type(exc).__name__}: {exc}",
                        "traceback": "".join(lines[-TRACEBACK_LINES:])}
+    ended = time.perf_counter()
     texts = []
     for item in caught:
         text = str(item.message)
-        if text not in texts and not issubclass(item.category, (DeprecationWarning,
-                                                                FutureWarning)):
+        if (text not in texts and not issubclass(item.category, (DeprecationWarning, FutureWarning))
+                and not any(part in text for part in QUIET_WARNINGS)):
             texts.append(text)
     outcome["warnings"] = texts
-    outcome["seconds"] = time.perf_counter() - started
+    outcome["seconds"] = ended - started
+    outcome["steps"] = [[text, (marks[i + 1][1] if i + 1 < len(marks) else ended) - at]
+                        for i, (text, at) in enumerate(marks)]
     outcome["worker"] = f"{socket.gethostname()}:{os.getpid()}"
     return outcome
