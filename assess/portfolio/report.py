@@ -21,7 +21,8 @@ def overview_figure(rows: list[dict]):
     """Margin beta - target of each site's governing member against the years to the crossing.
 
     A map-free overview: one point per site, labelled with its rank; sites
-    without a crossing within the horizon sit at the right edge (arrow marker).
+    without a crossing within the horizon (arrow marker) or without remaining-life
+    curves (cross) sit at the right edge.
     """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
@@ -39,11 +40,16 @@ def overview_figure(rows: list[dict]):
     edge = max(10.0, (finite.max() if finite.size else 0.0) * 1.15 + 2.0)
     plotted = np.where(np.isfinite(years), years, edge)
     shown = np.clip(np.where(np.isfinite(margins), margins, 0.0), -3.0, 3.0)
-    beyond = ~np.isfinite(years)
-    ax.scatter(plotted[~beyond], shown[~beyond], color=PALETTE[0], s=36, zorder=3,
-               label="crosses the target within the horizon")
-    ax.scatter(plotted[beyond], shown[beyond], color=PALETTE[1], marker=">", s=42, zorder=3,
-               label="no crossing within the horizon")
+    curves = np.array([bool(r.get("life curves", True)) for r in rows])
+    beyond = ~np.isfinite(years) & curves
+    crossing = np.isfinite(years) & curves
+    kinds = ((crossing, {"color": PALETTE[0], "s": 36}, "crosses the target within the horizon"),
+             (beyond, {"color": PALETTE[1], "marker": ">", "s": 42}, "no crossing within the horizon"),
+             (~curves, {"color": PALETTE[3], "marker": "x", "s": 42},
+              "no remaining-life curves (placed at the right)"))
+    for mask, style, label in kinds:
+        if mask.any():
+            ax.scatter(plotted[mask], shown[mask], zorder=3, label=label, **style)
     for r, x, y in zip(rows, plotted, shown):
         ax.annotate(str(r["rank"]), (x, y), textcoords="offset points", xytext=(4, 4), fontsize=8)
     ax.axhline(0.0, color=TARGET_COLOUR, linestyle="--", linewidth=1.4, label="target (margin 0)")

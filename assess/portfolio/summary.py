@@ -61,6 +61,7 @@ def site_rows(outcomes: dict[str, dict]) -> list[dict]:
             "remaining life": (member.get("life_text") or "-") if member else "-",
             "years to crossing": min((ranking.years_to_crossing(m) for m in summary["members"]),
                                      default=math.inf),
+            "life curves": any(m.get("life_status") is not None for m in summary["members"]),
             "recommended action": recommended_action(summary, member),
             "further testing": further_testing(summary),
             "expected cost of keeping as is": worth.get("expected_cost_keep"),
