@@ -18,7 +18,10 @@ a linearity check (the 100-member time against the straight line through 20 and
     python benchmarks/portfolio.py [--quick] [--workers N] [--sites 8] [--sizes 20,100,400]
 
 ``--quick``: quick main-job settings without history and remaining-life steps
-(the two steps that run further MCMC), for a first look in minutes. The load
+(the two steps that run further MCMC), for a first look in minutes.
+``--chains-in-one-process``: a what-if for the Dask arm only, with PyMC sampling
+the chains one after another inside each worker (what a sampler-cores setting
+of the pipeline would do; PyMC gives the same draws). The load
 average of the machine is printed before and after each part: other work on the
 machine slows both runs and lowers the speed-up.
 """
@@ -56,7 +59,24 @@ def _members_numbers(outcome: dict) -> list:
             for m in summary.get("members", [])]
 
 
-def part_speedup(work: Path, settings: dict, sites: int, workers: int) -> None:
+def chains_in_one_process_job(folder, settings, step=None):
+    """What-if for the Dask arm: the main job with every PyMC chain in the worker process.
+
+    Stands in for a sampler-cores setting the pipeline does not have yet: while
+    the job runs, `assess.updating.models` sees one core, so `pm.sample` runs
+    the chains one after another (PyMC gives the same draws either way).
+    """
+    from unittest import mock
+
+    from assess.portfolio.site_job import run_one_site
+    from assess.updating import models
+
+    with mock.patch.object(models.os, "cpu_count", return_value=1):
+        return run_one_site(folder, settings, step=step)
+
+
+def part_speedup(work: Path, settings: dict, sites: int, workers: int,
+                 one_process_chains: bool = False) -> None:
     from assess.portfolio import load_portfolio, run_portfolio
     from assess.portfolio.cluster import open_client
     from assess.portfolio.site_job import run_one_site
@@ -80,10 +100,14 @@ def part_speedup(work: Path, settings: dict, sites: int, workers: int) -> None:
     with open_client(workers=workers) as (client, description):
         t_start = time.perf_counter() - start
         begin = time.perf_counter()
-        on_dask = run_portfolio(load_portfolio(work / "dask"), overrides=settings, client=client)
+        job = chains_in_one_process_job if one_process_chains else None
+        on_dask = run_portfolio(load_portfolio(work / "dask"), overrides=settings, client=client,
+                                job=job)
         t_dask = time.perf_counter() - begin
     t_total = time.perf_counter() - start
-    print(f"  Dask done ({description}); {_load()}")
+    print(f"  Dask done ({description}"
+          f"{'; what-if: PyMC chains in the worker process' if one_process_chains else ''}); "
+          f"{_load()}")
 
     same = all(_members_numbers(sequential.outcomes[k]) == _members_numbers(on_dask.outcomes[k])
                for k in sequential.outcomes)
@@ -169,6 +193,9 @@ def main() -> None:
     parser.add_argument("--sites", type=int, default=8)
     parser.add_argument("--sizes", default="20,100,400")
     parser.add_argument("--skip", choices=("speedup", "members"), help="leave one part out")
+    parser.add_argument("--chains-in-one-process", action="store_true",
+                        help="what-if for the Dask arm: PyMC samples the chains one after another "
+                             "inside the worker (as a sampler-cores setting would)")
     args = parser.parse_args()
     settings = {"quick": True, "history": False, "life": False} if args.quick else {}
     warnings.simplefilter("ignore")
@@ -176,7 +203,7 @@ def main() -> None:
     with tempfile.TemporaryDirectory(prefix="portfolio-bench-") as tmp:
         work = Path(tmp)
         if args.skip != "speedup":
-            part_speedup(work, settings, args.sites, args.workers)
+            part_speedup(work, settings, args.sites, args.workers, args.chains_in_one_process)
         if args.skip != "members":
             part_members(work, settings, [int(s) for s in args.sizes.split(",")])
 
