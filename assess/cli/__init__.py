@@ -5,7 +5,7 @@ imported here.
 """
 
 # Command modules (import registers their commands).
-from assess.cli import history, life, members, run, site, solve, worth  # noqa: F401,E402
+from assess.cli import history, life, members, portfolio, run, site, solve, worth  # noqa: F401,E402
 from assess.cli.app import app  # noqa: F401
 
 

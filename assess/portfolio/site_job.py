@@ -5,7 +5,7 @@ it takes a site folder and a plain settings dict, runs the main job there
 (the site keeps its own ledger, posteriors and report under ``results/``) and
 returns a plain dict of summary numbers. Nothing else in `assess.portfolio`
 imports the main job, so repointing the portfolio to a renamed pipeline is a
-change to `_main_job` alone.
+change to this module alone.
 
 Contract of the returned dict (plain Python types; floats may be +-inf or NaN,
 e.g. beta = +inf when no sample failed):
@@ -33,7 +33,6 @@ e.g. beta = +inf when no sample failed):
 
 from __future__ import annotations
 
-import dataclasses
 import math
 from collections.abc import Callable
 from pathlib import Path
@@ -44,22 +43,21 @@ from assess.errors import InputError
 SETTING_KEYS = ("seed", "quick", "draws", "history", "life", "worth", "horizon_years")
 
 
-def _main_job():
-    """The single-site job and its settings class (the one place to repoint)."""
-    from assess.main_job import JobSettings, run_site
+def job_settings(settings: dict | None, site=None):
+    """`RunSettings` of the main job from a plain dict (and the site file's [sampling]).
 
-    return run_site, JobSettings
+    Unknown keys are an `InputError`; ``draws`` applies to every MCMC fit.
+    """
+    from assess.site.settings import build_settings
 
-
-def job_settings(settings: dict | None):
-    """The main job's settings object from a plain dict; unknown keys are an InputError."""
-    _run, settings_class = _main_job()
     settings = dict(settings or {})
     unknown = sorted(set(settings) - set(SETTING_KEYS))
     if unknown:
         raise InputError(f"unknown run setting(s) {', '.join(unknown)}; known: "
                          f"{', '.join(SETTING_KEYS)}", column="run")
-    return settings_class(**settings)
+    draws = settings.pop("draws", None)
+    return build_settings(site_sampling=getattr(site, "sampling", None),
+                          overrides={"draws": draws}, **settings)
 
 
 def run_one_site(folder: str | Path, settings: dict | None = None,
@@ -70,14 +68,19 @@ def run_one_site(folder: str | Path, settings: dict | None = None,
     `AnalysisError` for an analysis that failed); the portfolio task turns
     those into a failed site.
     """
-    run_site, _settings_class = _main_job()
+    from assess.pipeline import exit_code
+    from assess.report.job import run_and_report
+    from inspection_io.site import load_site
+
     folder = Path(folder)
-    chosen = job_settings(settings)
-    run, html_path, json_path = run_site(folder, chosen, step=step)
+    chosen = job_settings(settings, load_site(folder))
+    run, html_path, json_path = run_and_report(folder, chosen, say=step)
     summary = summarise_run(run, folder)
     summary["report_html"] = _relative(html_path, folder)
     summary["report_json"] = _relative(json_path, folder)
-    summary["settings"] = dataclasses.asdict(chosen)
+    summary["settings"] = chosen.to_dict()
+    summary["failed_steps"] = {r.name: r.reason for r in run.failed}
+    summary["exit_code"] = exit_code(run)
     return summary
 
 
@@ -91,10 +94,9 @@ def _relative(path: Path, folder: Path) -> str:
 def summarise_run(run, folder: Path) -> dict:
     """Plain summary numbers of one main-job run (results object of the main job)."""
     site = run.site
-    assessment = run.assessment
-    life_by_member = {}
-    if run.life is not None:
-        life_by_member = {c.member: c for c in run.life.main}
+    assessment = run.step("members")  # a site whose member betas failed fails as a whole
+    life = run.result("life")
+    life_by_member = {c.member: c for c in life.main} if life is not None else {}
     members = []
     for member_id in site.members:
         rows = [r for r in assessment.results if r.member == member_id]
@@ -110,7 +112,7 @@ def summarise_run(run, folder: Path) -> dict:
         "target": {"beta": float(assessment.target.beta),
                    "reference_period_years": float(assessment.reference_period_years)},
         "members": members,
-        "worth": _worth(run.worth),
+        "worth": _worth(run.result("worth")),
     }
 
 
@@ -153,12 +155,12 @@ def _worth(worth) -> dict | None:
 
 
 def _campaigns(folder: Path) -> tuple[str | None, int]:
+    from assess.site.paths import has_ledger, ledger_path
     from inspection_io.ledger import Ledger
 
-    path = folder / "ledger.sqlite"
-    if not path.exists():
+    if not has_ledger(folder):
         return None, 0
-    with Ledger(path) as ledger:
+    with Ledger(ledger_path(folder)) as ledger:
         used = {f.campaign_id for f in ledger.files()}
         dates = [c.date for c in ledger.campaigns() if c.id in used]
     return (max(dates).isoformat() if dates else None), len(dates)
