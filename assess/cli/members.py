@@ -26,7 +26,8 @@ from assess.cli.options import (
 from assess.reliability.result import format_beta
 from assess.site.settings import DEFAULT_SEED
 
-METHOD_NAMES = ("subset_simulation", "form", "importance_sampling", "crude_monte_carlo")
+METHOD_NAMES = ("subset_simulation", "auto", "form", "sorm", "importance_sampling",
+                "crude_monte_carlo")
 
 
 def _fmt_beta(value: float) -> str:
