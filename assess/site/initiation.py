@@ -364,7 +364,6 @@ def update_initiation(
     from assess.updating import chloride as chloride_update
 
     settings = settings or RunSettings()
-    seed = settings.seed
     folder = site.folder if store else None
     data = data if data is not None else initiation_data(site, until_date, include_flagged)
     zones = list(site.zones) if zones is None else [z for z in site.zones if z in zones]
@@ -372,82 +371,86 @@ def update_initiation(
     for exposure, group in exposure_groups(site, zones).items():
         present = [z for z in group if (data.chloride["zone"] == z).any()]
         if present:
-            subset = _subset(data.chloride, present)
-            priors = chloride_priors(site, present)
-
-            fit = settings.fit("chloride")
-
-            def run_chloride(subset=subset, present=present, priors=priors, fit=fit):
-                return chloride_update.fit_chloride(
-                    subset["depth_mm"],
-                    subset["age_years"],
-                    subset["chloride"],
-                    subset["zone_index"],
-                    present,
-                    priors=priors,
-                    seed=seed,
-                    draws=fit.draws,
-                    tune=fit.tune,
-                    chains=fit.chains,
-                    target_accept=fit.target_accept,
-                    sampler=fit.sampler,
-                )
-
-            def rebuild_chloride(idata, gate, present=present, priors=priors):
-                return chloride_update.ChlorideFit(
-                    idata=idata, gate=gate, zones=tuple(present), priors=priors, seed=int(seed)
-                )
-
-            cached = cached_posterior(
+            fit = _group_fit(
                 folder,
                 "chloride",
-                {"data": subset, "priors": priors, "zones": present, "seed": seed, "fit": fit},
-                sample=run_chloride,
-                rebuild=rebuild_chloride,
-                parameter_names=chloride_update.PARAMETER_NAMES,
-                what="chloride-ingress parameters",
-                fit="chloride",
+                _subset(data.chloride, present),
+                present,
+                chloride_priors(site, present),
+                settings,
+                chloride_update.fit_chloride,
+                chloride_update.ChlorideFit,
+                ("depth_mm", "age_years", "chloride"),
+                chloride_update.PARAMETER_NAMES,
+                "chloride-ingress parameters",
             )
-            chloride_fits.update({z: cached.fit for z in present})
+            chloride_fits.update({z: fit for z in present})
         present = [z for z in group if (data.carbonation["zone"] == z).any()]
         if present:
-            subset = _subset(data.carbonation, present)
-            priors = carbonation_update.CarbonationPriors.from_exposure(exposure)
-
-            fit = settings.fit("carbonation")
-
-            def run_carbonation(subset=subset, present=present, priors=priors, fit=fit):
-                return carbonation_update.fit_carbonation(
-                    subset["depth_mm"],
-                    subset["age_years"],
-                    subset["zone_index"],
-                    present,
-                    priors=priors,
-                    seed=seed,
-                    draws=fit.draws,
-                    tune=fit.tune,
-                    chains=fit.chains,
-                    target_accept=fit.target_accept,
-                    sampler=fit.sampler,
-                )
-
-            def rebuild_carbonation(idata, gate, present=present, priors=priors):
-                return carbonation_update.CarbonationFit(
-                    idata=idata, gate=gate, zones=tuple(present), priors=priors, seed=int(seed)
-                )
-
-            cached = cached_posterior(
+            fit = _group_fit(
                 folder,
                 "carbonation",
-                {"data": subset, "priors": priors, "zones": present, "seed": seed, "fit": fit},
-                sample=run_carbonation,
-                rebuild=rebuild_carbonation,
-                parameter_names=carbonation_update.PARAMETER_NAMES,
-                what="carbonation rates",
-                fit="carbonation",
+                _subset(data.carbonation, present),
+                present,
+                carbonation_update.CarbonationPriors.from_exposure(exposure),
+                settings,
+                carbonation_update.fit_carbonation,
+                carbonation_update.CarbonationFit,
+                ("depth_mm", "age_years"),
+                carbonation_update.PARAMETER_NAMES,
+                "carbonation rates",
             )
-            carbonation_fits.update({z: cached.fit for z in present})
+            carbonation_fits.update({z: fit for z in present})
     return InitiationFits(chloride_fits, carbonation_fits, {z: data.covers[z] for z in zones})
+
+
+def _group_fit(
+    folder,
+    kind,
+    subset,
+    present,
+    priors,
+    settings,
+    fitter,
+    fit_class,
+    columns,
+    parameter_names,
+    what,
+):
+    """One cached, gated fit of a group of zones (`assess.updating.cache.cached_posterior`)."""
+    fit = settings.fit(kind)
+    seed = settings.seed
+
+    def sample():
+        return fitter(
+            *(subset[c] for c in columns),
+            subset["zone_index"],
+            present,
+            priors=priors,
+            seed=seed,
+            draws=fit.draws,
+            tune=fit.tune,
+            chains=fit.chains,
+            target_accept=fit.target_accept,
+            sampler=fit.sampler,
+        )
+
+    def rebuild(idata, gate):
+        return fit_class(
+            idata=idata, gate=gate, zones=tuple(present), priors=priors, seed=int(seed)
+        )
+
+    payload = {"data": subset, "priors": priors, "zones": present, "seed": seed, "fit": fit}
+    return cached_posterior(
+        folder,
+        kind,
+        payload,
+        sample=sample,
+        rebuild=rebuild,
+        parameter_names=parameter_names,
+        what=what,
+        fit=kind,
+    ).fit
 
 
 def _subset(columns, zones):
