@@ -107,8 +107,9 @@ def clean_stale_temporaries(site_folder: Path, *, older_than: float = 0.0) -> li
     """
     from inspection_io.paths import remove_stale_temporaries
 
-    return remove_stale_temporaries(Path(site_folder) / POSTERIOR_FOLDER, ".*.nc.tmp",
-                                    older_than=older_than)
+    return remove_stale_temporaries(
+        Path(site_folder) / POSTERIOR_FOLDER, ".*.nc.tmp", older_than=older_than
+    )
 
 
 @dataclasses.dataclass(frozen=True)
