@@ -108,7 +108,8 @@ class StandardNormalProblem:
         point = ""
         if self.to_physical is not None:
             try:
-                x = self.to_physical(u_row)
+                with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                    x = self.to_physical(u_row)
                 point = ", ".join(f"{k}={float(np.ravel(v)[0]):.6g}" for k, v in x.items())
             except (ValueError, TypeError, ArithmeticError, KeyError):  # keep the value
                 point = ""
