@@ -75,6 +75,7 @@ import tomllib
 from assess.distributions import KINDS, make_distribution
 from assess.errors import AnalysisError, InputError
 from assess.expressions import RESERVED_NAMES, Expression
+from assess.json_values import to_json_native
 from assess.model import ProbabilisticModel
 from assess.reliability.dispatch import METHODS as METHOD_FUNCTIONS
 
@@ -626,7 +627,7 @@ def result_block(result, loaded: LoadedProblem | None = None) -> dict:
     if details.get("beta_lower") is not None:
         answer["beta_lower_bound"] = details["beta_lower"]
         answer["pf_upper_bound"] = details.get("pf_upper")
-    block = {"case": _json_ready(loaded.metadata) if loaded is not None else {},
+    block = {"case": to_json_native(loaded.metadata, "case") if loaded is not None else {},
              "approach": result.method, "answer": answer,
              "design_point": plain["design_point_x"],
              "design_point_standard_normal": plain["design_point_u"],
@@ -662,18 +663,6 @@ def _check_block(check: dict | None) -> dict | None:
             "cov_of_estimate": check.get("cov"), "agree": bool(check["agree"]),
             "trust": check.get("trust"), "note": check.get("note"),
             "importance_sampling": check.get("importance_sampling")}
-
-
-def _json_ready(value):
-    """Non-finite numbers (e.g. an unbounded truncation) as None, like
-    `ReliabilityResult.to_dict`."""
-    if isinstance(value, dict):
-        return {key: _json_ready(item) for key, item in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_json_ready(item) for item in value]
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    return value
 
 
 # -- the earlier layout, shown in the current one ------------------------------------------------

@@ -111,40 +111,11 @@ def print_caution():
     err_console.print(plain("", "dim", CAUTION), style="dim", highlight=False, soft_wrap=True)
 
 
-def _json_ready(value):
-    """Plain JSON values: dataclasses and arrays converted, inf and NaN as null."""
-    import dataclasses
-    import datetime as dt
-    import math
-    from pathlib import Path
-
-    import numpy as np
-
-    if isinstance(value, dict):
-        return {str(k): _json_ready(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_json_ready(v) for v in value]
-    if isinstance(value, np.ndarray):
-        return [_json_ready(v) for v in value.tolist()]
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        return float(value) if math.isfinite(value) else None
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        return _json_ready(dataclasses.asdict(value))
-    if hasattr(value, "to_dict"):
-        return _json_ready(value.to_dict())
-    if isinstance(value, (dt.date, Path)):
-        return str(value)
-    if value is None or isinstance(value, str):
-        return value
-    return str(value)
-
-
 def emit_json(payload) -> None:
     """Print ``payload`` as strict JSON on stdout (inf and NaN become null)."""
     import json
 
-    typer.echo(json.dumps(_json_ready(payload), indent=2, ensure_ascii=False, allow_nan=False))
+    from assess.json_values import to_json_native
+
+    typer.echo(json.dumps(to_json_native(payload, "output"), indent=2, ensure_ascii=False,
+                          allow_nan=False))

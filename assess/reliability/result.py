@@ -84,24 +84,13 @@ class ReliabilityResult:
         return math.log10(self.pf) if self.pf > 0 else -math.inf
 
     def to_dict(self) -> dict[str, Any]:
-        """Plain JSON-ready dictionary (arrays become lists, inf/NaN become None)."""
+        """Plain JSON-ready dictionary (`assess.json_values.to_json_native`: arrays become
+        lists, inf/NaN become None)."""
+        from assess.json_values import to_json_native
 
-        def clean(value):
-            if isinstance(value, np.ndarray):
-                return [clean(v) for v in value.tolist()]
-            if isinstance(value, (np.floating, float)):
-                v = float(value)
-                return v if math.isfinite(v) else None
-            if isinstance(value, (np.integer,)):
-                return int(value)
-            if isinstance(value, dict):
-                return {str(k): clean(v) for k, v in value.items()}
-            if isinstance(value, (list, tuple)):
-                return [clean(v) for v in value]
-            return value
-
-        out = {f.name: clean(getattr(self, f.name)) for f in dataclasses.fields(self)}
-        out["log10_pf"] = clean(self.log10_pf)
+        out = {f.name: to_json_native(getattr(self, f.name), f"result.{f.name}")
+               for f in dataclasses.fields(self)}
+        out["log10_pf"] = to_json_native(self.log10_pf)
         return out
 
 
