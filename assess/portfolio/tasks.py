@@ -74,6 +74,11 @@ def site_task(key: str, folder: str, settings: dict, job: Callable | None = None
     if job is None:
         from assess.portfolio.site_job import run_one_site as job
     report = step or _worker_step(key) or (lambda _text: None)
+    if _worker_step(key) is not None:
+        # inside a Dask worker, one task per core: its chains run one after another rather
+        # than in more processes than there are cores (the draws are the same; see
+        # assess.updating.models.CORES_VARIABLE)
+        os.environ.setdefault("ASSESS_MCMC_CORES", "1")
     started = time.perf_counter()
     marks: list = []
 
