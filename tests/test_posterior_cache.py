@@ -44,11 +44,12 @@ def stored(tmp_path_factory):
 def test_a_stored_fit_is_read_back_through_the_gate(stored):
     folder, first, sample, calls = stored
     assert not first.reused and first.path.is_file()
+    before = len(calls)  # the damaged-file tests may have sampled again (test order varies)
     again = cached_posterior(folder, "test", {"case": 1}, sample=sample, rebuild=Fit,
                              parameter_names=["mu"], what="test mean")
-    assert again.reused and len(calls) == 1 and again.fit.gate.passed
+    assert again.reused and len(calls) == before and again.fit.gate.passed
     np.testing.assert_array_equal(again.fit.idata.posterior["mu"].values,
-                                  first.fit.idata.posterior["mu"].values)
+                                  first.fit.idata.posterior["mu"].values)  # same seed
 
 
 @pytest.mark.parametrize("damage", ["empty", "truncated"])
