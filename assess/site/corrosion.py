@@ -467,11 +467,7 @@ def update_corrosion(
             half_cell=evidence.half_cell,
             spatial_log_sd=scatter,
             breakout_quantile=model.breakout_quantile,
-            draws=fit.draws,
-            tune=fit.tune,
-            chains=fit.chains,
-            target_accept=fit.target_accept,
-            sampler=fit.sampler,
+            **fit.sampler_options(),
         )
 
     def rebuild(idata, gate):

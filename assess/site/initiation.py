@@ -428,11 +428,7 @@ def _group_fit(
             present,
             priors=priors,
             seed=seed,
-            draws=fit.draws,
-            tune=fit.tune,
-            chains=fit.chains,
-            target_accept=fit.target_accept,
-            sampler=fit.sampler,
+            **fit.sampler_options(),
         )
 
     def rebuild(idata, gate):

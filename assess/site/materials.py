@@ -264,14 +264,7 @@ def update_site(
 
     def sample() -> _Fit:
         idata = sample_posterior(
-            joint,
-            draws=fit.draws,
-            tune=fit.tune,
-            chains=fit.chains,
-            seed=settings.seed,
-            target_accept=fit.target_accept,
-            sampler=fit.sampler,
-            progressbar=progressbar,
+            joint, seed=settings.seed, progressbar=progressbar, **fit.sampler_options()
         )
         return _Fit(idata, require_convergence(idata, names, what=what, fit="materials"))
 

@@ -68,6 +68,10 @@ class FitSettings:
     def __post_init__(self):
         check_fit_settings(self, where="sampling")
 
+    def sampler_options(self) -> dict:
+        """Keyword options of the fit functions (`assess.updating.models.sample_posterior`)."""
+        return dataclasses.asdict(self)
+
 
 def check_fit_settings(fit: FitSettings, where: str) -> None:
     """Refuse impossible sampler settings with an `InputError` naming ``where``."""
