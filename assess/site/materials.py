@@ -60,6 +60,9 @@ class SiteUpdate:
         Only data dated on or before this day were used.
     seed : int
         Sampler seed [-].
+    before_local, after_local : dict
+        zone -> `assess.site.locations.LocalKnowledge`: populations of one face or
+        one member's face where the data give them (empty: pooled per zone).
     """
 
     before: dict
@@ -72,6 +75,8 @@ class SiteUpdate:
     idata: Any
     until_date: dt.date | None
     seed: int = 0
+    before_local: dict = dataclasses.field(default_factory=dict)
+    after_local: dict = dataclasses.field(default_factory=dict)
 
     @property
     def has_data(self) -> bool:
