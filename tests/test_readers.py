@@ -142,6 +142,21 @@ def test_section_loss_area_ratio_and_pits():
     assert obs[obs.item_id == "B2"].quantity.tolist() == ["max_pit_depth"]
 
 
+def test_face_of_a_reading_is_kept_and_checked(tmp_path):
+    path = write_csv(
+        tmp_path,
+        "breakout_id,zone,member,face,bar_diameter [mm],residual_diameter [mm]\n"
+        "B1,L3,S3-02,top,12,11.0\nB2,L3,S3-02,,12,11.5\n",
+    )
+    obs = read_campaign_file(path).observations
+    faces = [json.loads(e).get("face") for e in obs["extra"]]
+    assert faces == ["top", None]
+    bad = write_csv(tmp_path, "breakout_id,zone,face,bar_diameter [mm],max_pit_depth [mm]\n"
+                    "B1,L3,soffit,12,1.0\n", name="bad.csv")
+    with pytest.raises(InputError, match="face"):
+        read_campaign_file(bad)
+
+
 def test_known_zones_and_member_mapping_accept_good_file():
     result = read_campaign_file(DATA / "section_loss_good.csv", known_zones={"L1", "L2"},
                                 known_members={"S1-01": "L1", "S2-01": "L2"})

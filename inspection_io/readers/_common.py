@@ -29,6 +29,8 @@ from inspection_io.tables import Header, RawTable
 
 TRUE_WORDS = {"yes", "y", "true", "1", "x"}
 FALSE_WORDS = {"no", "n", "false", "0", ""}
+#: Faces of a member a reading can be taken on ("" = not stated).
+FACES = ("", "top", "bottom", "side")
 _DATE_RE = re.compile(r"^\d{4}-\d{2}-\d{2}(T00:00(:00)?)?$")
 
 
@@ -96,6 +98,7 @@ COMMON_COLUMNS = (
     Column("member", "text"),
     Column("date", "date"),
     Column("note", "text"),
+    Column("face", "choice", choices=FACES),
 )
 
 
@@ -187,6 +190,8 @@ class Row:
         extra = dict(extra or {})
         if self["note"]:
             extra["note"] = self["note"]
+        if self["face"]:
+            extra.setdefault("face", self["face"])
         return {
             "source_row": self.number,
             "item_id": self[self.context.spec.id_column],

@@ -8,7 +8,6 @@ COLUMNS = (
     Column("location_id", "text", required=True),
     Column("cover", "number", "length", required=True, lower=0.0, what="cover",
            plausible="cover"),
-    Column("face", "choice", choices=("", "top", "bottom")),
 )
 
 
