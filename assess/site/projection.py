@@ -522,6 +522,8 @@ def deteriorating_limit_state(
         )
         shifted = dict(x)
         shifted["area_ratio"] = x["area_ratio"] * factor
+        if "area_ratio_top" in x:  # top bars of a continuous member: same zone rate
+            shifted["area_ratio_top"] = x["area_ratio_top"] * factor
         return np.column_stack([f(shifted) for f in funcs])
 
     return limit_state_at
@@ -611,7 +613,11 @@ def project_member(
         corrosion = zone_corrosion_inputs(site, seed=seed)
     inputs = corrosion[member.zone]
     member_model = build_member_model(
-        site, member, update.after[member.zone], reference_period_years=1.0
+        site,
+        member,
+        update.after[member.zone],
+        reference_period_years=1.0,
+        local=(getattr(update, "after_local", None) or {}).get(member.zone),
     )
     inputs.add_to_model(member_model.model)
     if pitting:

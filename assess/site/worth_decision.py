@@ -386,7 +386,11 @@ def system_beta_after(site, update, member_id: str, reference_period_years: floa
     """FORM system beta of a member on updated knowledge (sum of mode pfs as system pf) [-]."""
     member = site.members[member_id]
     model = build_member_model(
-        site, member, update.after[member.zone], reference_period_years=reference_period_years
+        site,
+        member,
+        update.after[member.zone],
+        reference_period_years=reference_period_years,
+        local=(getattr(update, "after_local", None) or {}).get(member.zone),
     )
     pf = 0.0
     for mode in model.modes:
@@ -639,7 +643,11 @@ def build_site_decision(
     annual_target = target_beta(site.target.consequence_class, 1.0, site.target.cost_of_safety)
     horizon_target = float(convert_reference_period(annual_target.beta, 1.0, setup.horizon_years))
     member_model = build_member_model(
-        site, site.members[member_id], update.after[zone], reference_period_years=1.0
+        site,
+        site.members[member_id],
+        update.after[zone],
+        reference_period_years=1.0,
+        local=(getattr(update, "after_local", None) or {}).get(zone),
     )
     notes.extend(member_model.notes)
     reliability = ConditionalReliability(member_model, update.before[zone]["area_ratio"])
