@@ -180,6 +180,15 @@ class ConditionalReliability:
         self.modes = list(member_model.modes)
         base = member_model.model
         physical = {v for v, _ in PHYSICAL.values()}
+        # further bar layers (top bars of continuous members) take their zone's populations
+        self._layers = [
+            (variable, quantity)
+            for quantity, (main, _) in PHYSICAL.items()
+            for cover, ratio in getattr(member_model, "layers", {}).values()
+            for variable in (cover, ratio)
+            if variable != main and variable in base.names and variable.startswith(main)
+        ]
+        physical |= {v for v, _ in self._layers}
         self._others = [n for n in base.names if n.split(".")[0] not in physical]
         roots, matrix, _ = base.correlation_matrix()
         self._correlations = [
@@ -203,6 +212,13 @@ class ConditionalReliability:
                 add_uncertain_quantity(model, variable, self.repair_population, kind=kind)
             else:
                 add_fixed_quantity(model, variable, theta_row[2 * i], theta_row[2 * i + 1], kind)
+            for extra, of in self._layers:
+                if of != quantity:
+                    continue
+                if quantity == "area_ratio" and alternative.kind == "repair":
+                    add_uncertain_quantity(model, extra, self.repair_population, kind=kind)
+                else:
+                    add_fixed_quantity(model, extra, theta_row[2 * i], theta_row[2 * i + 1], kind)
         base = self.member_model.model
         for name in self._others:
             distribution = base.marginal(name)
