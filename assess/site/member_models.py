@@ -181,8 +181,9 @@ class LoadEffect:
     top_bars: bool = False
 
 
-def one_way_effects(member, *, extreme_factor: float = 3.0, vehicle_cov: float = 0.25,
-                    loaded_width_m: float = 1.0) -> dict:
+def one_way_effects(
+    member, *, extreme_factor: float = 3.0, vehicle_cov: float = 0.25, loaded_width_m: float = 1.0
+) -> dict:
     """Load-effect coefficients of the sections of a slab strip or beam.
 
     Simply supported: ``"flexure"`` at midspan, ``"shear"`` at the support.
@@ -206,22 +207,27 @@ def one_way_effects(member, *, extreme_factor: float = 3.0, vehicle_cov: float =
     run = n * length
 
     def along(fn):
-        return line_effect(fn, run, loaded_width_m, vehicle_cov=vehicle_cov,
-                           extreme_factor=extreme_factor)
+        return line_effect(
+            fn, run, loaded_width_m, vehicle_cov=vehicle_cov, extreme_factor=extreme_factor
+        )
 
     out = {}
     x_sag = 0.4 * length if (continuous and end) else 0.5 * length
     sag = (k, x_sag)
-    out["flexure"] = LoadEffect(uniform_moment(n, length, sag),
-                                along(lambda p: moment_influence(n, length, sag, p)),
-                                f"span {k + 1} of {n} at {x_sag / length:.2f} L")
+    out["flexure"] = LoadEffect(
+        uniform_moment(n, length, sag),
+        along(lambda p: moment_influence(n, length, sag, p)),
+        f"span {k + 1} of {n} at {x_sag / length:.2f} L",
+    )
     if continuous:
         supports = ([(k, 0.0)] if k > 0 else []) + ([(k, length)] if k < n - 1 else [])
         hog = max(supports, key=lambda sec: -uniform_moment(n, length, sec))
-        out["hogging"] = LoadEffect(-uniform_moment(n, length, hog),
-                                    along(lambda p: -moment_influence(n, length, hog, p)),
-                                    f"{'right' if hog[1] else 'left'} support of span {k + 1} "
-                                    f"of {n}", top_bars=True)
+        out["hogging"] = LoadEffect(
+            -uniform_moment(n, length, hog),
+            along(lambda p: -moment_influence(n, length, hog, p)),
+            f"{'right' if hog[1] else 'left'} support of span {k + 1} of {n}",
+            top_bars=True,
+        )
     candidates = []
     for near, at_support in (("left", (k, 0.0)), ("right", (k, length))):
         interior = (near == "left" and k > 0) or (near == "right" and k < n - 1)
@@ -231,14 +237,17 @@ def one_way_effects(member, *, extreme_factor: float = 3.0, vehicle_cov: float =
             depth = member.depth - member.cover - member.bar_diameter / 2.0
         d_m = min(depth / 1000.0, 0.5 * length)
         section = (k, d_m) if near == "left" else (k, length - d_m)
-        candidates.append((uniform_shear(n, length, at_support, near=near), near, section,
-                           interior))
+        candidates.append(
+            (uniform_shear(n, length, at_support, near=near), near, section, interior)
+        )
     permanent, near, section, interior = max(candidates, key=lambda c: c[0])
-    out["shear"] = LoadEffect(permanent,
-                              along(lambda p: shear_influence(n, length, section, p, near=near)),
-                              f"{near} support of span {k + 1} of {n}"
-                              + (" (continuous: top bars in tension)" if interior else ""),
-                              top_bars=interior)
+    out["shear"] = LoadEffect(
+        permanent,
+        along(lambda p: shear_influence(n, length, section, p, near=near)),
+        f"{near} support of span {k + 1} of {n}"
+        + (" (continuous: top bars in tension)" if interior else ""),
+        top_bars=interior,
+    )
     return out
 
 
@@ -273,12 +282,18 @@ def build_member_model(
     notes: list[str] = []
     continuous = bool(getattr(member, "continuous", False)) and member.kind in (SLAB, BEAM)
     if continuous and getattr(member, "top_tension_steel_area", None) is None:
-        raise InputError(f"member {member.member_id} is continuous but has no top bars; give "
-                         "top_bar_diameter with top_bar_spacing or top_steel_area")
+        raise InputError(
+            f"member {member.member_id} is continuous but has no top bars; give "
+            "top_bar_diameter with top_bar_spacing or top_steel_area"
+        )
     main_face = getattr(member, "tension_face", None) or "bottom"
     main, _ = _layer(knowledge, local, member.member_id, main_face)
-    for name, key, kind in (("fc", "concrete", "lognormal"), ("fy", "steel", "normal"),
-                            ("cover", "cover", "normal"), ("area_ratio", "area_ratio", "normal")):
+    for name, key, kind in (
+        ("fc", "concrete", "lognormal"),
+        ("fy", "steel", "normal"),
+        ("cover", "cover", "normal"),
+        ("area_ratio", "area_ratio", "normal"),
+    ):
         add_uncertain_quantity(model, name, main[key], kind=kind)
         sources[name] = main[key].source
     layers = {main_face: ("cover", "area_ratio")}
@@ -291,9 +306,11 @@ def build_member_model(
         if "cover" not in top_local:
             cover_shift = member.top_bar_cover - member.cover
             if cover_shift:
-                notes.append(f"{member.member_id}: no top-face cover population; the top bars "
-                             f"take the zone's cover shifted by {cover_shift:+g} mm "
-                             "(top_cover - cover)")
+                notes.append(
+                    f"{member.member_id}: no top-face cover population; the top bars "
+                    f"take the zone's cover shifted by {cover_shift:+g} mm "
+                    "(top_cover - cover)"
+                )
         layers["top"] = ("cover_top", "area_ratio_top")
 
     unit_weight = site.loads.concrete_unit_weight
@@ -308,9 +325,10 @@ def build_member_model(
     )
 
     # vehicles: point loads at bay centres (JCSS PMC car parks), most adverse bay layout
-    vehicle_cov = CAR_PARK_VEHICLES["vehicle_weight_cov"]
+    vehicle_cov = float(CAR_PARK_VEHICLES["vehicle_weight_cov"])  # type: ignore[arg-type]
     extreme, _ = normal_extremes_constants(
-        car_park_state_count(reference_period_years, car_park_use))
+        car_park_state_count(reference_period_years, car_park_use)
+    )
 
     b = member.width
     h = member.depth
@@ -342,22 +360,28 @@ def build_member_model(
         effect_member = "beam" if member.kind == BEAM else "one_way_slab"
         # width of deck whose area loads the member carries [m]
         width_m = _beam_tributary_width(member) if member.kind == BEAM else b / 1000.0
-        effects = one_way_effects(member, extreme_factor=extreme, vehicle_cov=vehicle_cov,
-                                  loaded_width_m=width_m)
+        effects = one_way_effects(
+            member, extreme_factor=extreme, vehicle_cov=vehicle_cov, loaded_width_m=width_m
+        )
         if member.shear_reinforcement:
             effects.pop("shear")
         spread = max(e.vehicles.spread for e in effects.values())
-        _add_prior(model, sources, "imposed",
-                   vehicle_weight_maximum_prior(spread, reference_period_years,
-                                                use=car_park_use))
+        _add_prior(
+            model,
+            sources,
+            "imposed",
+            vehicle_weight_maximum_prior(spread, reference_period_years, use=car_park_use),
+        )
         theta_m = load_effect_model_uncertainty(effect_member, "moment")
         _add_prior(model, sources, "theta_E_moment", theta_m)
         _add_prior(model, sources, "theta_flexure", resistance_model_uncertainty("flexure"))
         if continuous:
             sources["continuity"] = CONTINUITY_SOURCE
-            notes.append(f"{member.member_id}: continuous, {member.span_position} span of "
-                         f"{member.span_count} equal spans; hogging at the "
-                         f"{effects['hogging'].where}")
+            notes.append(
+                f"{member.member_id}: continuous, {member.span_position} span of "
+                f"{member.span_count} equal spans; hogging at the "
+                f"{effects['hogging'].where}"
+            )
 
         def line_permanent(x):
             return permanent_area_load(x) * width_m + web_line_load
@@ -375,10 +399,15 @@ def build_member_model(
 
             def limit_state(x):
                 moment = x["theta_E_moment"] * (
-                    line_permanent(x) * effect.permanent + effect.vehicles.s1 * x["imposed"])
+                    line_permanent(x) * effect.permanent + effect.vehicles.s1 * x["imposed"]
+                )
                 capacity = flexural_capacity(
-                    steel_area(x, area, ratio), yield_strength(x), x["fc"], b,
-                    np.clip(depth(x), 1.0, None))
+                    steel_area(x, area, ratio),
+                    yield_strength(x),
+                    x["fc"],
+                    b,
+                    np.clip(depth(x), 1.0, None),
+                )
                 return x["theta_flexure"] * capacity - moment
 
             return limit_state
@@ -398,10 +427,14 @@ def build_member_model(
             def shear(x):
                 force = x["theta_E_shear"] * (
                     line_permanent(x) * shear_effect.permanent
-                    + shear_effect.vehicles.s1 * x["imposed"])
+                    + shear_effect.vehicles.s1 * x["imposed"]
+                )
                 capacity = shear_capacity(
-                    steel_area(x, shear_area, shear_ratio), x["fc"], b,
-                    np.clip(shear_depth(x), 1.0, None))
+                    steel_area(x, shear_area, shear_ratio),
+                    x["fc"],
+                    b,
+                    np.clip(shear_depth(x), 1.0, None),
+                )
                 return x["theta_shear"] * capacity - force
 
             modes["shear"] = shear
@@ -411,19 +444,29 @@ def build_member_model(
                 "(EN 1992-1-1 6.2.3) is not modelled and must be checked separately"
             )
         for name in modes:
-            notes.append(f"{member.member_id} {name} ({effects[name].where}): vehicles on "
-                         f"{effects[name].vehicles.layout}")
+            notes.append(
+                f"{member.member_id} {name} ({effects[name].where}): vehicles on "
+                f"{effects[name].vehicles.layout}"
+            )
         if member.kind == BEAM and not member.tributary_width:
             notes.append(
                 f"{member.member_id}: no tributary_width given; the beam carries only "
                 f"its own width ({b:g} mm) of deck load"
             )
     elif member.kind == CONNECTION:
-        vehicles = column_effect(member.span_x, member.span_y, member.position,
-                                 vehicle_cov=vehicle_cov, extreme_factor=extreme)
-        _add_prior(model, sources, "imposed",
-                   vehicle_weight_maximum_prior(vehicles.spread, reference_period_years,
-                                                use=car_park_use))
+        vehicles = column_effect(
+            member.span_x,
+            member.span_y,
+            member.position,
+            vehicle_cov=vehicle_cov,
+            extreme_factor=extreme,
+        )
+        _add_prior(
+            model,
+            sources,
+            "imposed",
+            vehicle_weight_maximum_prior(vehicles.spread, reference_period_years, use=car_park_use),
+        )
         theta_e = load_effect_model_uncertainty("flat_slab", "reaction")
         _add_prior(model, sources, "theta_E_reaction", theta_e)
         _add_prior(
@@ -447,8 +490,9 @@ def build_member_model(
         notes.append(f"{member.member_id} punching: vehicles on {vehicles.layout}")
     else:
         raise InputError(f"unknown member kind {member.kind!r}")
-    return MemberModel(model=model, modes=modes, sources=sources, notes=notes, faces=faces,
-                       layers=layers)
+    return MemberModel(
+        model=model, modes=modes, sources=sources, notes=notes, faces=faces, layers=layers
+    )
 
 
 def nominal_check(member_model: MemberModel) -> dict:
