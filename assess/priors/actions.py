@@ -252,7 +252,10 @@ def car_park_vehicle_load_prior(loaded_area_m2: float, reference_period_years: f
     Notes
     -----
     Full occupancy on busy days is assumed (on the safe side for lightly used car
-    parks). Heavy vehicles (category G) are outside this model.
+    parks). Heavy vehicles (category G) are outside this model. This is the
+    vehicle load smeared over the loaded area; the member models use the point
+    loads at bay centres instead (`vehicle_weight_maximum_prior` with
+    `assess.limit_states.point_loads`), which matter for short strips and punching.
     """
     if not loaded_area_m2 > 0:
         raise InputError(f"loaded area must be positive [m2], got {loaded_area_m2!r}")
