@@ -29,6 +29,7 @@ from assess.priors import (
     looks_characteristic,
     steel_yield_prior,
 )
+from assess.priors.insitu import age_days, insitu_strength_prior
 from assess.priors.normal_gamma import NormalGamma
 
 
@@ -211,8 +212,11 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
 
     Sources
     -------
-    - concrete: JCSS PMC Part 3.1 normal-gamma prior of ln f_c by class and
-      production (`assess.priors.concrete_prior`);
+    - concrete: JCSS PMC Part 3.1 normal-gamma prior of ln f_co (standard cylinders,
+      28 days) by class and production (`assess.priors.concrete_prior`), carried to the
+      in-situ strength f_c = alpha(t, tau) f_co^lambda Y1 that cores measure
+      (`assess.priors.insitu.insitu_strength_prior`), so that before and after describe
+      the same quantity;
     - steel: JCSS PMC Part 3.2, f_y normal with mean nominal + 2 sigma and sigma
       30 MPa; the mill-to-mill part (19 MPa) is the uncertainty of the job mean, so
       n' = (sigma_within / 19)^2 with sigma_within = sqrt(22^2 + 8^2) MPa, nu' = 50
@@ -237,7 +241,10 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
         _warn_if_characteristic(overrides.concrete_mean, "concrete_strength", "concrete_mean")
         concrete = concrete_override(overrides.concrete_mean, overrides.concrete_cov)
     else:
-        concrete = concrete_prior(site.materials.concrete_class, site.materials.production)
+        concrete = insitu_strength_prior(
+            concrete_prior(site.materials.concrete_class, site.materials.production),
+            age_days(site.site.year_built, site.site.assessment_date),
+        )
     if overrides is not None and overrides.steel_mean is not None:
         _warn_if_characteristic(overrides.steel_mean, "steel_yield", "steel_mean")
         steel = weak_normal_gamma(
