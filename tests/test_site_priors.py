@@ -82,6 +82,11 @@ def test_steel_and_cover_overrides_give_the_stated_predictive_mean_and_std(tmp_p
             population = knowledge[zone][name]
             # Student-t predictive (JCSS PMC Part 3.0 Annex A) through scipy.stats.t
             predictive = population.predictive()
+            if name == "cover":
+                # cover on ln c: the lognormal with the predictive's mean and sd of ln c
+                # has the stated mean and sd (scipy.stats.lognorm moments)
+                lognormal = stats.lognorm(s=predictive.std(), scale=math.exp(predictive.mean()))
+                predictive = lognormal
             assert predictive.mean() == pytest.approx(mean, rel=1e-12)
             assert predictive.std() == pytest.approx(std, rel=1e-12)
             assert OVERRIDE_SOURCE in population.source
@@ -96,7 +101,9 @@ def test_partial_override_leaves_the_other_priors_alone(tmp_path):
     assert knowledge["L2"]["concrete"] == plain["L2"]["concrete"]
     assert knowledge["L2"]["steel"] == plain["L2"]["steel"]
     assert knowledge["L2"]["cover"] != plain["L2"]["cover"]
-    assert knowledge["L2"]["cover"].predictive().mean() == pytest.approx(40.0)
+    # cover on ln c: lognormal with mean 40, sd 8 -> E[ln c] = ln 40 - ln(1 + 0.2^2) / 2
+    assert knowledge["L2"]["cover"].predictive().mean() == pytest.approx(
+        math.log(40.0) - 0.5 * math.log1p(0.2**2))
 
 
 @pytest.mark.parametrize("key, value, kind", [

@@ -283,18 +283,21 @@ def surveyed_cover(zone_id, readings, reading_sd_mm=COVER_READING_SD_MM) -> Zone
 def design_cover(site, zone_id) -> ZoneCover:
     """Mean cover of a zone without a survey: the JCSS cover prior of its members.
 
-    Mean m of the zone's design knowledge (JCSS PMC Part 3.10 deviations from
-    the nominal covers), the prior uncertainty of the mean, s / sqrt(n'), and
-    the scatter s.
+    The zone's design knowledge is on ln c (JCSS PMC Part 3.10 deviations from the
+    nominal covers, lognormal): mean exp(m + s^2/2) [mm], the prior uncertainty of
+    the mean mean * s / sqrt(n') (delta method) and the scatter
+    mean * sqrt(exp(s^2) - 1) [mm].
     """
     from assess.site.knowledge import design_knowledge
 
+    # the cover prior is on ln c: mean and scatter of the lognormal with parameters (m, s)
     jcss = design_knowledge(site)[zone_id]["cover"].jcss
+    mean_mm = math.exp(jcss["m"] + 0.5 * jcss["s"] ** 2)
     return ZoneCover(
         zone=zone_id,
-        mean_mm=float(jcss["m"]),
-        standard_error_mm=float(jcss["s"] / math.sqrt(jcss["n"])),
-        scatter_mm=float(jcss["s"]),
+        mean_mm=float(mean_mm),
+        standard_error_mm=float(mean_mm * jcss["s"] / math.sqrt(jcss["n"])),
+        scatter_mm=float(mean_mm * math.sqrt(math.expm1(jcss["s"] ** 2))),
         n=0,
         source=f"design cover of zone {zone_id} (nominal covers, JCSS PMC Part 3.10)",
     )

@@ -123,7 +123,7 @@ def build_member_model(
     for name, kind in (
         ("fc", "lognormal"),
         ("fy", "normal"),
-        ("cover", "normal"),
+        ("cover", "lognormal"),  # on ln c (JCSS PMC 3.10: cover > 0)
         ("area_ratio", "normal"),
     ):
         key = {"fc": "concrete", "fy": "steel"}.get(name, name)
