@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+import json
 from pathlib import Path
 from typing import Any
 
@@ -23,6 +24,12 @@ import numpy as np
 import pandas as pd
 
 from assess.priors.normal_gamma import NormalGamma
+from assess.site.cover_layers import (
+    COVER_TAU_SCALE,
+    add_cover_model,
+    cover_after_local,
+    cover_layout,
+)
 from assess.site.knowledge import QUANTITIES, design_knowledge
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
@@ -109,6 +116,16 @@ class SiteUpdate:
                         z: {q: dataclasses.asdict(ng) for q, ng in qs.items()}
                         for z, qs in self.after.items()
                     },
+                    # populations per bar layer: "member|face" ("*" = any member of the zone)
+                    "after_local": {
+                        z: {
+                            f"{member or '*'}|{face}": {
+                                q: dataclasses.asdict(ng) for q, ng in qs.items()
+                            }
+                            for (member, face), qs in layers.items()
+                        }
+                        for z, layers in self.after_local.items()
+                    },
                 },
                 seed=self.seed,
             )
@@ -132,12 +149,26 @@ def collect_data(
         if spec.latest_campaign_only and len(frame):
             latest = frame.groupby("zone")["date"].transform("max")
             frame = frame[frame["date"] == latest]
-        data[name] = frame[["zone", "value", "campaign", "date", "item_id"]].reset_index(drop=True)
+        frame = frame.assign(face=[_face(extra) for extra in frame["extra"]])
+        columns = ["zone", "value", "campaign", "date", "item_id", "member", "face"]
+        data[name] = frame[columns].reset_index(drop=True)
     return data
 
 
-def _payload(site, data: dict, before: dict, settings: RunSettings, include_flagged=()) -> dict:
+def _face(extra) -> str | None:
+    """The face a reading was taken on (``extra`` JSON of the observation), or None."""
+    if not isinstance(extra, str) or not extra:
+        return None
+    face = json.loads(extra).get("face")
+    return face if isinstance(face, str) and face else None
+
+
+def _payload(
+    site, data: dict, before: dict, settings: RunSettings, include_flagged=(), layout=None
+) -> dict:
     return {
+        "cover_layout": layout.payload() if layout is not None else None,
+        "cover_tau_scale": COVER_TAU_SCALE,
         "zones": list(site.zones),
         "include_flagged": sorted(include_flagged),
         "settings": {
@@ -154,11 +185,15 @@ def _payload(site, data: dict, before: dict, settings: RunSettings, include_flag
     }
 
 
-def _hash(site, data: dict, before: dict, settings: RunSettings, include_flagged=()) -> str:
-    return content_hash("materials", _payload(site, data, before, settings, include_flagged))
+def _hash(
+    site, data: dict, before: dict, settings: RunSettings, include_flagged=(), layout=None
+) -> str:
+    return content_hash(
+        "materials", _payload(site, data, before, settings, include_flagged, layout)
+    )
 
 
-def _build_joint_model(site, data, before):
+def _build_joint_model(site, data, before, layout=None):
     import pymc as pm
 
     from assess.updating.models import hierarchical_normal_model
@@ -170,6 +205,10 @@ def _build_joint_model(site, data, before):
     with pm.Model(coords={"group": zones}) as joint:
         for name, spec in QUANTITIES.items():
             frame = data[name]
+            if name == "cover":
+                if not frame.empty:
+                    add_cover_model(pm, layout or cover_layout(site, frame), name=name)
+                continue
             if frame.empty:
                 continue
             values = np.log(frame["value"].to_numpy()) if spec.log else frame["value"].to_numpy()
@@ -242,10 +281,12 @@ def update_site(
     fit = settings.fit("materials")
     before = design_knowledge(site)
     if not has_ledger(site.folder):
+        empty = pd.DataFrame(columns=["zone", "value", "member", "face"])
+        local = cover_layout(site, empty).before_local
         return SiteUpdate(
             before,
             before,
-            {q: pd.DataFrame(columns=["zone", "value"]) for q in QUANTITIES},
+            {q: empty for q in QUANTITIES},
             None,
             None,
             "",
@@ -253,17 +294,36 @@ def update_site(
             None,
             until_date,
             settings.seed,
+            before_local=local,
+            after_local=local,
         )
     with Ledger(ledger_path(site.folder)) as ledger:
         data = collect_data(ledger, until_date, include_flagged)
-    payload = _payload(site, data, before, settings, include_flagged)
+    layout = cover_layout(site, data["cover"])
+    before_local = layout.before_local
+    if not data["cover"].empty:
+        # the zone-level cover is that of the zone's main face (most readings)
+        for zone in site.zones:
+            before[zone]["cover"] = before_local[zone][(None, layout.main_face(zone))]["cover"]
+    payload = _payload(site, data, before, settings, include_flagged, layout)
     data_hash = content_hash("materials", payload)
     if all(df.empty for df in data.values()):
         return SiteUpdate(
-            before, before, data, None, None, data_hash, False, None, until_date, settings.seed
+            before,
+            before,
+            data,
+            None,
+            None,
+            data_hash,
+            False,
+            None,
+            until_date,
+            settings.seed,
+            before_local=before_local,
+            after_local=before_local,
         )
 
-    joint = _build_joint_model(site, data, before)
+    joint = _build_joint_model(site, data, before, layout)
     names = free_parameter_names(joint)
     what = "zone materials (cores, tensile tests, cover, section loss)"
 
@@ -296,6 +356,14 @@ def update_site(
                 source=f"posterior of {name} in zone {zone} from site tests "
                 f"(MCMC, {data_hash[:12]})",
             )
+    after_local = before_local
+    if not data["cover"].empty:
+        after_local = cover_after_local(
+            idata,
+            layout,
+            seed=settings.seed,
+            source=f"posterior from site tests (MCMC, {data_hash[:12]})",
+        )
     return SiteUpdate(
         before,
         after,
@@ -307,4 +375,6 @@ def update_site(
         idata,
         until_date,
         settings.seed,
+        before_local=before_local,
+        after_local=after_local,
     )
