@@ -17,6 +17,7 @@ from __future__ import annotations
 import dataclasses
 import datetime as dt
 import json
+import warnings
 from pathlib import Path
 from typing import Any
 
@@ -70,6 +71,8 @@ class SiteUpdate:
     before_local, after_local : dict
         zone -> `assess.site.locations.LocalKnowledge`: populations of one face or
         one member's face where the data give them (empty: pooled per zone).
+    excluded : list of dict
+        Tests left out by the engineer (site file ``[exclude]``) with the reason.
     """
 
     before: dict
@@ -84,6 +87,27 @@ class SiteUpdate:
     seed: int = 0
     before_local: dict = dataclasses.field(default_factory=dict)
     after_local: dict = dataclasses.field(default_factory=dict)
+    excluded: list = dataclasses.field(default_factory=list)
+
+    @property
+    def flagged(self) -> list[dict]:
+        """Flagged observations that the update used (outliers are flagged and kept)."""
+        return flagged_kept(self.data)
+
+    def notes(self) -> list[str]:
+        """Plain-words notes: flagged tests kept, tests excluded by the engineer."""
+        out = [
+            f"{r['quantity']} test {r['item']} (zone {r['zone']}, {r['value']:g}) is flagged "
+            f"'{r['flags']}' and used; to leave it out, name it with a reason in the site "
+            "file [exclude] table"
+            for r in self.flagged
+        ]
+        out += [
+            f"{r['quantity']} test {r['item']} (zone {r['zone']}, {r['value']:g}) excluded: "
+            f"{r['reason']}"
+            for r in self.excluded
+        ]
+        return out
 
     @property
     def has_data(self) -> bool:
@@ -111,6 +135,8 @@ class SiteUpdate:
                     "reused": self.reused,
                     "until_date": self.until_date.isoformat() if self.until_date else None,
                     "counts": self.counts(),
+                    "flagged_kept": self.flagged,
+                    "excluded": self.excluded,
                     "gate": self.gate.to_dict(),
                     "after": {
                         z: {q: dataclasses.asdict(ng) for q, ng in qs.items()}
@@ -150,9 +176,65 @@ def collect_data(
             latest = frame.groupby("zone")["date"].transform("max")
             frame = frame[frame["date"] == latest]
         frame = frame.assign(face=[_face(extra) for extra in frame["extra"]])
-        columns = ["zone", "value", "campaign", "date", "item_id", "member", "face"]
+        columns = ["zone", "value", "campaign", "date", "item_id", "member", "face", "flags"]
         data[name] = frame[columns].reset_index(drop=True)
     return data
+
+
+def apply_exclusions(data: dict, exclude) -> tuple[dict, list[dict]]:
+    """Leave out the tests the engineer excluded (site file ``[exclude]``: id -> reason).
+
+    Returns the data without them and one record per excluded observation (quantity,
+    zone, item, value, flags, reason) for the ledger row. An id that matches no test
+    warns (a typing error would otherwise go unnoticed).
+    """
+    exclude = dict(exclude or {})
+    if not exclude:
+        return data, []
+    kept, excluded, seen = {}, [], set()
+    for name, frame in data.items():
+        hit = frame["item_id"].astype(str).isin(exclude)
+        for row in frame[hit].itertuples():
+            seen.add(str(row.item_id))
+            excluded.append(
+                {
+                    "quantity": name,
+                    "zone": str(row.zone),
+                    "item": str(row.item_id),
+                    "value": float(row.value),
+                    "flags": str(row.flags or ""),
+                    "reason": exclude[str(row.item_id)],
+                }
+            )
+        kept[name] = frame[~hit].reset_index(drop=True)
+    unknown = sorted(set(exclude) - seen)
+    if unknown:
+        warnings.warn(
+            f"site file [exclude] names {', '.join(unknown)}, which match no test used by the "
+            "materials update (cores, tensile tests, cover, section loss); check the ids",
+            UserWarning,
+            stacklevel=2,
+        )
+    return kept, excluded
+
+
+def flagged_kept(data: dict) -> list[dict]:
+    """Observations used although flagged (e.g. Grubbs outliers: flagged and kept)."""
+    rows = []
+    for name, frame in data.items():
+        if "flags" not in frame or frame.empty:
+            continue
+        for row in frame[frame["flags"].fillna("") != ""].itertuples():
+            rows.append(
+                {
+                    "quantity": name,
+                    "zone": str(row.zone),
+                    "item": str(row.item_id),
+                    "value": float(row.value),
+                    "flags": str(row.flags),
+                }
+            )
+    return rows
 
 
 def _face(extra) -> str | None:
@@ -171,6 +253,7 @@ def _payload(
         "cover_tau_scale": COVER_TAU_SCALE,
         "zones": list(site.zones),
         "include_flagged": sorted(include_flagged),
+        "exclude": sorted(dict(getattr(site, "exclude", {}) or {}).items()),
         "settings": {
             "fit": dataclasses.asdict(settings.fit("materials")),
             "seed": settings.seed,
@@ -299,6 +382,7 @@ def update_site(
         )
     with Ledger(ledger_path(site.folder)) as ledger:
         data = collect_data(ledger, until_date, include_flagged)
+    data, excluded = apply_exclusions(data, getattr(site, "exclude", None))
     layout = cover_layout(site, data["cover"])
     before_local = layout.before_local
     if not data["cover"].empty:
@@ -321,6 +405,7 @@ def update_site(
             settings.seed,
             before_local=before_local,
             after_local=before_local,
+            excluded=excluded,
         )
 
     joint = _build_joint_model(site, data, before, layout)
@@ -377,4 +462,5 @@ def update_site(
         settings.seed,
         before_local=before_local,
         after_local=after_local,
+        excluded=excluded,
     )
