@@ -214,8 +214,8 @@ def initiation_data(site, until_date=None, include_flagged=()) -> InitiationData
             )
         if not (math.isfinite(row.value) and row.value > 0):
             raise InputError(
-                f"chloride value {row.value!r} must be > 0 (enter a value below "
-                "the detection limit at the limit)",
+                f"chloride value {row.value!r} must be > 0 (for a reading below the "
+                "detection limit give the limit and below_limit = yes)",
                 file=row.file,
                 row=row.source_row,
                 column="chloride",
@@ -227,6 +227,10 @@ def initiation_data(site, until_date=None, include_flagged=()) -> InitiationData
         "chloride": frame["value"].to_numpy(dtype=float),
         "zone": frame["zone"].to_numpy(dtype=str),
     }
+    # readings below the detection limit (the value is the limit): censored in the fit
+    below = np.array([bool(_extra(row).get("below_limit")) for row in frame.itertuples()], bool)
+    if below.any():
+        chloride["censored"] = below
     frame = _observations(site, "carbonation", "carbonation_depth", until_date, include_flagged)
     carbonation = {
         "depth_mm": frame["value"].to_numpy(dtype=float),
@@ -424,6 +428,9 @@ def _group_fit(
     fit = settings.fit(kind)
     seed = settings.seed
 
+    # optional per-reading arrays the fitter takes by keyword (chloride: censored)
+    options = {k: subset[k] for k in ("censored",) if k in subset}
+
     def sample():
         return fitter(
             *(subset[c] for c in columns),
@@ -431,6 +438,7 @@ def _group_fit(
             present,
             priors=priors,
             seed=seed,
+            **options,
             **fit.sampler_options(),
         )
 
