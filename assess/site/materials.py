@@ -449,6 +449,8 @@ def update_site(
             seed=settings.seed,
             source=f"posterior from site tests (MCMC, {data_hash[:12]})",
         )
+        for zone in site.zones:  # the zone-level cover is that of its main face
+            after[zone]["cover"] = after_local[zone][(None, layout.main_face(zone))]["cover"]
     return SiteUpdate(
         before,
         after,
