@@ -169,3 +169,17 @@ def test_local_populations_reach_knowledge_at(site, one_cell_fit):
     assert lognormal_of(bottom).mean() == pytest.approx(30.0, rel=1e-12)
     # other quantities come from the zone
     assert knowledge_at(zone, after["L2"], "S2-05", "bottom")["concrete"] is zone["concrete"]
+
+
+def test_design_cover_of_initiation_reads_the_lognormal(site):
+    # the zone's design cover on ln c, carried to mm by the lognormal moments
+    # E[c] = exp(m + s^2/2), sd = E[c] sqrt(exp(s^2) - 1) (closed form)
+    from assess.site.initiation import design_cover
+
+    jcss = design_knowledge(site)["L2"]["cover"].jcss
+    cover = design_cover(site, "L2")
+    mean = math.exp(jcss["m"] + 0.5 * jcss["s"] ** 2)
+    assert cover.mean_mm == pytest.approx(mean, rel=1e-12)
+    assert cover.scatter_mm == pytest.approx(
+        stats.lognorm(s=jcss["s"], scale=math.exp(jcss["m"])).std(), rel=1e-12
+    )

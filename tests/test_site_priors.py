@@ -175,3 +175,21 @@ def test_imposed_use_reaches_the_member_load_model(tmp_path):
                                members=["S1-03"])
         betas[use] = {r.mode: r.after.beta for r in table.results if r.mode != "system"}
     assert betas["rail or airport"]["flexure"] > betas["commercial"]["flexure"] + 0.01
+
+
+def test_concrete_before_is_the_in_situ_strength_of_the_jcss_f_co_prior():
+    # JCSS PMC Part 3.1: ln f_c = ln alpha2(t) + 0.96 ln f_co + ln Y1; the demo site (built
+    # 1974, assessed 2026) is older than the 365-day cap of alpha2 = 0.6 + 0.12 ln t.
+    from assess.priors import concrete_prior
+    from assess.priors.insitu import y1_log_parameters
+
+    site = load_site(DEMO_SITE)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # C30 is interpolated between the JCSS rows
+        f_co = concrete_prior(site.materials.concrete_class, site.materials.production)
+        concrete = design_knowledge(site)["L1"]["concrete"]
+    mu1, _ = y1_log_parameters(0.06)
+    assert concrete.m == pytest.approx(math.log(0.6 + 0.12 * math.log(365.0)) + 0.96 * f_co.m
+                                       + mu1, rel=1e-12)
+    assert concrete.s == pytest.approx(0.96 * f_co.s, rel=1e-12)
+    assert "in situ" in concrete.source
