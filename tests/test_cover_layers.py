@@ -183,3 +183,21 @@ def test_design_cover_of_initiation_reads_the_lognormal(site):
     assert cover.scatter_mm == pytest.approx(
         stats.lognorm(s=jcss["s"], scale=math.exp(jcss["m"])).std(), rel=1e-12
     )
+
+
+def test_design_only_update_carries_the_layer_priors(tmp_path):
+    # a site with no campaign yet: before_local = after_local = the JCSS layer priors, and
+    # knowledge_at gives each bar layer its own face's prior
+    from assess.site.materials import update_site
+
+    (tmp_path / "site.toml").write_text(DEMO_SITE.read_text())
+    site = load_site(tmp_path)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        update = update_site(site)
+    assert update.gate is None and update.after_local == update.before_local
+    top = knowledge_at(update.before["L2"], update.before_local["L2"], "C2-B3", "top")
+    bottom = knowledge_at(update.before["L2"], update.before_local["L2"], "S2-05", "bottom")
+    # JCSS PMC 3.10: slab top c_nom + 10 (30 + 10 mm), slab bottom c_nom + 5 (25 + 5 mm)
+    assert lognormal_of(top["cover"]).mean() == pytest.approx(40.0, rel=1e-12)
+    assert lognormal_of(bottom["cover"]).mean() == pytest.approx(30.0, rel=1e-12)
