@@ -59,7 +59,7 @@ def bench_pymc(site, data, before, settings) -> dict:
     from assess.updating.models import free_parameter_names, sample_posterior
 
     start = time.perf_counter()
-    joint = _build_joint_model(site, data, before, settings)
+    joint = _build_joint_model(site, data, before)
     built = time.perf_counter()
     joint.compile_logp()
     joint.compile_dlogp()

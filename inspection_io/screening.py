@@ -3,8 +3,11 @@
 Flags are short names stored ``;``-joined in the observations' ``flags``
 column. `FLAG_REASONS` explains each, including the ``unusual <quantity>``
 flags of values outside the soft plausibility range
-(`inspection_io.plausibility`). Summaries leave flagged rows out unless
-told otherwise (`usable_mask`).
+(`inspection_io.plausibility`). Summaries and updates leave flagged rows out
+unless told otherwise (`usable_mask`), except the flags of `KEPT_FLAGS`: a
+statistical outlier is a fact about the sample, not a defect of the test, so it
+is flagged and kept (a low core is often the weak concrete that matters). The
+engineer excludes a specific test with a reason (site file ``[exclude]``).
 
 Outliers
 --------
@@ -38,6 +41,7 @@ from inspection_io.plausibility import FLAGS as PLAUSIBILITY_FLAGS
 
 __all__ = [
     "FLAG_REASONS",
+    "KEPT_FLAGS",
     "MIN_CORE_DIAMETER",
     "OUTLIER_ALPHA",
     "core_row_flags",
@@ -69,11 +73,15 @@ FLAG_REASONS = {
     LD_OUTSIDE: "length/diameter ratio outside 1-2, where the l/d correction is not tabulated",
     SMALL_DIAMETER: "core diameter below 50 mm, outside EN 13791:2019",
     OUTLIER: "log in-situ strength is an outlier in its zone (two-sided Grubbs test, "
-             "Grubbs 1969)",
+             "Grubbs 1969); kept unless excluded with a reason in the site file [exclude]",
     # values inside the hard but outside the soft plausibility range of their quantity
     # ("unusual core strength", ...), see inspection_io.plausibility
     **PLAUSIBILITY_FLAGS,
 }
+
+
+#: Flags that mark a row but keep it in summaries and updates by default.
+KEPT_FLAGS = frozenset({OUTLIER})
 
 
 def split_flags(flags: str | None) -> list[str]:
@@ -182,7 +190,8 @@ def usable_mask(flags: pd.Series, include_flagged: set[str] | None = None,
     flags : pandas.Series of str
         The observations' ``flags`` column.
     include_flagged : set of str, optional
-        Default mode: rows with any flag are left out, except flags named here.
+        Default mode: rows with any flag are left out, except flags named here and
+        the flags of `KEPT_FLAGS` (outliers: flagged and kept).
     exclude_flags : set of str, optional
         Opposite mode: only rows with a flag named here are left out.
 
@@ -200,7 +209,7 @@ def usable_mask(flags: pd.Series, include_flagged: set[str] | None = None,
     sets = flags.fillna("").map(lambda f: set(split_flags(f)))
     if exclude_flags is not None:
         return sets.map(lambda s: not (s & set(exclude_flags)))
-    allowed = set(include_flagged or ())
+    allowed = set(include_flagged or ()) | KEPT_FLAGS
     return sets.map(lambda s: s <= allowed)
 
 

@@ -317,6 +317,9 @@ class Site:
     """The optional ``[priors]`` table (all fields None when absent)."""
     sampling: Mapping[str, Mapping[str, Any]] = field(default_factory=lambda: MappingProxyType({}))
     """The optional ``[sampling.<fit>]`` tables: MCMC settings per kind of fit."""
+    exclude: Mapping[str, str] = field(default_factory=lambda: MappingProxyType({}))
+    """The optional ``[exclude]`` table: test id (core, location...) -> the engineer's reason
+    for leaving that test out of the updates (e.g. a flagged outlier found to be a bad core)."""
 
     @property
     def folder(self) -> Path:
@@ -956,6 +959,12 @@ def _sampling(s: _Schema, table: dict) -> Mapping[str, Mapping[str, Any]]:
     return MappingProxyType(out)
 
 
+def _exclude(s: _Schema, table: dict) -> Mapping[str, str]:
+    """``[exclude]``: ``"<test id>" = "<reason>"``, the reason a non-empty text."""
+    return MappingProxyType({str(item): s.text(reason, f"exclude.{quote_cell(str(item), 80)}")
+                             for item, reason in table.items()})
+
+
 # --------------------------------------------------------------------------- public
 def load_site(path: str | Path) -> Site:
     """Read and check a site file.
@@ -984,7 +993,7 @@ def load_site(path: str | Path) -> Site:
     data = _read_toml(path)
     s = _Schema(path)
     s.keys(data, "", ("site", "target", "materials", "loads", "zones"),
-           ("members", "priors", "sampling"))
+           ("members", "priors", "sampling", "exclude"))
     sections = {name: s.table(data[name], name) for name in data}
     zones = _zones(s, sections["zones"])
     members = {}
@@ -1005,6 +1014,8 @@ def load_site(path: str | Path) -> Site:
         members=MappingProxyType(members),
         priors=_priors(s, sections["priors"]) if "priors" in sections else Priors(),
         sampling=_sampling(s, sections["sampling"]) if "sampling" in sections
+        else MappingProxyType({}),
+        exclude=_exclude(s, sections["exclude"]) if "exclude" in sections
         else MappingProxyType({}),
     )
 

@@ -73,7 +73,9 @@ def materials_checks(site, update, truth, level=0.95):
     checks = []
     for name, key in (("concrete", "mu_log_fc"), ("cover", "cover_mean")):
         for zone in site.zones:
-            mu, _ = group_draws(update.idata, zone, name=name)
+            mu, sigma = group_draws(update.idata, zone, name=name)
+            if name == "cover":  # population on ln c; truth gives the mean cover [mm]
+                mu = np.exp(mu + 0.5 * sigma**2)
             checks.append((f"{name} {zone}", *interval(mu, level), truth[zone][key]))
     mu, _ = group_draws(update.idata, next(iter(site.zones)), name="steel")  # pooled
     checks.append(("steel (pooled)", *interval(mu, level), truth[next(iter(site.zones))]["steel_mean"]))

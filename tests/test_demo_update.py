@@ -89,3 +89,36 @@ def test_reassessment_at_an_earlier_date_uses_no_later_data(demo):
     assert len(earlier["concrete"]) == files["cores.csv"]["rows"] - 1
     assert set(earlier["concrete"]["date"]) == {first_survey}
     assert _hash(site, earlier, update.before, settings) != update.data_hash
+
+
+def test_cover_populations_per_member_and_face(demo_update):
+    # The demo's cover readings are all on the deck top (campaign files). Bottom bars keep
+    # their own design prior (JCSS PMC Part 3.10 slab bottom: nominal + 5 mm, sd 7.5 mm);
+    # a member's top layer with readings gets its own posterior, shrunk from the sample mean
+    # of its ln c towards the cell: the centre lies between the prior centre and the sample
+    # mean, widened by 4 posterior sds of the mean (generous: partial pooling, MCMC noise).
+    import math
+
+    import numpy as np
+
+    from assess.site.cover_layers import assign_layers
+    from assess.site.locations import knowledge_at
+
+    site, update = demo_update
+    zone = update.after["L2"]
+    bottom = knowledge_at(zone, update.after_local["L2"], "S2-05", "bottom")["cover"]
+    assert bottom == update.before_local["L2"][("S2-05", "bottom")]["cover"]
+    t = bottom.predictive()
+    assert math.exp(t.mean() + 0.5 * t.var()) == pytest.approx(25.0 + 5.0, rel=1e-9)
+    top = knowledge_at(zone, update.after_local["L2"], "C2-B3", "top")["cover"]
+    assert top is update.after_local["L2"][("C2-B3", "top")]["cover"]
+    readings = assign_layers(site, update.data["cover"])
+    mine = readings[(readings["member"] == "C2-B3") & (readings["face"] == "top")]
+    assert len(mine) >= 10
+    sample_mean = float(np.log(mine["value"]).mean())
+    prior_centre = update.before_local["L2"][("C2-B3", "top")]["cover"].center
+    sd_mean = top.z_std * math.sqrt(top.rate / top.shape)  # z_std * typical sigma
+    low, high = sorted((sample_mean, prior_centre))
+    assert low - 4 * sd_mean <= top.center <= high + 4 * sd_mean
+    # closer to the data than to the prior: 17+ readings against n' = 2
+    assert abs(top.center - sample_mean) < abs(top.center - prior_centre)

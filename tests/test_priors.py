@@ -241,3 +241,49 @@ def test_prior_sampling_is_seeded():
     a, b = prior.sample(1000, seed=3), prior.sample(1000, seed=3)
     np.testing.assert_array_equal(a, b)
     assert a.shape == (1000,)
+
+
+def test_insitu_transformation_jcss_parameters():
+    """JCSS PMC Part 3.1 (read): f_c = alpha(t, tau) f_co^lambda Y1, alpha = alpha1(tau) alpha2(t),
+    alpha1 = 0.8 + 0.2 exp(-0.04 tau), alpha2 = 0.6 + 0.12 ln t, lambda = 0.96, Y1 LN(1, 0.06)."""
+    from assess.priors import insitu
+
+    assert (insitu.LAMBDA, insitu.Y1_COV) == (0.96, 0.06)
+    # alpha2(28 days) = 0.6 + 0.12 ln 28 = 0.99986: the standard test age
+    assert insitu.alpha2(28.0) == pytest.approx(0.6 + 0.12 * math.log(28.0), rel=1e-12)
+    assert insitu.alpha2(28.0) == pytest.approx(1.0, abs=2e-4)
+    assert insitu.alpha2(365.0) == pytest.approx(1.30799, abs=1e-5)  # hand: 0.6 + 0.12 * 5.89990
+    assert insitu.alpha1(0.0) == 1.0 and insitu.alpha1(1e6) == pytest.approx(0.8)
+    assert insitu.alpha1(10.0) == pytest.approx(0.8 + 0.2 * math.exp(-0.4), rel=1e-12)
+    assert insitu.alpha(365.0, 10.0) == pytest.approx(insitu.alpha1(10.0) * insitu.alpha2(365.0))
+    # ln Y1 of a lognormal with mean 1, CoV 0.06 (closed form)
+    mu1, s1 = insitu.y1_log_parameters()
+    assert stats.lognorm(s1, scale=math.exp(mu1)).mean() == pytest.approx(1.0, rel=1e-12)
+    assert stats.lognorm(s1, scale=math.exp(mu1)).std() == pytest.approx(0.06, rel=1e-12)
+
+    f_co = concrete_prior("C25")  # JCSS table: m' 3.65, n' 3, s' 0.12, nu' 10
+    age = 52 * 365.25  # older than the cap: alpha2 at 365 days
+    f_c = insitu.insitu_strength_prior(f_co, age)
+    a = insitu.alpha2(365.0)
+    # centre: ln alpha + lambda m' + E[ln Y1]; scatter within the structure lambda s'
+    assert f_c.m == pytest.approx(math.log(a) + 0.96 * 3.65 + mu1, rel=1e-12)
+    assert f_c.s == pytest.approx(0.96 * 0.12, rel=1e-12) and f_c.nu == 10
+    # predictive variance of ln f_c equals the exact one of ln alpha + lambda ln f_co + ln Y1:
+    # lambda^2 Var_t[ln f_co] + Var[ln Y1], with Var_t = s'^2 (1 + 1/n') nu'/(nu' - 2)
+    exact = 0.96**2 * f_co.predictive().var() + s1**2
+    assert f_c.predictive().var() == pytest.approx(exact, rel=1e-10)
+    # and its mean: E[ln f_c] = ln alpha + lambda m' + E[ln Y1]
+    assert f_c.predictive().mean() == pytest.approx(math.log(a) + 0.96 * 3.65 + mu1, rel=1e-12)
+    # a young structure (100 days) uses alpha2(100); load duration enters through alpha1
+    young = insitu.insitu_strength_prior(f_co, 100.0, load_duration_days=1e6)
+    assert young.m - f_c.m == pytest.approx(math.log(0.8 * insitu.alpha2(100.0) / a), rel=1e-12)
+    # Monte Carlo of the JCSS product f_co^lambda * alpha * Y1 with f_co from the JCSS
+    # Student-t: the 5 % quantile of the moment-matched population matches within 4 sigma
+    rng = np.random.default_rng(3)
+    n = 200_000
+    ln_fco = f_co.predictive().rvs(size=n, random_state=rng)
+    ln_fc = math.log(a) + 0.96 * ln_fco + rng.normal(mu1, s1, n)
+    q_mc = np.quantile(ln_fc, 0.05)
+    dens = stats.gaussian_kde(ln_fc[:20_000])(q_mc)[0]
+    se = math.sqrt(0.05 * 0.95 / n) / dens  # standard error of a sample quantile
+    assert f_c.predictive().ppf(0.05) == pytest.approx(q_mc, abs=4 * se)

@@ -595,3 +595,23 @@ def test_markup_and_control_characters_in_cells_are_quoted_safely(tmp_path):
     with pytest.raises(InputError) as info:
         read_campaign_file(path)
     assert "\x1b" not in str(info.value) and "\\x1b" in str(info.value)
+
+
+def test_chloride_below_detection_limit_is_marked_not_substituted(tmp_path):
+    path = write_csv(
+        tmp_path,
+        "profile_id,zone,depth_from [mm],depth_to [mm],chloride [% binder],below_limit\n"
+        "P,L1,0,10,1.2,no\nP,L1,10,20,0.05,yes\n",
+    )
+    obs = read_campaign_file(path).observations
+    extras = [json.loads(e) for e in obs["extra"]]
+    assert [e.get("below_limit", False) for e in extras] == [False, True]
+    assert obs["value"].tolist() == [1.2, 0.05]  # the limit, marked as a bound
+    bad = write_csv(
+        tmp_path,
+        "profile_id,zone,depth_from [mm],depth_to [mm],chloride [% binder],below_limit\n"
+        "P,L1,0,10,0,yes\n",
+        name="bad.csv",
+    )
+    with pytest.raises(InputError, match="detection limit"):
+        read_campaign_file(bad)

@@ -76,9 +76,11 @@ def test_row_flags():
 
 def test_usable_mask_modes():
     flags = pd.Series(["", "bar_in_core", "outlier", "bar_in_core;damaged"])
-    assert screening.usable_mask(flags).tolist() == [True, False, False, False]
+    # an outlier is flagged and kept (KEPT_FLAGS); other flags leave the row out
+    assert screening.usable_mask(flags).tolist() == [True, False, True, False]
     assert screening.usable_mask(flags, include_flagged={"bar_in_core"}).tolist() == \
-        [True, True, False, False]
+        [True, True, True, False]
+    assert screening.usable_mask(pd.Series(["outlier;damaged"])).tolist() == [False]
     assert screening.usable_mask(flags, exclude_flags={"outlier"}).tolist() == \
         [True, True, False, True]
     with pytest.raises(InputError, match="not both"):
@@ -89,9 +91,44 @@ def test_usable_mask_modes():
 
 def test_summary_counts_outlier_and_can_take_it_back():
     obs = read_campaign_file(DATA / "cores_outlier.csv").observations
+    # the outlier is flagged and kept by default; excluding the flag takes it out
     default = core_zone_summary(obs).set_index("zone")
-    assert default.loc["L1", "n"] == 7 and default.loc["L1", "n_flagged"] == 1
-    with_outlier = core_zone_summary(obs, include_flagged={"outlier"}).set_index("zone")
-    assert with_outlier.loc["L1", "n"] == 8
-    assert with_outlier.loc["L1", "characteristic_v_unknown"] < \
-        default.loc["L1", "characteristic_v_unknown"]
+    assert default.loc["L1", "n"] == 8 and default.loc["L1", "n_flagged"] == 1
+    without = core_zone_summary(obs, exclude_flags={"outlier"}).set_index("zone")
+    assert without.loc["L1", "n"] == 7
+    assert default.loc["L1", "characteristic_v_unknown"] < \
+        without.loc["L1", "characteristic_v_unknown"]
+
+
+def test_engineer_excludes_named_tests_with_a_reason(tmp_path):
+    import warnings
+    from pathlib import Path
+
+    from assess.site.materials import apply_exclusions, flagged_kept
+    from inspection_io.site import load_site
+
+    demo = Path(__file__).resolve().parents[1] / "demo_sites" / "tanners-yard" / "site.toml"
+    site_file = tmp_path / "site.toml"
+    site_file.write_text(demo.read_text() + '\n[exclude]\n"C-03" = "crushed at the saw cut"\n')
+    site = load_site(site_file)
+    assert dict(site.exclude) == {"C-03": "crushed at the saw cut"}
+    site_file.write_text(demo.read_text() + '\n[exclude]\n"C-03" = " "\n')
+    with pytest.raises(InputError, match="non-empty") as err:
+        load_site(site_file)
+    assert err.value.column == "exclude.C-03"
+
+    cores = pd.DataFrame({"zone": ["L1"] * 4, "item_id": ["C-01", "C-02", "C-03", "C-04"],
+                          "value": [30.0, 31.0, 12.0, 29.0],
+                          "flags": ["", "", "outlier", ""]})
+    data = {"concrete": cores, "cover": cores.iloc[:0]}
+    # the outlier is flagged and kept until the engineer names it
+    assert [r["item"] for r in flagged_kept(data)] == ["C-03"]
+    kept, excluded = apply_exclusions(data, site.exclude)
+    assert kept["concrete"]["item_id"].tolist() == ["C-01", "C-02", "C-04"]
+    assert excluded == [{"quantity": "concrete", "zone": "L1", "item": "C-03", "value": 12.0,
+                         "flags": "outlier", "reason": "crushed at the saw cut"}]
+    assert flagged_kept(kept) == []
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        apply_exclusions(data, {"C-3": "typo"})
+    assert any("C-3" in str(w.message) for w in caught)

@@ -82,6 +82,11 @@ def test_steel_and_cover_overrides_give_the_stated_predictive_mean_and_std(tmp_p
             population = knowledge[zone][name]
             # Student-t predictive (JCSS PMC Part 3.0 Annex A) through scipy.stats.t
             predictive = population.predictive()
+            if name == "cover":
+                # cover on ln c: the lognormal with the predictive's mean and sd of ln c
+                # has the stated mean and sd (scipy.stats.lognorm moments)
+                lognormal = stats.lognorm(s=predictive.std(), scale=math.exp(predictive.mean()))
+                predictive = lognormal
             assert predictive.mean() == pytest.approx(mean, rel=1e-12)
             assert predictive.std() == pytest.approx(std, rel=1e-12)
             assert OVERRIDE_SOURCE in population.source
@@ -96,7 +101,9 @@ def test_partial_override_leaves_the_other_priors_alone(tmp_path):
     assert knowledge["L2"]["concrete"] == plain["L2"]["concrete"]
     assert knowledge["L2"]["steel"] == plain["L2"]["steel"]
     assert knowledge["L2"]["cover"] != plain["L2"]["cover"]
-    assert knowledge["L2"]["cover"].predictive().mean() == pytest.approx(40.0)
+    # cover on ln c: lognormal with mean 40, sd 8 -> E[ln c] = ln 40 - ln(1 + 0.2^2) / 2
+    assert knowledge["L2"]["cover"].predictive().mean() == pytest.approx(
+        math.log(40.0) - 0.5 * math.log1p(0.2**2))
 
 
 @pytest.mark.parametrize("key, value, kind", [
@@ -168,3 +175,21 @@ def test_imposed_use_reaches_the_member_load_model(tmp_path):
                                members=["S1-03"])
         betas[use] = {r.mode: r.after.beta for r in table.results if r.mode != "system"}
     assert betas["rail or airport"]["flexure"] > betas["commercial"]["flexure"] + 0.01
+
+
+def test_concrete_before_is_the_in_situ_strength_of_the_jcss_f_co_prior():
+    # JCSS PMC Part 3.1: ln f_c = ln alpha2(t) + 0.96 ln f_co + ln Y1; the demo site (built
+    # 1974, assessed 2026) is older than the 365-day cap of alpha2 = 0.6 + 0.12 ln t.
+    from assess.priors import concrete_prior
+    from assess.priors.insitu import y1_log_parameters
+
+    site = load_site(DEMO_SITE)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # C30 is interpolated between the JCSS rows
+        f_co = concrete_prior(site.materials.concrete_class, site.materials.production)
+        concrete = design_knowledge(site)["L1"]["concrete"]
+    mu1, _ = y1_log_parameters(0.06)
+    assert concrete.m == pytest.approx(math.log(0.6 + 0.12 * math.log(365.0)) + 0.96 * f_co.m
+                                       + mu1, rel=1e-12)
+    assert concrete.s == pytest.approx(0.96 * f_co.s, rel=1e-12)
+    assert "in situ" in concrete.source

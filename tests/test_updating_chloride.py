@@ -172,3 +172,59 @@ def test_bad_observations_are_rejected_with_the_column_named():
         chloride_model(depth, age, value, zone, ["A", "B"], priors=PRIORS)
     with pytest.raises(InputError, match="zone_index"):
         chloride_model(depth, age, np.abs(value) + 0.1, zone + 1, ["A", "B"], priors=PRIORS)
+
+
+def test_censored_readings_enter_as_probability_below_the_limit():
+    # Readings below a detection limit L are left-censored: each contributes
+    # log Phi((ln L - ln C(x, t)) / sigma) (Tobit likelihood, Tobin 1958, Econometrica 26(1);
+    # scipy.stats.norm.logcdf) instead of the density at L that substitution would give.
+    depth, age, value, zone = synthetic_profiles()
+    limit = 0.40
+    censored = value < limit
+    assert 5 < censored.sum() < value.size - 5  # the deep increments of the young profiles
+    reported = np.where(censored, limit, value)
+    model = chloride_model(depth, age, reported, zone, ["A", "B"], priors=PRIORS,
+                           censored=censored)
+    substituted = chloride_model(depth, age, reported, zone, ["A", "B"], priors=PRIORS)
+    a, log_cs = 0.4, np.array([0.7, 0.2])
+    log_d_ref, log_c0, sd = np.array([6.1, 5.4]), math.log(0.04), 0.15
+    age_data = math.exp(np.mean(np.log(age)))
+    point = {"ageing_exponent_logodds__": special.logit(a), "log_surface_chloride": log_cs,
+             "log_diffusion_data_age": log_d_ref + a * math.log(PRIORS.age_ref_years / age_data),
+             "log_initial_chloride": log_c0, "measurement_sd_log__": math.log(sd)}
+    predicted = chloride_content(depth, age, np.exp(log_cs)[zone], np.exp(log_d_ref)[zone],
+                                 PRIORS.age_ref_years, a, math.exp(log_c0))
+    z = (np.log(reported) - np.log(predicted)) / sd
+    density = stats.norm.logpdf(np.log(reported), np.log(predicted), sd)
+    tobit = np.where(censored, stats.norm.logcdf(z), density).sum()
+    # the priors are the same in both models: the difference is the likelihood's alone
+    difference = float(model.compile_logp(jacobian=False)(point)) \
+        - float(substituted.compile_logp(jacobian=False)(point))
+    assert difference == pytest.approx(tobit - density.sum(), rel=1e-9)
+    with pytest.raises(InputError, match="censored"):
+        chloride_model(depth, age, reported, zone, ["A", "B"], priors=PRIORS,
+                       censored=censored[:-1])
+
+
+def test_tobit_likelihood_maximum_matches_scipy_censored_fit():
+    # The same censored-normal likelihood (pm.Censored, as in chloride_model) on one normal
+    # sample: its maximum equals scipy's maximum-likelihood fit to CensoredData
+    # (scipy.stats.CensoredData.left_censored, scipy >= 1.11), and differs from the fit to
+    # the substituted values, which is biased upwards.
+    import pymc as pm
+
+    rng = np.random.default_rng(8)
+    y = rng.normal(0.0, 1.0, 200)
+    limit = -0.3
+    censored = y < limit
+    reported = np.where(censored, limit, y)
+    with pm.Model():
+        mu = pm.Flat("mu")
+        log_s = pm.Flat("log_s")
+        pm.Censored("y", pm.Normal.dist(mu=mu, sigma=pm.math.exp(log_s)),
+                    lower=np.where(censored, limit, -np.inf), upper=None, observed=reported)
+        best = pm.find_MAP(start={"mu": 0.5, "log_s": 0.0}, progressbar=False)
+    loc, scale = stats.norm.fit(stats.CensoredData.left_censored(reported, censored))
+    assert float(best["mu"]) == pytest.approx(loc, abs=1e-4)
+    assert math.exp(float(best["log_s"])) == pytest.approx(scale, abs=1e-4)
+    assert reported.mean() > loc + 0.05  # substitution at the limit biases the mean up

@@ -149,7 +149,9 @@ def _section_data(doc, run) -> dict:
         out[kind] = table.to_dict("records") if hasattr(table, "to_dict") else table
     if run.flagged:
         sec.add_notice([f"{f['file']} row {f['row']}: {f['item']} flagged ({f['flags']})"
-                        for f in run.flagged], title="Flagged results (kept, not used)")
+                        for f in run.flagged],
+                       title="Flagged results (kept in the ledger; outliers are used in the "
+                             "update, rows with other flags are not)")
     out["flagged"] = run.flagged
     return out
 
@@ -179,6 +181,9 @@ def _section_knowledge(doc, run) -> dict:
                            caption="Convergence diagnostics (gate passed)")
     else:
         sec.add_notice([NO_TEST_DATA], title="Design information only")
+    notes = update.notes() if hasattr(update, "notes") else []
+    if notes:
+        sec.add_notice(notes, title="Flagged tests used and tests excluded by the engineer")
     for (name, zone), fig in prior_posterior_figures(update).items():
         if name in ("concrete", "area_ratio"):
             sec.add_figure(fig, caption=f"{LABELS[name][0]}, zone {zone}: design prior and "

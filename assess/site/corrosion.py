@@ -241,7 +241,7 @@ def initiation_time_prior_draws(site, zone_id, n=20_000, seed=0) -> np.ndarray:
     `ChloridePriors.from_site` for the zone's exposure, the site's cement and
     w/c, and the zone's mean annual temperature; carbonation t_i = (c / k)^2 with
     k from `CARBONATION_RATE_PRIOR`; the earlier of the two per draw. Cover: the
-    Student-t predictive of the zone's design cover (`design_knowledge`),
+    Student-t predictive of ln c of the zone's design cover (`design_knowledge`),
     at least 5 mm; C_crit: fib 34 Beta.
 
     Returns
@@ -254,7 +254,8 @@ def initiation_time_prior_draws(site, zone_id, n=20_000, seed=0) -> np.ndarray:
     from assess.site.knowledge import design_knowledge
 
     rng, _ = resolve_seed(seed, "initiation_time_prior_draws")
-    cover = design_knowledge(site)[zone_id]["cover"].predictive().rvs(size=n, random_state=rng)
+    log_cover = design_knowledge(site)[zone_id]["cover"].predictive().rvs(size=n, random_state=rng)
+    cover = np.exp(log_cover)  # the cover population is on ln c [ln mm]
     cover = np.maximum(cover, 5.0)
     t_chloride = default_chloride_draws(site, zone_id, cover, rng)
     return np.minimum(t_chloride, default_carbonation_draws(site, zone_id, cover, rng))

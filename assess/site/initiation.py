@@ -214,8 +214,8 @@ def initiation_data(site, until_date=None, include_flagged=()) -> InitiationData
             )
         if not (math.isfinite(row.value) and row.value > 0):
             raise InputError(
-                f"chloride value {row.value!r} must be > 0 (enter a value below "
-                "the detection limit at the limit)",
+                f"chloride value {row.value!r} must be > 0 (for a reading below the "
+                "detection limit give the limit and below_limit = yes)",
                 file=row.file,
                 row=row.source_row,
                 column="chloride",
@@ -227,6 +227,10 @@ def initiation_data(site, until_date=None, include_flagged=()) -> InitiationData
         "chloride": frame["value"].to_numpy(dtype=float),
         "zone": frame["zone"].to_numpy(dtype=str),
     }
+    # readings below the detection limit (the value is the limit): censored in the fit
+    below = np.array([bool(_extra(row).get("below_limit")) for row in frame.itertuples()], bool)
+    if below.any():
+        chloride["censored"] = below
     frame = _observations(site, "carbonation", "carbonation_depth", until_date, include_flagged)
     carbonation = {
         "depth_mm": frame["value"].to_numpy(dtype=float),
@@ -283,18 +287,21 @@ def surveyed_cover(zone_id, readings, reading_sd_mm=COVER_READING_SD_MM) -> Zone
 def design_cover(site, zone_id) -> ZoneCover:
     """Mean cover of a zone without a survey: the JCSS cover prior of its members.
 
-    Mean m of the zone's design knowledge (JCSS PMC Part 3.10 deviations from
-    the nominal covers), the prior uncertainty of the mean, s / sqrt(n'), and
-    the scatter s.
+    The zone's design knowledge is on ln c (JCSS PMC Part 3.10 deviations from the
+    nominal covers, lognormal): mean exp(m + s^2/2) [mm], the prior uncertainty of
+    the mean mean * s / sqrt(n') (delta method) and the scatter
+    mean * sqrt(exp(s^2) - 1) [mm].
     """
     from assess.site.knowledge import design_knowledge
 
+    # the cover prior is on ln c: mean and scatter of the lognormal with parameters (m, s)
     jcss = design_knowledge(site)[zone_id]["cover"].jcss
+    mean_mm = math.exp(jcss["m"] + 0.5 * jcss["s"] ** 2)
     return ZoneCover(
         zone=zone_id,
-        mean_mm=float(jcss["m"]),
-        standard_error_mm=float(jcss["s"] / math.sqrt(jcss["n"])),
-        scatter_mm=float(jcss["s"]),
+        mean_mm=float(mean_mm),
+        standard_error_mm=float(mean_mm * jcss["s"] / math.sqrt(jcss["n"])),
+        scatter_mm=float(mean_mm * math.sqrt(math.expm1(jcss["s"] ** 2))),
         n=0,
         source=f"design cover of zone {zone_id} (nominal covers, JCSS PMC Part 3.10)",
     )
@@ -421,6 +428,9 @@ def _group_fit(
     fit = settings.fit(kind)
     seed = settings.seed
 
+    # optional per-reading arrays the fitter takes by keyword (chloride: censored)
+    options = {k: subset[k] for k in ("censored",) if k in subset}
+
     def sample():
         return fitter(
             *(subset[c] for c in columns),
@@ -428,6 +438,7 @@ def _group_fit(
             present,
             priors=priors,
             seed=seed,
+            **options,
             **fit.sampler_options(),
         )
 

@@ -7,7 +7,7 @@ name          Y                           physical value    observations (ledger
 ============  ==========================  ================  ========================
 concrete      ln f_c  [ln MPa]            lognormal f_c     cores: insitu_strength
 steel         f_y     [MPa]               normal            tensile: yield_strength
-cover         c       [mm]                normal            cover: cover
+cover         ln c    [ln mm]             lognormal c       cover: cover
 area_ratio    A_res/A_0 [-]               normal            section_loss: residual_area_ratio
 ============  ==========================  ================  ========================
 """
@@ -29,6 +29,7 @@ from assess.priors import (
     looks_characteristic,
     steel_yield_prior,
 )
+from assess.priors.insitu import age_days, insitu_strength_prior
 from assess.priors.normal_gamma import NormalGamma
 
 
@@ -68,12 +69,14 @@ QUANTITIES = {
         "MPa",
         description="reinforcement yield strength f_y",
     ),
+    # Cover on ln c: a cover cannot be negative (JCSS PMC Part 3.10 advises against
+    # the normal model for cover).
     "cover": QuantitySpec(
         "cover",
         "cover",
         "cover",
-        False,
-        "normal",
+        True,
+        "lognormal",
         "none",
         "mm",
         description="concrete cover to the main bars",
@@ -156,6 +159,20 @@ def weak_normal_gamma(
     return NormalGamma.from_jcss(mean, n, s, nu, source=source)
 
 
+def weak_lognormal_gamma(mean: float, std: float, n: float, nu: float, source: str) -> NormalGamma:
+    """Normal-gamma prior of ln X for a positive X with the given mean and std [units of X].
+
+    The lognormal with the same mean and standard deviation has
+    s_ln = sqrt(ln(1 + (std/mean)^2)) and median mean / sqrt(1 + (std/mean)^2); the
+    prior on ln X is centred on ln(median) with Student-t predictive standard
+    deviation s_ln (`weak_normal_gamma`).
+    """
+    if not (mean > 0 and std > 0):
+        raise InputError(f"a lognormal population needs mean > 0 and std > 0, got {mean}, {std}")
+    s_ln = math.sqrt(math.log1p((std / mean) ** 2))
+    return weak_normal_gamma(math.log(mean) - 0.5 * s_ln * s_ln, s_ln, n, nu, source=source)
+
+
 OVERRIDE_SOURCE = "site file [priors] override"
 
 #: Prior weight of an overridden concrete prior: the equivalent sample size n' and
@@ -206,28 +223,130 @@ def _member_kind_for_cover(kind: str) -> str:
     return "beam" if kind == "beam" else "slab"
 
 
+def nominal_cover(member, face: str) -> float:
+    """Nominal cover [mm] of ``member``'s bars on ``face`` (site file).
+
+    ``top_cover`` (optional) for the top bars, else ``cover`` (the main bars on the
+    tension face; used for the other faces as well when the site file says no more).
+    """
+    top = getattr(member, "top_cover", None)
+    if face == "top" and top is not None:
+        return float(top)
+    return float(member.cover)
+
+
+def face_cover_prior(member, face: str):
+    """JCSS PMC Part 3.10 cover prior [mm] of ``member``'s bars on ``face`` (`cover_prior`).
+
+    Slabs have no "side" row in the JCSS table: slab edges take the bottom row.
+    """
+    kind = _member_kind_for_cover(member.kind)
+    side = face
+    if kind == "slab" and face == "side":
+        side = "bottom"
+    return cover_prior(nominal_cover(member, face), kind, side)
+
+
+def _cover_override(site) -> NormalGamma | None:
+    overrides = getattr(site, "priors", None)
+    if overrides is None or overrides.cover_mean is None:
+        return None
+    return weak_lognormal_gamma(
+        overrides.cover_mean,
+        overrides.cover_std,
+        COVER_N,
+        COVER_NU,
+        source=f"{OVERRIDE_SOURCE}: cover_mean {overrides.cover_mean:g} mm, cover_std "
+        f"{overrides.cover_std:g} mm (lognormal)",
+    )
+
+
+def _no_member_cover(site) -> NormalGamma:
+    override = _cover_override(site)
+    if override is not None:
+        return override
+    return weak_lognormal_gamma(30.0, 10.0, 2.0, 6.0, source="no members in zone (lognormal)")
+
+
+def _cover_population(site, layers) -> NormalGamma:
+    """Normal-gamma prior of ln c for the bar layers ``[(member, face), ...]`` pooled.
+
+    The mixture of the layers' JCSS PMC 3.10 priors (mean of the means; variance =
+    mean variance + variance of the means) [mm], as a lognormal with that mean and
+    standard deviation (`weak_lognormal_gamma`, n' = 2, nu' = 20).
+    """
+    override = _cover_override(site)
+    if override is not None:
+        return override
+    covers = [face_cover_prior(m, f) for m, f in layers]
+    mean = float(np.mean([c.mean for c in covers]))
+    std = float(np.sqrt(np.mean([c.std**2 for c in covers]) + np.var([c.mean for c in covers])))
+    faces = sorted({f for _, f in layers})
+    return weak_lognormal_gamma(
+        mean,
+        std,
+        COVER_N,
+        COVER_NU,
+        source=f"{covers[0].source}; lognormal, face {'/'.join(faces)}, {len(layers)} bar layer(s)",
+    )
+
+
+def cover_layer_priors(site, zone_id: str, extra=()) -> dict[tuple, NormalGamma]:
+    """Design priors of ln c per bar layer of a zone: ``(member_id, face)`` and ``(None, face)``.
+
+    Every member of the zone contributes its tension-face layer, and its top layer when
+    the site file gives ``top_cover``; ``extra`` adds ``(member_id, face)`` layers that
+    the data name (readings on a face the site file does not describe). ``(None, face)``
+    pools the layers of one face (`_cover_population`).
+    """
+    members = {m_id: m for m_id, m in site.members.items() if m.zone == zone_id}
+    keys = []
+    for m_id, m in members.items():
+        keys.append((m_id, m.tension_face))
+        if getattr(m, "top_cover", None) is not None:
+            keys.append((m_id, "top"))
+    keys.extend(k for k in extra if k[0] in members)
+    keys = list(dict.fromkeys(keys))
+    out: dict[tuple, NormalGamma] = {}
+    for m_id, face in keys:
+        out[(m_id, face)] = _cover_population(site, [(members[m_id], face)])
+    faces = dict.fromkeys([f for _, f in keys] + [f for m_id, f in extra if m_id is None])
+    for face in faces:
+        layers = [(members[m_id], f) for m_id, f in keys if f == face]
+        if not layers:  # a face no member of the zone is known on: all members' layers
+            layers = [(m, face) for m in members.values()]
+        out[(None, face)] = _cover_population(site, layers) if layers else _no_member_cover(site)
+    return out
+
+
 def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
     """Design-stage priors per zone, from the site file's materials and members.
 
     Sources
     -------
-    - concrete: JCSS PMC Part 3.1 normal-gamma prior of ln f_c by class and
-      production (`assess.priors.concrete_prior`);
+    - concrete: JCSS PMC Part 3.1 normal-gamma prior of ln f_co (standard cylinders,
+      28 days) by class and production (`assess.priors.concrete_prior`), carried to the
+      in-situ strength f_c = alpha(t, tau) f_co^lambda Y1 that cores measure
+      (`assess.priors.insitu.insitu_strength_prior`), so that before and after describe
+      the same quantity;
     - steel: JCSS PMC Part 3.2, f_y normal with mean nominal + 2 sigma and sigma
       30 MPa; the mill-to-mill part (19 MPa) is the uncertainty of the job mean, so
       n' = (sigma_within / 19)^2 with sigma_within = sqrt(22^2 + 8^2) MPa, nu' = 50
       (the JCSS scatter of controlled production is well established, so the
       predictive stays close to the published normal model in the far tail);
-    - cover: JCSS PMC Part 3.10 deviations for the zone's members (mean of their
-      nominal covers), n' = 2, nu' = 20 (engineering judgement: the scatter of
-      cover is well described by JCSS, its mean is not);
+    - cover: on ln c (lognormal: cover cannot be negative, JCSS PMC Part 3.10);
+      JCSS PMC Part 3.10 deviations for the tension-face bar layers of the zone's
+      members (mixture of their nominal covers), n' = 2, nu' = 20 (engineering
+      judgement: the scatter of cover is well described by JCSS, its mean is not);
+      per member and face: `cover_layer_priors`;
     - area_ratio: JCSS PMC Part 3.2 bar area, mean 1 (no section loss known at
       design), CoV 0.02, with a weak mean (n' = 0.5) so measured loss governs.
 
     Overrides: the site file's optional ``[priors]`` table (`inspection_io.site.Priors`)
     replaces the concrete prior (`concrete_override`), the steel prior (same n', nu'
     with the given mean and standard deviation [MPa]) and the cover prior of every
-    zone (same n', nu' with the given mean and standard deviation [mm]); their source
+    zone and bar layer (same n', nu', lognormal with the given mean and standard
+    deviation [mm]); their source
     names the "site file [priors] override". A ``concrete_mean`` or ``steel_mean``
     equal to a characteristic class or grade value warns (`UserWarning`): reliability
     needs mean values (design decision 6).
@@ -237,7 +356,10 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
         _warn_if_characteristic(overrides.concrete_mean, "concrete_strength", "concrete_mean")
         concrete = concrete_override(overrides.concrete_mean, overrides.concrete_cov)
     else:
-        concrete = concrete_prior(site.materials.concrete_class, site.materials.production)
+        concrete = insitu_strength_prior(
+            concrete_prior(site.materials.concrete_class, site.materials.production),
+            age_days(site.site.year_built, site.site.assessment_date),
+        )
     if overrides is not None and overrides.steel_mean is not None:
         _warn_if_characteristic(overrides.steel_mean, "steel_yield", "steel_mean")
         steel = weak_normal_gamma(
@@ -263,28 +385,8 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
     knowledge = {}
     for zone_id in site.zones:
         members = [m for m in site.members.values() if m.zone == zone_id]
-        if overrides is not None and overrides.cover_mean is not None:
-            cover = weak_normal_gamma(
-                overrides.cover_mean,
-                overrides.cover_std,
-                COVER_N,
-                COVER_NU,
-                source=f"{OVERRIDE_SOURCE}: cover_mean "
-                f"{overrides.cover_mean:g} mm, cover_std "
-                f"{overrides.cover_std:g} mm",
-            )
-        elif members:
-            covers = [
-                cover_prior(m.cover, _member_kind_for_cover(m.kind), m.tension_face)
-                for m in members
-            ]
-            mean = float(np.mean([c.mean for c in covers]))
-            std = float(
-                np.sqrt(np.mean([c.std**2 for c in covers]) + np.var([c.mean for c in covers]))
-            )
-            cover = weak_normal_gamma(mean, std, COVER_N, COVER_NU, source=covers[0].source)
-        else:
-            cover = weak_normal_gamma(30.0, 10.0, 2.0, 6.0, source="no members in zone")
+        layers = [(m, m.tension_face) for m in members]
+        cover = _cover_population(site, layers) if layers else _no_member_cover(site)
         knowledge[zone_id] = {
             "concrete": concrete,
             "steel": steel,

@@ -16,6 +16,8 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+import json
+import warnings
 from pathlib import Path
 from typing import Any
 
@@ -23,6 +25,12 @@ import numpy as np
 import pandas as pd
 
 from assess.priors.normal_gamma import NormalGamma
+from assess.site.cover_layers import (
+    COVER_TAU_SCALE,
+    add_cover_model,
+    cover_after_local,
+    cover_layout,
+)
 from assess.site.knowledge import QUANTITIES, design_knowledge
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
@@ -63,6 +71,8 @@ class SiteUpdate:
     before_local, after_local : dict
         zone -> `assess.site.locations.LocalKnowledge`: populations of one face or
         one member's face where the data give them (empty: pooled per zone).
+    excluded : list of dict
+        Tests left out by the engineer (site file ``[exclude]``) with the reason.
     """
 
     before: dict
@@ -77,6 +87,27 @@ class SiteUpdate:
     seed: int = 0
     before_local: dict = dataclasses.field(default_factory=dict)
     after_local: dict = dataclasses.field(default_factory=dict)
+    excluded: list = dataclasses.field(default_factory=list)
+
+    @property
+    def flagged(self) -> list[dict]:
+        """Flagged observations that the update used (outliers are flagged and kept)."""
+        return flagged_kept(self.data)
+
+    def notes(self) -> list[str]:
+        """Plain-words notes: flagged tests kept, tests excluded by the engineer."""
+        out = [
+            f"{r['quantity']} test {r['item']} (zone {r['zone']}, {r['value']:g}) is flagged "
+            f"'{r['flags']}' and used; to leave it out, name it with a reason in the site "
+            "file [exclude] table"
+            for r in self.flagged
+        ]
+        out += [
+            f"{r['quantity']} test {r['item']} (zone {r['zone']}, {r['value']:g}) excluded: "
+            f"{r['reason']}"
+            for r in self.excluded
+        ]
+        return out
 
     @property
     def has_data(self) -> bool:
@@ -104,10 +135,22 @@ class SiteUpdate:
                     "reused": self.reused,
                     "until_date": self.until_date.isoformat() if self.until_date else None,
                     "counts": self.counts(),
+                    "flagged_kept": self.flagged,
+                    "excluded": self.excluded,
                     "gate": self.gate.to_dict(),
                     "after": {
                         z: {q: dataclasses.asdict(ng) for q, ng in qs.items()}
                         for z, qs in self.after.items()
+                    },
+                    # populations per bar layer: "member|face" ("*" = any member of the zone)
+                    "after_local": {
+                        z: {
+                            f"{member or '*'}|{face}": {
+                                q: dataclasses.asdict(ng) for q, ng in qs.items()
+                            }
+                            for (member, face), qs in layers.items()
+                        }
+                        for z, layers in self.after_local.items()
                     },
                 },
                 seed=self.seed,
@@ -132,14 +175,85 @@ def collect_data(
         if spec.latest_campaign_only and len(frame):
             latest = frame.groupby("zone")["date"].transform("max")
             frame = frame[frame["date"] == latest]
-        data[name] = frame[["zone", "value", "campaign", "date", "item_id"]].reset_index(drop=True)
+        frame = frame.assign(face=[_face(extra) for extra in frame["extra"]])
+        columns = ["zone", "value", "campaign", "date", "item_id", "member", "face", "flags"]
+        data[name] = frame[columns].reset_index(drop=True)
     return data
 
 
-def _payload(site, data: dict, before: dict, settings: RunSettings, include_flagged=()) -> dict:
+def apply_exclusions(data: dict, exclude) -> tuple[dict, list[dict]]:
+    """Leave out the tests the engineer excluded (site file ``[exclude]``: id -> reason).
+
+    Returns the data without them and one record per excluded observation (quantity,
+    zone, item, value, flags, reason) for the ledger row. An id that matches no test
+    warns (a typing error would otherwise go unnoticed).
+    """
+    exclude = dict(exclude or {})
+    if not exclude:
+        return data, []
+    kept, excluded, seen = {}, [], set()
+    for name, frame in data.items():
+        hit = frame["item_id"].astype(str).isin(exclude)
+        for row in frame[hit].itertuples():
+            seen.add(str(row.item_id))
+            excluded.append(
+                {
+                    "quantity": name,
+                    "zone": str(row.zone),
+                    "item": str(row.item_id),
+                    "value": float(row.value),
+                    "flags": str(row.flags or ""),
+                    "reason": exclude[str(row.item_id)],
+                }
+            )
+        kept[name] = frame[~hit].reset_index(drop=True)
+    unknown = sorted(set(exclude) - seen)
+    if unknown:
+        warnings.warn(
+            f"site file [exclude] names {', '.join(unknown)}, which match no test used by the "
+            "materials update (cores, tensile tests, cover, section loss); check the ids",
+            UserWarning,
+            stacklevel=2,
+        )
+    return kept, excluded
+
+
+def flagged_kept(data: dict) -> list[dict]:
+    """Observations used although flagged (e.g. Grubbs outliers: flagged and kept)."""
+    rows = []
+    for name, frame in data.items():
+        if "flags" not in frame or frame.empty:
+            continue
+        for row in frame[frame["flags"].fillna("") != ""].itertuples():
+            rows.append(
+                {
+                    "quantity": name,
+                    "zone": str(row.zone),
+                    "item": str(row.item_id),
+                    "value": float(row.value),
+                    "flags": str(row.flags),
+                }
+            )
+    return rows
+
+
+def _face(extra) -> str | None:
+    """The face a reading was taken on (``extra`` JSON of the observation), or None."""
+    if not isinstance(extra, str) or not extra:
+        return None
+    face = json.loads(extra).get("face")
+    return face if isinstance(face, str) and face else None
+
+
+def _payload(
+    site, data: dict, before: dict, settings: RunSettings, include_flagged=(), layout=None
+) -> dict:
     return {
+        "cover_layout": layout.payload() if layout is not None else None,
+        "cover_tau_scale": COVER_TAU_SCALE,
         "zones": list(site.zones),
         "include_flagged": sorted(include_flagged),
+        "exclude": sorted(dict(getattr(site, "exclude", {}) or {}).items()),
         "settings": {
             "fit": dataclasses.asdict(settings.fit("materials")),
             "seed": settings.seed,
@@ -154,11 +268,15 @@ def _payload(site, data: dict, before: dict, settings: RunSettings, include_flag
     }
 
 
-def _hash(site, data: dict, before: dict, settings: RunSettings, include_flagged=()) -> str:
-    return content_hash("materials", _payload(site, data, before, settings, include_flagged))
+def _hash(
+    site, data: dict, before: dict, settings: RunSettings, include_flagged=(), layout=None
+) -> str:
+    return content_hash(
+        "materials", _payload(site, data, before, settings, include_flagged, layout)
+    )
 
 
-def _build_joint_model(site, data, before):
+def _build_joint_model(site, data, before, layout=None):
     import pymc as pm
 
     from assess.updating.models import hierarchical_normal_model
@@ -170,6 +288,10 @@ def _build_joint_model(site, data, before):
     with pm.Model(coords={"group": zones}) as joint:
         for name, spec in QUANTITIES.items():
             frame = data[name]
+            if name == "cover":
+                if not frame.empty:
+                    add_cover_model(pm, layout or cover_layout(site, frame), name=name)
+                continue
             if frame.empty:
                 continue
             values = np.log(frame["value"].to_numpy()) if spec.log else frame["value"].to_numpy()
@@ -242,10 +364,12 @@ def update_site(
     fit = settings.fit("materials")
     before = design_knowledge(site)
     if not has_ledger(site.folder):
+        empty = pd.DataFrame(columns=["zone", "value", "member", "face"])
+        local = cover_layout(site, empty).before_local
         return SiteUpdate(
             before,
             before,
-            {q: pd.DataFrame(columns=["zone", "value"]) for q in QUANTITIES},
+            {q: empty for q in QUANTITIES},
             None,
             None,
             "",
@@ -253,17 +377,38 @@ def update_site(
             None,
             until_date,
             settings.seed,
+            before_local=local,
+            after_local=local,
         )
     with Ledger(ledger_path(site.folder)) as ledger:
         data = collect_data(ledger, until_date, include_flagged)
-    payload = _payload(site, data, before, settings, include_flagged)
+    data, excluded = apply_exclusions(data, getattr(site, "exclude", None))
+    layout = cover_layout(site, data["cover"])
+    before_local = layout.before_local
+    if not data["cover"].empty:
+        # the zone-level cover is that of the zone's main face (most readings)
+        for zone in site.zones:
+            before[zone]["cover"] = before_local[zone][(None, layout.main_face(zone))]["cover"]
+    payload = _payload(site, data, before, settings, include_flagged, layout)
     data_hash = content_hash("materials", payload)
     if all(df.empty for df in data.values()):
         return SiteUpdate(
-            before, before, data, None, None, data_hash, False, None, until_date, settings.seed
+            before,
+            before,
+            data,
+            None,
+            None,
+            data_hash,
+            False,
+            None,
+            until_date,
+            settings.seed,
+            before_local=before_local,
+            after_local=before_local,
+            excluded=excluded,
         )
 
-    joint = _build_joint_model(site, data, before)
+    joint = _build_joint_model(site, data, before, layout)
     names = free_parameter_names(joint)
     what = "zone materials (cores, tensile tests, cover, section loss)"
 
@@ -296,6 +441,16 @@ def update_site(
                 source=f"posterior of {name} in zone {zone} from site tests "
                 f"(MCMC, {data_hash[:12]})",
             )
+    after_local = before_local
+    if not data["cover"].empty:
+        after_local = cover_after_local(
+            idata,
+            layout,
+            seed=settings.seed,
+            source=f"posterior from site tests (MCMC, {data_hash[:12]})",
+        )
+        for zone in site.zones:  # the zone-level cover is that of its main face
+            after[zone]["cover"] = after_local[zone][(None, layout.main_face(zone))]["cover"]
     return SiteUpdate(
         before,
         after,
@@ -307,4 +462,7 @@ def update_site(
         idata,
         until_date,
         settings.seed,
+        before_local=before_local,
+        after_local=after_local,
+        excluded=excluded,
     )

@@ -291,7 +291,7 @@ def build_member_model(
     for name, key, kind in (
         ("fc", "concrete", "lognormal"),
         ("fy", "steel", "normal"),
-        ("cover", "cover", "normal"),
+        ("cover", "cover", "lognormal"),  # on ln c (JCSS PMC 3.10: cover > 0)
         ("area_ratio", "area_ratio", "normal"),
     ):
         add_uncertain_quantity(model, name, main[key], kind=kind)
@@ -300,8 +300,11 @@ def build_member_model(
     cover_shift = 0.0
     if continuous:
         top, top_local = _layer(knowledge, local, member.member_id, "top")
-        for name, key in (("cover_top", "cover"), ("area_ratio_top", "area_ratio")):
-            add_uncertain_quantity(model, name, top[key], kind="normal")
+        for name, key, kind in (
+            ("cover_top", "cover", "lognormal"),
+            ("area_ratio_top", "area_ratio", "normal"),
+        ):
+            add_uncertain_quantity(model, name, top[key], kind=kind)
             sources[name] = f"{top[key].source} (top bars)"
         if "cover" not in top_local:
             cover_shift = member.top_bar_cover - member.cover

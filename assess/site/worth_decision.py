@@ -82,7 +82,7 @@ from assess.worth.programmes import (
 PHYSICAL = {
     "concrete": ("fc", "lognormal"),
     "steel": ("fy", "normal"),
-    "cover": ("cover", "normal"),
+    "cover": ("cover", "lognormal"),  # on ln c [ln mm]
     "area_ratio": ("area_ratio", "normal"),
 }
 #: Resistance model-uncertainty variables of the member models (`assess.site.member_models`).
@@ -427,10 +427,10 @@ def weakest_member(site, update) -> tuple[str, dict]:
 class CoverSurvey(NormalSampleProgramme):
     """Cover-meter survey: n readings of cover in one zone.
 
-    Reading i: c_i = mu_c + sigma_c eps_i + e_i, eps_i ~ N(0, 1), e_i ~ N(0,
+    Reading i on ln c: ln c_i = mu_c + sigma_c eps_i + e_i, eps_i ~ N(0, 1), e_i ~ N(0,
     measurement_sd^2) (cover-meter error, typically 1-5 mm, BS 1881-204, from
-    memory). The same normal sample model as `CoreSampling`; outcome (mean
-    cover, sum of squared deviations) [mm, mm^2].
+    memory, carried to ln c by `make_programme`). The same normal sample model as
+    `CoreSampling`; outcome (mean of ln c, sum of squared deviations) [ln mm, -].
     """
 
     name: str
@@ -459,8 +459,17 @@ def active_probability_from_area_ratio(
     return probability
 
 
-def make_programme(spec: ProgrammeSpec, zone: str, parameter_names: Sequence[str]) -> Programme:
-    """Engine programme of a decision-file entry, its columns resolved in ``parameter_names``."""
+def make_programme(
+    spec: ProgrammeSpec,
+    zone: str,
+    parameter_names: Sequence[str],
+    cover_median_mm: float | None = None,
+) -> Programme:
+    """Engine programme of a decision-file entry, its columns resolved in ``parameter_names``.
+
+    The cover population is on ln c: a cover-meter error given in [mm] is carried to
+    ln c as measurement_sd / ``cover_median_mm`` (first-order, the zone's median cover).
+    """
 
     def column(quantity, statistic):
         return list(parameter_names).index(parameter_name(quantity, statistic, zone))
@@ -487,13 +496,14 @@ def make_programme(spec: ProgrammeSpec, zone: str, parameter_names: Sequence[str
             spec.description or f"opening {spec.count} break-outs{where}",
         )
     if spec.kind == "cover":
+        log_sd = spec.measurement_sd / cover_median_mm if cover_median_mm else spec.measurement_sd
         return CoverSurvey(
             spec.name,
             spec.cost,
             spec.count,
             column("cover", "mu"),
             column("cover", "sigma"),
-            spec.measurement_sd,
+            log_sd,
             spec.description or f"a cover survey of {spec.count} readings{where}",
         )
     if spec.kind == "half-cell":
@@ -732,7 +742,13 @@ def build_site_decision(
     years = np.arange(setup.horizon_years)
     increments = pf[:, :, None] * (1.0 - pf[:, :, None]) ** years[None, None, :]
 
-    programmes = [make_programme(spec, spec.zone or zone, names) for spec in setup.programmes]
+    def cover_median(z):  # median cover of zone z [mm] (population on ln c)
+        return float(np.exp(np.median(theta[:, names.index(parameter_name("cover", "mu", z))])))
+
+    programmes = [
+        make_programme(spec, spec.zone or zone, names, cover_median(spec.zone or zone))
+        for spec in setup.programmes
+    ]
     if any(spec.kind == "half-cell" for spec in setup.programmes):
         notes.append(
             "half-cell survey: P(active corrosion) is taken as the probability that "

@@ -325,7 +325,7 @@ def _beta_shapes(spec):
     return float(dist.args[0]), float(dist.args[1])
 
 
-def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors):
+def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors, censored=None):
     """PyMC model of chloride profiles of several zones (not sampled).
 
     Parameters
@@ -336,8 +336,12 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors):
         Age of the concrete at sampling (since construction) [yr], > 0.
     chloride : array_like (n,)
         Measured chloride content [% by mass of binder], > 0 (the error is
-        multiplicative; a value reported as below the detection limit should
-        be entered at the limit).
+        multiplicative); for a censored entry the detection limit.
+    censored : array_like of bool (n,), optional
+        True where the lab reported "below the detection limit": that entry
+        contributes the probability P(ln C_obs <= ln limit) =
+        Phi((ln limit - ln C(x, t)) / sigma_meas) (a left-censored, Tobit
+        likelihood; Tobin 1958) instead of a density at the limit.
     zone_index : array_like of int (n,)
         Position in ``zones`` of each observation [-].
     zones : sequence of str
@@ -367,6 +371,11 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors):
     c = check_observation_vector(chloride, "chloride", caller, low=0.0, low_open=True,
                                  size=x.size)
     names, idx = check_zone_index(zone_index, zones, x.size, caller)
+    if censored is not None:
+        censored = np.asarray(censored, dtype=bool)
+        if censored.shape != c.shape:
+            raise InputError(f"{caller}: 'censored' must have one entry per observation "
+                             f"({c.size}), got shape {censored.shape}.", column="censored")
 
     age_data = float(np.exp(np.mean(np.log(t))))
     log_shift = math.log(priors.age_ref_years / age_data)
@@ -390,7 +399,13 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors):
         c_0 = pm.Deterministic("initial_chloride", pm.math.exp(log_c0))
         predicted = chloride_content_tensor(x, t, c_s[idx], pm.math.exp(log_d_data)[idx],
                                             age_data, a, c_0, priors.delta_x_mm)
-        pm.Normal("log_chloride", mu=pm.math.log(predicted), sigma=sigma, observed=np.log(c))
+        mu = pm.math.log(predicted)
+        if censored is not None and np.any(censored):
+            lower = np.where(censored, np.log(c), -np.inf)
+            pm.Censored("log_chloride", pm.Normal.dist(mu=mu, sigma=sigma), lower=lower,
+                        upper=None, observed=np.log(c))
+        else:
+            pm.Normal("log_chloride", mu=mu, sigma=sigma, observed=np.log(c))
     return model
 
 
@@ -484,12 +499,13 @@ class ChlorideFit:
 
 
 def fit_chloride(depth_mm, age_years, chloride, zone_index, zones, *, priors, seed,
-                 draws=1000, tune=1000, chains=4, target_accept=0.95, sampler="pymc"):
+                 draws=1000, tune=1000, chains=4, target_accept=0.95, sampler="pymc",
+                 censored=None):
     """Sample the chloride model and pass the convergence gate.
 
     Parameters
     ----------
-    depth_mm, age_years, chloride, zone_index, zones, priors
+    depth_mm, age_years, chloride, zone_index, zones, priors, censored
         See `chloride_model`.
     seed : int or numpy.random.Generator
         Pass an int for reproducible output across calls.
@@ -509,7 +525,8 @@ def fit_chloride(depth_mm, age_years, chloride, zone_index, zones, *, priors, se
         variable.
     """
     seed = sampler_seed(seed, "fit_chloride")
-    model = chloride_model(depth_mm, age_years, chloride, zone_index, zones, priors=priors)
+    model = chloride_model(depth_mm, age_years, chloride, zone_index, zones, priors=priors,
+                           censored=censored)
     idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
                              target_accept=target_accept, sampler=sampler)
     names = [n for n in PARAMETER_NAMES if n in idata.posterior]

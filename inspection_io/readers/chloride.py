@@ -3,7 +3,9 @@
 Several rows share a ``profile_id``; within a profile the increments must not
 repeat or overlap. Chloride by mass of concrete is converted to by mass of
 binder with the site's ``concrete_density / binder_content``
-(`inspection_io.units.chloride_concrete_to_binder`).
+(`inspection_io.units.chloride_concrete_to_binder`). A row with ``below_limit``
+= yes gives the lab's detection limit in ``chloride``; it is stored with
+``below_limit: true`` and enters the fit as a censored value.
 """
 
 from __future__ import annotations
@@ -18,6 +20,9 @@ COLUMNS = (
     Column("depth_to", "number", "length_metric", required=True, lower=0.0, what="depth_to",
            plausible="chloride_depth"),
     Column("chloride", "number", "chloride", required=True, lower=0.0, what="chloride content"),
+    # "yes": the lab reported the content as below its detection limit, and ``chloride``
+    # gives that limit; the fit treats it as left-censored (P(C <= limit)), not as a value.
+    Column("below_limit", "bool"),
 )
 
 
@@ -62,6 +67,11 @@ def _build(row: Row) -> list[dict]:
     extra = {"depth_from": start, "depth_to": end, "depth_mid": 0.5 * (start + end),
              "chloride_as_given": row["chloride"], "chloride_unit": row.unit("chloride"),
              "depth_unit": row.unit("depth_from")}
+    if row["below_limit"]:
+        if not value > 0:
+            raise row.error("a reading below the detection limit needs the limit (> 0) in "
+                            "the chloride column", column="chloride")
+        extra["below_limit"] = True
     return [row.observation("chloride", value, "% binder", extra)]
 
 
