@@ -422,7 +422,7 @@ def test_continuous_coefficients_of_the_member(invented):
 
 
 def test_hogging_with_deck_top_loss_is_below_sagging(invented):
-    from assess.site.member_models import build_member_model
+    from assess.site.member_models import build_member_model, nominal_check
 
     site, knowledge = invented
     zone = knowledge["Z1"]
@@ -443,7 +443,10 @@ def test_hogging_with_deck_top_loss_is_below_sagging(invented):
     # ... with the deck-top loss it governs
     assert betas["hogging"] < betas_plain["hogging"] - 0.3
     assert betas["hogging"] < betas["flexure"] - 0.3
-    assert betas["shear"] < betas_plain["shear"]  # top bars are its tension steel
+    # shear beside the continuous support takes the top bars as its tension steel: at the
+    # median point its margin drops with the top-face loss (FORM on shear at beta ~6-7 is
+    # dominated by the cover tail and need not converge, so the margin is compared)
+    assert nominal_check(damaged)["shear"] < nominal_check(plain)["shear"]
     # a member-and-face population wins over the face population
     member_local = {**local, ("S1", "top"): {"area_ratio": zone["area_ratio"]}}
     again = build_member_model(site, site.members["S1"], zone, reference_period_years=1.0,
