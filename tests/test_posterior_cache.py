@@ -65,3 +65,19 @@ def test_a_damaged_file_is_set_aside_and_sampled_again(stored, damage):
     assert len(calls) == before + 1 and not again.reused and path.is_file()
     kept = list(path.parent.glob(f"{path.name}.damaged-*"))
     assert kept, "the damaged file is kept under a .damaged- name"
+
+
+def test_hash_sees_every_value_of_a_long_table():
+    """A long table differing in one middle value gets another hash (str() would abbreviate)."""
+    import numpy as np
+    import pandas as pd
+
+    from assess.updating.cache import content_hash
+
+    values = np.linspace(1.0, 2.0, 5000)
+    changed = values.copy()
+    changed[2500] += 0.5
+    for make in (lambda v: pd.DataFrame({"value": v}), pd.Series, np.asarray):
+        assert content_hash("x", {"data": make(values)}) != content_hash(
+            "x", {"data": make(changed)}
+        )

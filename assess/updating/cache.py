@@ -38,6 +38,14 @@ def plain(value: Any) -> Any:
         return [plain(v) for v in value]
     if isinstance(value, np.ndarray):
         return np.round(value, 9).tolist() if value.dtype.kind == "f" else value.tolist()
+    if hasattr(value, "to_numpy") and hasattr(value, "shape"):
+        # pandas Series/DataFrame: every value (str() would abbreviate long ones)
+        columns = getattr(value, "columns", None)
+        if columns is not None:
+            return {str(c): plain(value[c].to_numpy()) for c in columns}
+        return plain(value.to_numpy())
+    if isinstance(value, (set, frozenset)):
+        return sorted(plain(v) for v in value)
     if isinstance(value, (np.floating, float)):
         return round(float(value), 9)
     if isinstance(value, np.integer):
