@@ -230,6 +230,20 @@ class Member:
     """Direct target reliability index of this member [-] (site reference period)."""
     target_beta_reason: str | None = None
     """Why the target is set directly (required with `target_beta`)."""
+    continuous: bool = False
+    """Continuous over its supports (slabs and beams); `span` is then each equal span."""
+    span_count: int | None = None
+    """Number of equal spans of a continuous member [-] (>= 2)."""
+    span_position: str | None = None
+    """"end" or "interior": which span of a continuous run the member is."""
+    top_bar_diameter: float | None = None
+    """Diameter of the top bars over the supports [mm]."""
+    top_bar_spacing: float | None = None
+    """Spacing of the top bars over the supports [mm] (slabs)."""
+    top_steel_area: float | None = None
+    """Top steel area over the supports in the width b [mm2] (beams)."""
+    top_cover: float | None = None
+    """Nominal cover to the top bars [mm]."""
 
     @property
     def effective_depth(self) -> float:
@@ -701,10 +715,16 @@ def _target_override(s: _Schema, body: dict, path: str) -> tuple[float | None, s
 _MEMBER_COMMON = ("zone", "kind", "depth", "cover", "bar_diameter")
 _MEMBER_OPTIONAL = ("bar_spacing", "steel_area", "shear_reinforcement", "tension_face",
                     "target_beta", "target_beta_reason")
+#: Continuity over supports and the top bars there (slabs and beams); stored, checked for type.
+_CONTINUITY_KEYS = ("continuous", "span_count", "span_position", "top_bar_diameter",
+                    "top_cover")
+SPAN_POSITIONS = ("end", "interior")
 _MEMBER_KEYS = {
-    "one-way slab": (_MEMBER_COMMON + ("span",), _MEMBER_OPTIONAL + ("width",)),
+    "one-way slab": (_MEMBER_COMMON + ("span",),
+                     _MEMBER_OPTIONAL + ("width",) + _CONTINUITY_KEYS + ("top_bar_spacing",)),
     "beam": (_MEMBER_COMMON + ("span", "width"),
-             _MEMBER_OPTIONAL + ("tributary_width", "slab_depth")),
+             _MEMBER_OPTIONAL + ("tributary_width", "slab_depth") + _CONTINUITY_KEYS
+             + ("top_steel_area",)),
     "flat-slab column connection": (
         _MEMBER_COMMON + ("column_size", "position", "span_x", "span_y"),
         _MEMBER_OPTIONAL + ("width",)),
@@ -793,6 +813,7 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
                               hint=" (the slab depth is in mm and at most the beam depth)")
 
     target_beta, reason = _target_override(s, body, path)
+    continuity = _continuity(s, body, path, depth)
     return Member(
         member_id=member_id,
         zone=zone,
@@ -816,7 +837,39 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
         slab_depth=slab_depth,
         target_beta=target_beta,
         target_beta_reason=reason,
+        **continuity,
     )
+
+
+def _continuity(s: _Schema, body: dict, path: str, depth: float) -> dict:
+    """The optional continuity keys of a slab or beam, type- and range-checked (no mechanics)."""
+    out: dict[str, Any] = {}
+    if "continuous" in body:
+        out["continuous"] = s.boolean(body["continuous"], f"{path}.continuous")
+    if "span_count" in body:
+        out["span_count"] = s.integer(body["span_count"], f"{path}.span_count", 2, 100)
+    if "span_position" in body:
+        out["span_position"] = s.text(body["span_position"], f"{path}.span_position",
+                                      SPAN_POSITIONS)
+    if "top_bar_diameter" in body:
+        out["top_bar_diameter"] = s.number(body["top_bar_diameter"], f"{path}.top_bar_diameter",
+                                           3.0, 50.0, "mm", True)
+    if "top_bar_spacing" in body:
+        if "top_bar_diameter" not in body:
+            raise s.error(f"{path}.top_bar_diameter",
+                          "'top_bar_spacing' needs 'top_bar_diameter' [mm]")
+        out["top_bar_spacing"] = s.number(body["top_bar_spacing"], f"{path}.top_bar_spacing",
+                                          out["top_bar_diameter"], 1000.0, "mm",
+                                          hint=" (must exceed the top bar diameter)")
+    if "top_steel_area" in body:
+        out["top_steel_area"] = s.number(body["top_steel_area"], f"{path}.top_steel_area",
+                                         0.0, 1.0e6, "mm2")
+    if "top_cover" in body:
+        out["top_cover"] = s.number(body["top_cover"], f"{path}.top_cover", 0.0, 200.0, "mm")
+        if out["top_cover"] + out.get("top_bar_diameter", 0.0) >= depth:
+            raise s.error(f"{path}.top_cover", f"top cover + top bar diameter must be smaller "
+                                               f"than the depth ({depth:g} mm)")
+    return out
 
 
 SAMPLING_FITS = ("materials", "chloride", "carbonation", "corrosion")

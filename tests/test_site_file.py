@@ -425,3 +425,47 @@ def test_ids_are_short_labels_without_control_characters(tmp_path):
     with pytest.raises(InputError, match="unknown key") as info:
         load_site(write(tmp_path, GOOD.replace("cover = 35", "cover = 35\n" + "k" * 5000 + " = 1")))
     assert len(str(info.value)) < 1000
+
+
+def test_continuity_keys_are_stored_on_slabs_and_beams(tmp_path):
+    text = replace_line(GOOD, 'tension_face = "bottom"',
+                        'tension_face = "bottom"\ncontinuous = true\nspan_count = 3\n'
+                        'span_position = "end"\ntop_bar_diameter = 12\ntop_bar_spacing = 150\n'
+                        "top_cover = 35")
+    text = replace_line(text, "steel_area = 1473",
+                        'steel_area = 1473\ncontinuous = true\nspan_count = 4\n'
+                        'span_position = "interior"\ntop_steel_area = 1473\n'
+                        "top_bar_diameter = 25\ntop_cover = 45")
+    site = load_site(write(tmp_path, text))
+    slab, beam = site.members["S1-03"], site.members["B2-01"]
+    assert (slab.continuous, slab.span_count, slab.span_position) == (True, 3, "end")
+    assert (slab.top_bar_diameter, slab.top_bar_spacing, slab.top_cover) == (12.0, 150.0, 35.0)
+    assert (beam.span_count, beam.span_position, beam.top_steel_area) == (4, "interior", 1473.0)
+    assert not site.members["C2-04"].continuous and site.members["C2-04"].top_cover is None
+
+
+@pytest.mark.parametrize("anchor, member, lines, key, words", [
+    ("steel_area = 1473", "B2-01", "continuous = 1", "continuous", "true or false"),
+    ("steel_area = 1473", "B2-01", "span_count = 1", "span_count", "[2, 100]"),
+    ("steel_area = 1473", "B2-01", "span_count = 2.5", "span_count", "whole number"),
+    ("steel_area = 1473", "B2-01", 'span_position = "middle"', "span_position",
+     '"end" | "interior"'),
+    ("steel_area = 1473", "B2-01", "top_bar_diameter = 12\ntop_cover = 600", "top_cover",
+     "[mm]"),
+    ("bar_spacing = 150", "S1-03", "top_bar_spacing = 150", "top_bar_diameter",
+     "needs 'top_bar_diameter'"),
+    ("bar_spacing = 150", "S1-03", "top_bar_diameter = 12\ntop_cover = 190", "top_cover",
+     "smaller than the depth"),
+])
+def test_continuity_keys_are_type_checked(tmp_path, anchor, member, lines, key, words):
+    text = replace_line(GOOD, anchor, anchor + "\n" + lines)
+    with pytest.raises(InputError) as info:
+        load_site(write(tmp_path, text))
+    assert info.value.column == f"members.{member}.{key}" and words in info.value.message
+
+
+def test_top_bar_keys_of_another_kind_are_refused(tmp_path):
+    text = replace_line(GOOD, "steel_area = 1473", "steel_area = 1473\ntop_bar_spacing = 150")
+    with pytest.raises(InputError) as info:
+        load_site(write(tmp_path, text))
+    assert info.value.column == "members.B2-01.top_bar_spacing"
