@@ -25,15 +25,11 @@ Load effects
     coefficients of BS 8110-1:1997 Table 3.5 (beams) and Table 3.12 (one-way
     slabs), which continue those of CP 110:1972 (from memory):
 
-    ==============================  ==============  ==============
-    position                        beams           slabs
-    ==============================  ==============  ==============
-    end support, shear              0.45 F          0.4 F
-    near middle of end span         +0.09 F L       +0.086 F L
-    first interior support          -0.11 F L, 0.6 F  -0.086 F L, 0.6 F
-    middle of interior spans        +0.07 F L       +0.063 F L
-    interior supports               -0.08 F L, 0.55 F -0.063 F L, 0.5 F
-    ==============================  ==============  ==============
+    - end support: shear 0.45 F (beams), 0.4 F (slabs);
+    - near middle of end span: +0.09 F L (beams), +0.086 F L (slabs);
+    - first interior support: -0.11 F L and 0.6 F (beams), -0.086 F L and 0.6 F (slabs);
+    - middle of interior spans: +0.07 F L (beams), +0.063 F L (slabs);
+    - interior supports: -0.08 F L and 0.55 F (beams), -0.063 F L and 0.5 F (slabs).
 
     An "end" span is checked at its end and first interior supports; an
     "interior" span at its supports, taken as first interior supports when the

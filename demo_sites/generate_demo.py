@@ -20,8 +20,12 @@ A four-level multi-storey car park, exposed to the elements from 1 October 1974
 (``EXPOSURE_START``). Zones L1 (enclosed lower level, "internal"), L2 (covered
 deck, "sheltered soffit"), L3 (covered deck with open sides, "exposed deck") and
 L4 (roof deck, "exposed deck"). Ten members: one-way slabs, downstand beams and
-flat-slab column connections. Three inspection campaigns (2009, 2017, 2025),
-each a folder with ``campaign.toml`` and test files of several kinds.
+flat-slab column connections; several slabs and beams continuous over their
+supports with top bars there. Each member is designed to the code of its time,
+CP 110:1972 in simplified form (``design_check.py``), with a utilisation of
+0.75-0.95; the check is printed and written to truth.json (``design``). Three
+inspection campaigns (2009, 2017, 2025), each a folder with ``campaign.toml`` and
+test files of several kinds; every reading states the face it was taken on.
 
 Generating model
 ----------------
@@ -45,9 +49,12 @@ Steel yield (JCSS PMC Part 3.2): normal, mean = f_yk + 2 * 30 MPa plus a drawn
     mill deviation N(0, 15 MPa), standard deviation 30 MPa. Tensile strength =
     yield * N(1.18, 0.04); elongation N(15 %, 2 %) (invented, common practice).
 
-Cover to the top reinforcement of the deck (JCSS PMC Part 3.10 advises a
-    bounded-below distribution): gamma per zone with true mean/sd; cover-meter
+Cover (JCSS PMC Part 3.10 advises a bounded-below distribution): gamma per zone
+    and face with true mean/sd, the deck top (top bars: ``cover_mean``) and the
+    soffit (bottom bars of slabs: ``faces.bottom``, own random stream); cover-meter
     readings add N(0, 3 mm) error (BS 1881-204 accuracy of a few mm, from memory).
+    Chloride and carbonation values of a zone hold on both faces where the soffit
+    is sampled (L1, L2: sheltered on both faces).
 
 Chloride (Fick's second law, error-function solution; fib Bulletin 34 (2006)
     ageing form, from memory):
@@ -70,10 +77,15 @@ Corrosion (two-phase model, Tuutti 1982):
     - uniform penetration P = 0.0116 * i_corr * t_p [mm] (Faraday: 1 uA/cm2 ~
       11.6 um/yr), t_p = years since local initiation; i_corr per zone lognormal
       around an exposure median (Andrade & Alonso 1996 classes, from memory).
-    - max pit depth = R * P * LN(0, 0.20) (Val & Melchers 1997 pitting factor,
-      R ~ U(4, 8), from memory); break-outs are opened where corrosion is worst:
-      at bars whose cover lies in the lowest ``BREAKOUT_COVER_QUANTILE`` of the
-      zone's depassivated cover; they report residual diameter
+    - max pit depth = R * P with the pitting factor R Gumbel (EV-I) over the
+      break-out length (Stewart 2004; Stewart & Al-Harthy 2008; Val & Melchers
+      1997 for the pitting factor; from memory): scale 0.98 (alpha = 1.02 for
+      125 mm bars), location per zone such that the mean is the zone's
+      ``pitting_factor`` ~ U(4, 8). Break-outs are opened at the top bars over the
+      supports of continuous slabs and at the top bars of column connections
+      (bottom bars of a slab in a zone without top bars), where corrosion is
+      worst: at bars whose cover lies in the lowest ``BREAKOUT_COVER_QUANTILE`` of
+      that face's depassivated cover; they report residual diameter
       (D0 - 2P + N(0, 0.1 mm)) and max pit depth (+ N(0, 0.1 mm)).
     - half-cell potential (Faber & Soerensen 2002 indicator model, illustrative
       numbers): active ~ N(-420, 60) mV CSE, passive ~ N(-150, 60) mV CSE; a
@@ -93,6 +105,11 @@ References
 .. [7] M. G. Val and R. E. Melchers, J. Struct. Eng. 123(12):1638-1644, 1997
    (pitting factor).
 .. [8] M. H. Faber and J. D. Soerensen, Struct. Saf. 24:377-396, 2002.
+.. [9] M. G. Stewart, "Spatial variability of pitting corrosion and its influence
+   on structural fragility and reliability of RC beams in flexure", Struct. Saf.
+   26:453-470, 2004 (from memory).
+.. [10] CP 110:1972, "The structural use of concrete", British Standards
+   Institution (design check, from memory; see design_check.py).
 """
 
 from __future__ import annotations
