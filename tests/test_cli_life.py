@@ -37,8 +37,11 @@ def test_life_json_curves_plot_and_ledger_rows(demo_site):
     assert payload["reference"] == "annual"
     assert payload["target"]["beta"] == 4.2  # JCSS annual, CC2, normal cost of safety
     curves = payload["curves"]
+    # S3-02 is an end span of a continuous slab (site.toml): sagging, hogging over the
+    # support, shear and its system; C2-B3 a column connection: punching
     assert {(c["member"], c["mode"]) for c in curves} == {
-        ("S3-02", "flexure"), ("S3-02", "shear"), ("S3-02", "system"), ("C2-B3", "punching")}
+        ("S3-02", "flexure"), ("S3-02", "hogging"), ("S3-02", "shear"), ("S3-02", "system"),
+        ("C2-B3", "punching")}
     for c in curves:
         assert len(c["beta"]) == 31 and c["reference_period_years"] == 1.0
         assert c["remaining_life"]["text"]

@@ -458,8 +458,8 @@ def test_every_demo_member_meets_the_code_of_its_time(truth, site, generator):
         assert set(modes) == expected, member_id
         utilisations = [row["utilisation"] for row in modes.values()]
         assert max(utilisations) <= 1.0, (member_id, modes)
-        # designed, not over-designed: the governing mode uses 75-95 % of the resistance
-        assert 0.75 <= max(utilisations) <= 0.95, (member_id, modes)
+        # designed, not over-designed: the governing mode uses 65-95 % of the resistance
+        assert 0.65 <= max(utilisations) <= 0.95, (member_id, modes)
 
 
 def test_several_slabs_and_beams_are_continuous_with_top_bars(site):
