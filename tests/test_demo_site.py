@@ -436,6 +436,12 @@ def test_design_check_formulas_against_hand_figures():
         pytest.approx(0.45, abs=0.005)
     assert check.concrete_shear_stress(0.15 * 500.0 * 10, 1000.0, 500.0, 25.0) == \
         pytest.approx(0.34, abs=0.005)
+    # elastic support moments of equal spans under a UDL on all spans, in w L^2 (standard
+    # beam tables, e.g. Hicks, Civil Engineering Formulas, Table 2.1, from memory):
+    # 2 spans -1/8; 3 spans -0.100; 4 spans -0.1071, -0.0714, -0.1071
+    assert check.elastic_support_moments(2) == pytest.approx([-0.125])
+    assert check.elastic_support_moments(3) == pytest.approx([-0.100, -0.100])
+    assert check.elastic_support_moments(4) == pytest.approx([-3 / 28, -2 / 28, -3 / 28])
     # CP 110:1972 Table 1 partial factors on loads (from memory): w = 1.4 g_k + 1.6 q_k
     slab = {"kind": "one-way slab", "depth": 200, "width": 1000}
     loads = {"concrete_unit_weight": 25.0, "superimposed_dead": 1.2,
