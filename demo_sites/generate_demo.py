@@ -20,8 +20,12 @@ A four-level multi-storey car park, exposed to the elements from 1 October 1974
 (``EXPOSURE_START``). Zones L1 (enclosed lower level, "internal"), L2 (covered
 deck, "sheltered soffit"), L3 (covered deck with open sides, "exposed deck") and
 L4 (roof deck, "exposed deck"). Ten members: one-way slabs, downstand beams and
-flat-slab column connections. Three inspection campaigns (2009, 2017, 2025),
-each a folder with ``campaign.toml`` and test files of several kinds.
+flat-slab column connections; several slabs and beams continuous over their
+supports with top bars there. Each member is designed to the code of its time,
+CP 110:1972 in simplified form (``design_check.py``), with a governing utilisation
+of 0.67-0.90; the check is printed and written to truth.json (``design``). Three
+inspection campaigns (2009, 2017, 2025), each a folder with ``campaign.toml`` and
+test files of several kinds; every reading states the face it was taken on.
 
 Generating model
 ----------------
@@ -45,9 +49,12 @@ Steel yield (JCSS PMC Part 3.2): normal, mean = f_yk + 2 * 30 MPa plus a drawn
     mill deviation N(0, 15 MPa), standard deviation 30 MPa. Tensile strength =
     yield * N(1.18, 0.04); elongation N(15 %, 2 %) (invented, common practice).
 
-Cover to the top reinforcement of the deck (JCSS PMC Part 3.10 advises a
-    bounded-below distribution): gamma per zone with true mean/sd; cover-meter
+Cover (JCSS PMC Part 3.10 advises a bounded-below distribution): gamma per zone
+    and face with true mean/sd, the deck top (top bars: ``cover_mean``) and the
+    soffit (bottom bars of slabs: ``faces.bottom``, own random stream); cover-meter
     readings add N(0, 3 mm) error (BS 1881-204 accuracy of a few mm, from memory).
+    Chloride and carbonation values of a zone hold on both faces where the soffit
+    is sampled (L1, L2: sheltered on both faces).
 
 Chloride (Fick's second law, error-function solution; fib Bulletin 34 (2006)
     ageing form, from memory):
@@ -70,10 +77,15 @@ Corrosion (two-phase model, Tuutti 1982):
     - uniform penetration P = 0.0116 * i_corr * t_p [mm] (Faraday: 1 uA/cm2 ~
       11.6 um/yr), t_p = years since local initiation; i_corr per zone lognormal
       around an exposure median (Andrade & Alonso 1996 classes, from memory).
-    - max pit depth = R * P * LN(0, 0.20) (Val & Melchers 1997 pitting factor,
-      R ~ U(4, 8), from memory); break-outs are opened where corrosion is worst:
-      at bars whose cover lies in the lowest ``BREAKOUT_COVER_QUANTILE`` of the
-      zone's depassivated cover; they report residual diameter
+    - max pit depth = R * P with the pitting factor R Gumbel (EV-I) over the
+      break-out length (Stewart 2004; Stewart & Al-Harthy 2008; Val & Melchers
+      1997 for the pitting factor; from memory): scale 0.98 (alpha = 1.02 for
+      125 mm bars), location per zone such that the mean is the zone's
+      ``pitting_factor`` ~ U(4, 8). Break-outs are opened at the top bars over the
+      supports of continuous slabs and at the top bars of column connections
+      (bottom bars of a slab in a zone without top bars), where corrosion is
+      worst: at bars whose cover lies in the lowest ``BREAKOUT_COVER_QUANTILE`` of
+      that face's depassivated cover; they report residual diameter
       (D0 - 2P + N(0, 0.1 mm)) and max pit depth (+ N(0, 0.1 mm)).
     - half-cell potential (Faber & Soerensen 2002 indicator model, illustrative
       numbers): active ~ N(-420, 60) mV CSE, passive ~ N(-150, 60) mV CSE; a
@@ -93,6 +105,11 @@ References
 .. [7] M. G. Val and R. E. Melchers, J. Struct. Eng. 123(12):1638-1644, 1997
    (pitting factor).
 .. [8] M. H. Faber and J. D. Soerensen, Struct. Saf. 24:377-396, 2002.
+.. [9] M. G. Stewart, "Spatial variability of pitting corrosion and its influence
+   on structural fragility and reliability of RC beams in flexure", Struct. Saf.
+   26:453-470, 2004 (from memory).
+.. [10] CP 110:1972, "The structural use of concrete", British Standards
+   Institution (design check, from memory; see design_check.py).
 """
 
 from __future__ import annotations
@@ -100,6 +117,7 @@ from __future__ import annotations
 import argparse
 import csv
 import datetime as dt
+import importlib.util
 import io
 import json
 import math
@@ -109,7 +127,7 @@ from pathlib import Path
 import numpy as np
 from scipy import special, stats
 
-GENERATOR_VERSION = "1.0.0"
+GENERATOR_VERSION = "2.0.0"
 DEFAULT_SEED = 20261202
 SITE_FOLDER = "tanners-yard"
 EXPOSURE_START = dt.date(1974, 10, 1)
@@ -148,7 +166,19 @@ SITE_MODEL = {
     "ageing_exponent_sd": 0.12,
     "Ccrit_mean": 0.6, "Ccrit_sd": 0.15, "Ccrit_lower": 0.2, "Ccrit_upper": 2.0,
     "pitting_factor_lower": 4.0, "pitting_factor_upper": 8.0,
+    # Gumbel (EV-I) pitting factor R = max pit / uniform penetration over a bar length L0:
+    # F(R) = exp(-exp(-(R - u) / s)); s = 1 / alpha with alpha = 1.02 for L0 = 125 mm
+    # (Stewart 2004; Stewart & Al-Harthy 2008, from memory); the location u of each zone is
+    # set so that the mean u + 0.5772 s equals the zone's pitting_factor.
+    "pitting_gumbel_scale": 0.98,
+    "pitting_reference_length_mm": 125.0,
+    "breakout_exposed_length_mm": 125.0,
+    # soffit (bottom-face) cover: nominal bottom cover + N(3, 2) mm, sd U(4, 7) mm
+    "bottom_cover_offset_mean": 3.0, "bottom_cover_offset_sd": 2.0,
+    "bottom_cover_sd_lower": 4.0, "bottom_cover_sd_upper": 7.0,
 }
+#: Euler-Mascheroni constant: mean of a standard Gumbel variable (Abramowitz & Stegun 6.1.3).
+EULER_GAMMA = 0.5772156649015329
 
 #: Measurement and local-variation settings used for every file.
 MEASUREMENT = {
@@ -160,7 +190,6 @@ MEASUREMENT = {
     "halfcell_passive_mean_mV_CSE": -150.0,
     "halfcell_sd_mV": 60.0,
     "section_loss_diameter_error_sd_mm": 0.1,
-    "pit_depth_local_log_sd": 0.20,
     "pit_depth_error_sd_mm": 0.1,
     "core_strength_rounding_MPa": 0.1,
     "chloride_rounding_percent": 0.001,
@@ -169,58 +198,74 @@ MEASUREMENT = {
 #: The zones and the medians the per-zone truth is drawn around.
 ZONES = {
     "L1": {"description": "Level 1, enclosed lower level under the L2 deck; dry, no salt run-off",
-           "exposure": "internal", "temperature": 12.0, "nominal_top_cover": 25.0,
+           "exposure": "internal", "temperature": 12.0, "nominal_top_cover": 25.0, "nominal_bottom_cover": 25.0,
            "Cs_median": 0.7, "k_median": 4.0, "icorr_median": 0.15},
     "L2": {"description": "Level 2 deck, covered by L3; soffit sheltered, some salt from tyres",
-           "exposure": "sheltered soffit", "temperature": 11.0, "nominal_top_cover": 30.0,
+           "exposure": "sheltered soffit", "temperature": 11.0, "nominal_top_cover": 30.0, "nominal_bottom_cover": 25.0,
            "Cs_median": 1.6, "k_median": 3.0, "icorr_median": 0.4},
     "L3": {"description": "Level 3 deck, covered, open sides; wind-driven rain and salt run-off",
-           "exposure": "exposed deck", "temperature": 10.0, "nominal_top_cover": 30.0,
+           "exposure": "exposed deck", "temperature": 10.0, "nominal_top_cover": 30.0, "nominal_bottom_cover": 25.0,
            "Cs_median": 3.2, "k_median": 1.3, "icorr_median": 1.0},
     "L4": {"description": "Level 4 roof deck, open to the sky; de-icing salt every winter",
-           "exposure": "exposed deck", "temperature": 9.5, "nominal_top_cover": 35.0,
+           "exposure": "exposed deck", "temperature": 9.5, "nominal_top_cover": 35.0, "nominal_bottom_cover": 25.0,
            "Cs_median": 4.2, "k_median": 1.1, "icorr_median": 1.5},
 }
 
 #: The members (site.toml [members.*]); keys as in docs/data-formats.md and inspection_io.site.
+#: Slabs and beams marked ``continuous`` are one span of a run of ``span_count`` equal spans
+#: with top bars over the supports. Each member is designed to CP 110:1972 (design_check.py)
+#: with a governing utilisation of 0.67-0.90 (design_check.py).
 MEMBERS = {
     "S1-03": {"zone": "L1", "kind": "one-way slab", "span": 5.0, "depth": 200, "width": 1000,
-              "cover": 25, "bar_diameter": 12, "bar_spacing": 150,
+              "cover": 25, "bar_diameter": 16, "bar_spacing": 200,
               "shear_reinforcement": False, "tension_face": "bottom"},
     "B1-02": {"zone": "L1", "kind": "beam", "span": 7.5, "depth": 600, "width": 300,
-              "cover": 35, "bar_diameter": 25, "steel_area": 1473,
+              "cover": 35, "bar_diameter": 25, "steel_area": 1963,
               "shear_reinforcement": True, "tension_face": "bottom",
               "tributary_width": 3.0, "slab_depth": 200},
     "S2-05": {"zone": "L2", "kind": "one-way slab", "span": 4.8, "depth": 180, "width": 1000,
-              "cover": 25, "bar_diameter": 12, "bar_spacing": 175,
-              "shear_reinforcement": False, "tension_face": "bottom"},
-    "C2-B3": {"zone": "L2", "kind": "flat-slab column connection", "depth": 250, "width": 1000,
-              "cover": 30, "bar_diameter": 16, "bar_spacing": 150,
+              "cover": 25, "bar_diameter": 12, "bar_spacing": 225,
+              "shear_reinforcement": False, "tension_face": "bottom",
+              "continuous": True, "span_count": 4, "span_position": "interior",
+              "top_bar_diameter": 12, "top_bar_spacing": 125, "top_cover": 30},
+    "C2-B3": {"zone": "L2", "kind": "flat-slab column connection", "depth": 275, "width": 1000,
+              "cover": 30, "bar_diameter": 20, "bar_spacing": 125,
               "shear_reinforcement": False, "tension_face": "top",
               "column_size": [400, 400], "position": "interior", "span_x": 7.2, "span_y": 6.0},
     "S3-02": {"zone": "L3", "kind": "one-way slab", "span": 5.4, "depth": 200, "width": 1000,
-              "cover": 30, "bar_diameter": 12, "bar_spacing": 150,
-              "shear_reinforcement": False, "tension_face": "bottom"},
+              "cover": 25, "bar_diameter": 16, "bar_spacing": 250,
+              "shear_reinforcement": False, "tension_face": "bottom",
+              "continuous": True, "span_count": 3, "span_position": "end",
+              "top_bar_diameter": 12, "top_bar_spacing": 125, "top_cover": 30},
     "B3-04": {"zone": "L3", "kind": "beam", "span": 7.8, "depth": 600, "width": 300,
               "cover": 35, "bar_diameter": 25, "steel_area": 1473,
               "shear_reinforcement": True, "tension_face": "bottom",
-              "tributary_width": 3.0, "slab_depth": 200},
-    "C3-C4": {"zone": "L3", "kind": "flat-slab column connection", "depth": 250, "width": 1000,
-              "cover": 30, "bar_diameter": 16, "bar_spacing": 125,
+              "tributary_width": 3.0, "slab_depth": 200,
+              "continuous": True, "span_count": 3, "span_position": "end",
+              "top_bar_diameter": 25, "top_steel_area": 1963, "top_cover": 40},
+    "C3-C4": {"zone": "L3", "kind": "flat-slab column connection", "depth": 300, "width": 1000,
+              "cover": 30, "bar_diameter": 20, "bar_spacing": 100,
               "shear_reinforcement": False, "tension_face": "top",
-              "column_size": [400, 400], "position": "interior", "span_x": 7.2, "span_y": 7.2},
+              "column_size": [450, 450], "position": "interior", "span_x": 7.2, "span_y": 7.2},
     "S4-01": {"zone": "L4", "kind": "one-way slab", "span": 5.4, "depth": 225, "width": 1000,
-              "cover": 35, "bar_diameter": 16, "bar_spacing": 200,
-              "shear_reinforcement": False, "tension_face": "bottom"},
+              "cover": 25, "bar_diameter": 12, "bar_spacing": 150,
+              "shear_reinforcement": False, "tension_face": "bottom",
+              "continuous": True, "span_count": 3, "span_position": "end",
+              "top_bar_diameter": 12, "top_bar_spacing": 125, "top_cover": 35},
     "B4-03": {"zone": "L4", "kind": "beam", "span": 7.8, "depth": 650, "width": 300,
-              "cover": 40, "bar_diameter": 25, "steel_area": 1963,
+              "cover": 40, "bar_diameter": 20, "steel_area": 1257,
               "shear_reinforcement": True, "tension_face": "bottom",
-              "tributary_width": 3.0, "slab_depth": 225},
-    "C4-A2": {"zone": "L4", "kind": "flat-slab column connection", "depth": 275, "width": 1000,
-              "cover": 35, "bar_diameter": 16, "bar_spacing": 125,
+              "tributary_width": 3.0, "slab_depth": 225,
+              "continuous": True, "span_count": 4, "span_position": "interior",
+              "top_bar_diameter": 25, "top_steel_area": 1963, "top_cover": 45},
+    "C4-A2": {"zone": "L4", "kind": "flat-slab column connection", "depth": 300, "width": 1000,
+              "cover": 35, "bar_diameter": 20, "bar_spacing": 100,
               "shear_reinforcement": False, "tension_face": "top",
-              "column_size": [400, 300], "position": "edge", "span_x": 7.2, "span_y": 6.0},
+              "column_size": [450, 300], "position": "edge", "span_x": 7.2, "span_y": 6.0},
 }
+#: Shear links of the beams (not a site-file key; used by the design check only): legs,
+#: diameter [mm], spacing [mm] of mild-steel links.
+LINKS = {m: {"legs": 2, "diameter": 10, "spacing": 200} for m in ("B1-02", "B3-04", "B4-03")}
 
 SITE_TABLES = {
     "site": {"name": "Tanners Yard car park (invented)", "year_built": 1974,
@@ -244,10 +289,11 @@ CAMPAIGNS = (
                                  "strength_unit": "MPa", "bar_in_core": (5,)}),
          ("tensile.csv", "tensile", {"members": ("B1-02", "S2-05", "S3-02", "C4-A2"),
                                      "unit": "MPa"}),
-         ("cover.csv", "cover", {"zones": ("L1", "L2", "L3", "L4"), "n": 20}),
-         ("carbonation.csv", "carbonation", {"zones": ("L1", "L2", "L3", "L4"), "n": 6}),
+         ("cover.csv", "cover", {"zones": ("L1", "L2", "L3", "L4"), "n": 14, "n_bottom": 6}),
+         ("carbonation.csv", "carbonation", {"zones": ("L1", "L2", "L3", "L4"), "n": 6,
+                                             "soffit": {"L1": 2, "L2": 2}}),
          ("chloride.csv", "chloride", {"zones": ("L1", "L2", "L3", "L4"), "n": 3,
-                                       "unit": "% concrete"}),
+                                       "unit": "% concrete", "soffit": ("L1", "L2")}),
          ("halfcell.csv", "halfcell", {"zones": ("L2", "L3", "L4"), "n": 25, "unit": "mV CSE"}),
          ("section_loss.csv", "section_loss", {"zones": ("L3", "L4"), "n": 4}),
      )},
@@ -258,9 +304,10 @@ CAMPAIGNS = (
      "files": (
          ("cores.xlsx", "cores", {"zones": ("L2", "L3", "L4"), "n": 3, "load": True,
                                   "strength_unit": "kN", "damaged": (4,)}),
-         ("carbonation.csv", "carbonation", {"zones": ("L1", "L2", "L3", "L4"), "n": 5}),
+         ("carbonation.csv", "carbonation", {"zones": ("L1", "L2", "L3", "L4"), "n": 5,
+                                             "soffit": {"L1": 2, "L2": 2}}),
          ("chloride.csv", "chloride", {"zones": ("L1", "L2", "L3", "L4"), "n": 3,
-                                       "unit": "% cement"}),
+                                       "unit": "% cement", "soffit": ("L2",)}),
          ("halfcell.csv", "halfcell", {"zones": ("L1", "L2", "L3", "L4"), "n": 25,
                                        "unit": "mV SCE"}),
          ("section_loss.csv", "section_loss", {"zones": ("L2", "L3", "L4"), "n": 4}),
@@ -274,10 +321,11 @@ CAMPAIGNS = (
                                  "strength_unit": "N/mm2", "full_columns": True}),
          ("tensile.csv", "tensile", {"members": ("B1-02", "C2-B3", "S3-02", "B3-04", "S4-01"),
                                      "unit": "N/mm2"}),
-         ("cover.xlsx", "cover", {"zones": ("L1", "L2", "L3", "L4"), "n": 15}),
-         ("carbonation.csv", "carbonation", {"zones": ("L1", "L2", "L3", "L4"), "n": 6}),
+         ("cover.xlsx", "cover", {"zones": ("L1", "L2", "L3", "L4"), "n": 10, "n_bottom": 5}),
+         ("carbonation.csv", "carbonation", {"zones": ("L1", "L2", "L3", "L4"), "n": 6,
+                                             "soffit": {"L1": 2, "L2": 2}}),
          ("chloride.csv", "chloride", {"zones": ("L1", "L2", "L3", "L4"), "n": 3,
-                                       "unit": "% binder"}),
+                                       "unit": "% binder", "soffit": ("L1", "L2")}),
          ("halfcell.csv", "halfcell", {"zones": ("L1", "L2", "L3", "L4"), "n": 30,
                                        "unit": "mV CSE", "second_day": True}),
          ("section_loss.csv", "section_loss", {"zones": ("L1", "L2", "L3", "L4"), "n": 4}),
@@ -289,6 +337,15 @@ CHLORIDE_INCREMENTS = ((0, 10), (10, 20), (20, 30), (30, 40), (40, 50), (50, 60)
 MIN_ACTIVE_FRACTION_FOR_BREAKOUT = 0.05
 #: Break-outs are opened at bars whose cover lies in this lowest quantile of the zone [-].
 BREAKOUT_COVER_QUANTILE = 0.20
+
+
+def design_check_module():
+    """The design check (demo_sites/design_check.py), loaded from beside this script."""
+    path = Path(__file__).resolve().parent / "design_check.py"
+    spec = importlib.util.spec_from_file_location("demo_design_check", path)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
 
 
 # --------------------------------------------------------------------------- small helpers
@@ -387,10 +444,15 @@ def initiation_time(zone: dict, cover):
     return np.minimum(initiation_time_chloride(zone, cover), carbonation)
 
 
-def cover_distribution(zone: dict):
-    """Frozen scipy gamma distribution of the top cover in a zone [mm]."""
-    shape = (zone["cover_mean"] / zone["cover_sd"]) ** 2
-    return stats.gamma(shape, scale=zone["cover_sd"] ** 2 / zone["cover_mean"])
+def cover_distribution(zone: dict, face: str = "top"):
+    """Frozen scipy gamma distribution of the cover on one face of a zone [mm].
+
+    "top": the deck-top cover (``cover_mean``, ``cover_sd``); "bottom": the soffit cover
+    (``faces.bottom``).
+    """
+    values = zone if face == "top" else zone["faces"][face]
+    shape = (values["cover_mean"] / values["cover_sd"]) ** 2
+    return stats.gamma(shape, scale=values["cover_sd"] ** 2 / values["cover_mean"])
 
 
 def active_fraction(zone: dict, t) -> float:
@@ -451,6 +513,30 @@ def draw_truth(rng: np.random.Generator) -> dict:
     return {"site": site, "zones": zones}
 
 
+def draw_face_truth(rng: np.random.Generator, truth: dict) -> None:
+    """Add the soffit cover and the Gumbel pitting parameters to every zone (in place).
+
+    Drawn from a stream of their own, so that the zone values of `draw_truth` do not
+    depend on them. ``faces.top`` repeats the zone's deck-top cover; ``faces.bottom`` is
+    the soffit cover over the bottom bars of the slabs. Chloride and carbonation values
+    of a zone hold for every face sampled (soffit samples are taken in L1 and L2 only,
+    sheltered on both faces).
+    """
+    m = SITE_MODEL
+    scale = m["pitting_gumbel_scale"]
+    for zone_id, zone in truth["zones"].items():
+        bottom_mean = ZONES[zone_id]["nominal_bottom_cover"] + rng.normal(
+            m["bottom_cover_offset_mean"], m["bottom_cover_offset_sd"])
+        zone["faces"] = {
+            "top": {"cover_mean": zone["cover_mean"], "cover_sd": zone["cover_sd"]},
+            "bottom": {"cover_mean": _sig(bottom_mean),
+                       "cover_sd": _sig(rng.uniform(m["bottom_cover_sd_lower"],
+                                                    m["bottom_cover_sd_upper"]))},
+        }
+        zone["pitting_gumbel_location"] = _sig(zone["pitting_factor"] - EULER_GAMMA * scale)
+        zone["pitting_gumbel_scale"] = scale
+
+
 TRUTH_UNITS = {
     "mu_log_fc": "ln(MPa), in-situ cylinder strength", "sigma_log_fc": "-", "tau_log_fc": "-",
     "steel_mean": "MPa", "steel_sd": "MPa", "cover_mean": "mm", "cover_sd": "mm",
@@ -458,6 +544,8 @@ TRUTH_UNITS = {
     "D_ref": "mm2/yr (1e-12 m2/s = 31.56 mm2/yr)", "t_ref": "years", "ageing_exponent": "-",
     "initiation_time": "years since exposure_start, at cover_mean",
     "carbonation_k": "mm/sqrt(yr)", "i_corr": "uA/cm2", "pitting_factor": "-",
+    "pitting_gumbel_location": "-", "pitting_gumbel_scale": "-",
+    "faces": "face -> cover_mean, cover_sd [mm] (top = deck top, bottom = soffit)",
     "age": "years since exposure_start",
 }
 
@@ -469,6 +557,32 @@ def _members_in(zone_id: str, kinds=("one-way slab", "flat-slab column connectio
 
 def _cycle(items: list, n: int) -> list:
     return [items[i % len(items)] for i in range(n)]
+
+
+def _soffit_members(zone_id: str) -> list:
+    """Members whose soffit (bottom bars) is surveyed: the zone's slabs, else any member."""
+    return _members_in(zone_id, ("one-way slab",)) or _members_in(zone_id)
+
+
+def breakout_sites(zone_id: str) -> list:
+    """(member, face, bar diameter [mm]) where a zone's break-outs are opened.
+
+    The top bars over the supports of continuous slabs and the top bars of column
+    connections, where chloride from the deck reaches first; a zone without top bars
+    (L1: simply supported slab) is opened at the bottom bars of its slabs.
+    """
+    sites = []
+    for member_id, spec in MEMBERS.items():
+        if spec["zone"] != zone_id:
+            continue
+        if spec["kind"] == "one-way slab" and spec.get("continuous"):
+            sites.append((member_id, "top", float(spec["top_bar_diameter"])))
+        elif spec["kind"] == "flat-slab column connection":
+            sites.append((member_id, "top", float(spec["bar_diameter"])))
+    if not sites:
+        sites = [(m, "bottom", float(MEMBERS[m]["bar_diameter"]))
+                 for m in _members_in(zone_id, ("one-way slab",))]
+    return sites
 
 
 def make_cores(rng, truth, campaign, options):
@@ -544,27 +658,51 @@ def make_tensile(rng, truth, campaign, options):
     return header, rows, {}
 
 
+def _face_counts(rows: list, zone_column: int, face_column: int) -> dict:
+    """zone -> face -> number of rows (recorded in truth.json for each file)."""
+    counts: dict = {}
+    for row in rows:
+        zone = counts.setdefault(row[zone_column], {})
+        zone[row[face_column]] = zone.get(row[face_column], 0) + 1
+    return counts
+
+
 def make_cover(rng, truth, campaign, options):
-    """Cover-meter survey of the top reinforcement: gamma cover + N(0, 3 mm) reading error."""
-    tag, n = campaign["tag"], options["n"]
+    """Cover-meter survey of the deck top (top bars) and the soffit (bottom bars of slabs).
+
+    Each face's gamma cover (``cover_mean``/``cover_sd`` on top, ``faces.bottom`` on the
+    soffit) + N(0, 3 mm) reading error.
+    """
+    tag = campaign["tag"]
     header = ["location_id", "zone", "member", "cover [mm]", "face"]
     rows = []
     for zone_id in options["zones"]:
         zone = truth["zones"][zone_id]
-        true_cover = cover_distribution(zone).rvs(size=n, random_state=rng)
-        reading = np.maximum(true_cover + rng.normal(0.0, MEASUREMENT["cover_error_sd_mm"], n),
-                             0.0)
-        members = _cycle(_members_in(zone_id), n)
-        rows += [[f"CV{tag}-{zone_id}-{i + 1:02d}", zone_id, members[i], _fmt(reading[i], 0),
-                  "top"] for i in range(n)]
-    return header, rows, {}
+        number = 0
+        for face, n, members in (("top", options["n"], _members_in(zone_id)),
+                                 ("bottom", options.get("n_bottom", 0), _soffit_members(zone_id))):
+            if n == 0:
+                continue
+            true_cover = cover_distribution(zone, face).rvs(size=n, random_state=rng)
+            reading = np.maximum(
+                true_cover + rng.normal(0.0, MEASUREMENT["cover_error_sd_mm"], n), 0.0)
+            members = _cycle(members, n)
+            for i in range(n):
+                number += 1
+                rows.append([f"CV{tag}-{zone_id}-{number:02d}", zone_id, members[i],
+                             _fmt(reading[i], 0), face])
+    return header, rows, {"faces": _face_counts(rows, 1, 4)}
 
 
 def make_carbonation(rng, truth, campaign, options):
-    """Phenolphthalein depths: k sqrt(t) with local variation and reading error."""
+    """Phenolphthalein depths: k sqrt(t) with local variation and reading error.
+
+    Taken on the deck top, and on the soffit in the zones of ``options["soffit"]`` (the
+    zone's k holds on both faces there).
+    """
     tag, n = campaign["tag"], options["n"]
     t = age_years(campaign["date"])
-    header = ["location_id", "zone", "member", "carbonation_depth [mm]"]
+    header = ["location_id", "zone", "member", "carbonation_depth [mm]", "face"]
     rows = []
     for zone_id in options["zones"]:
         zone = truth["zones"][zone_id]
@@ -572,21 +710,28 @@ def make_carbonation(rng, truth, campaign, options):
         depth = zone["carbonation_k"] * math.sqrt(t) * local + rng.normal(
             0.0, MEASUREMENT["carbonation_reading_sd_mm"], n)
         depth = np.maximum(depth, 0.0)
-        members = _cycle(_members_in(zone_id), n)
-        rows += [[f"CB{tag}-{zone_id}-{i + 1:02d}", zone_id, members[i], _fmt(depth[i], 0)]
-                 for i in range(n)]
-    return header, rows, {}
+        soffit = options.get("soffit", {}).get(zone_id, 0)
+        faces = ["top"] * (n - soffit) + ["bottom"] * soffit
+        members = _cycle(_members_in(zone_id), n - soffit) + _cycle(_soffit_members(zone_id),
+                                                                   soffit)
+        rows += [[f"CB{tag}-{zone_id}-{i + 1:02d}", zone_id, members[i], _fmt(depth[i], 0),
+                  faces[i]] for i in range(n)]
+    return header, rows, {"faces": _face_counts(rows, 1, 4)}
 
 
 def make_chloride(rng, truth, campaign, options):
-    """Chloride profiles: increment means of the erfc profile times a lognormal error."""
+    """Chloride profiles: increment means of the erfc profile times a lognormal error.
+
+    Profiles are ground from the deck top; in the zones of ``options["soffit"]`` the last
+    profile is ground from the soffit (the zone's chloride values hold on both faces there).
+    """
     tag, n, unit = campaign["tag"], options["n"], options["unit"]
     t = age_years(campaign["date"])
     materials = SITE_TABLES["materials"]
     to_unit = (materials["binder_content"] / materials["concrete_density"]
                if unit == "% concrete" else 1.0)
     header = ["profile_id", "zone", "member", "depth_from [mm]", "depth_to [mm]",
-              f"chloride [{unit}]"]
+              f"chloride [{unit}]", "face"]
     x1 = np.array([a for a, _ in CHLORIDE_INCREMENTS], float)
     x2 = np.array([b for _, b in CHLORIDE_INCREMENTS], float)
     rows = []
@@ -595,19 +740,22 @@ def make_chloride(rng, truth, campaign, options):
         mean = chloride_increment_mean(zone, x1, x2, t)
         members = _cycle(_members_in(zone_id), n)
         for p in range(n):
+            face = "bottom" if zone_id in options.get("soffit", ()) and p == n - 1 else "top"
+            member = _soffit_members(zone_id)[0] if face == "bottom" else members[p]
             value = mean * np.exp(MEASUREMENT["chloride_error_log_sd"]
                                   * rng.standard_normal(len(x1))) * to_unit
-            rows += [[f"P{tag}-{zone_id}-{p + 1}", zone_id, members[p], _fmt(x1[j], 0),
-                      _fmt(x2[j], 0), _fmt(value[j], 3)] for j in range(len(x1))]
-    return header, rows, {}
+            rows += [[f"P{tag}-{zone_id}-{p + 1}", zone_id, member, _fmt(x1[j], 0),
+                      _fmt(x2[j], 0), _fmt(value[j], 3), face] for j in range(len(x1))]
+    return header, rows, {"faces": _face_counts(rows[::len(x1)], 1, 6)}
 
 
 def make_halfcell(rng, truth, campaign, options):
-    """Half-cell grid: active where the local cover has depassivated, else passive."""
+    """Half-cell grid on the deck top: active where the local top cover has depassivated."""
     tag, n, unit = campaign["tag"], options["n"], options["unit"]
     offset = {"mV CSE": 0.0, "mV SCE": 75.0}[unit]   # E_SCE = E_CSE + 75 mV (common practice)
     second_day = options.get("second_day", False)
-    header = ["location_id", "zone"] + (["date"] if second_day else []) + [f"potential [{unit}]"]
+    header = (["location_id", "zone"] + (["date"] if second_day else [])
+              + [f"potential [{unit}]", "face"])
     rows = []
     for zone_id in options["zones"]:
         zone = truth["zones"][zone_id]
@@ -624,41 +772,62 @@ def make_halfcell(rng, truth, campaign, options):
         for i in range(n):
             date = [days[i].isoformat()] if second_day else []
             rows.append([f"H{tag}-{zone_id}-{i + 1:02d}", zone_id] + date
-                        + [_fmt(potential[i], 0)])
-    return header, rows, {}
+                        + [_fmt(potential[i], 0), "top"])
+    return header, rows, {"faces": _face_counts(rows, 1, len(header) - 1)}
+
+
+def gumbel_pitting_factor(zone: dict, rng: np.random.Generator, n: int):
+    """Pitting factors R = max pit / uniform penetration over one break-out [-].
+
+    Gumbel (EV-I) with the zone's location and scale at the reference length L0; a
+    break-out exposing length L has location u + s ln(L / L0) (maximum of L / L0
+    independent lengths; Stewart 2004, from memory). R is at least 1 (a pit is never
+    shallower than the uniform loss).
+    """
+    m = SITE_MODEL
+    location = zone["pitting_gumbel_location"] + zone["pitting_gumbel_scale"] * math.log(
+        m["breakout_exposed_length_mm"] / m["pitting_reference_length_mm"])
+    return np.maximum(rng.gumbel(location, zone["pitting_gumbel_scale"], n), 1.0)
 
 
 def make_section_loss(rng, truth, campaign, options):
-    """Break-outs at corroding bars: residual diameter and max pit depth (Faraday, pitting R)."""
+    """Break-outs at corroding bars: residual diameter and max pit depth.
+
+    Opened at the top bars over the supports of continuous slabs and at the top bars of
+    column connections (`breakout_sites`), where corrosion is worst: bars whose cover is
+    in the lowest quantile of the depassivated cover of that face. Uniform penetration
+    from Faraday's law, the deepest pit R times it with R Gumbel (`gumbel_pitting_factor`).
+    """
     tag, n = campaign["tag"], options["n"]
     t = age_years(campaign["date"])
     header = ["breakout_id", "zone", "member", "bar_diameter [mm]", "residual_diameter [mm]",
-              "max_pit_depth [mm]"]
+              "max_pit_depth [mm]", "face"]
     rows = []
     for zone_id in options["zones"]:
         zone = truth["zones"][zone_id]
-        distribution = cover_distribution(zone)
+        sites = _cycle(breakout_sites(zone_id), n)
+        face = sites[0][1]
+        distribution = cover_distribution(zone, face)
         reach = float(depassivation_depth(zone, t))
         if distribution.cdf(reach) < MIN_ACTIVE_FRACTION_FOR_BREAKOUT:
             continue
         # break-outs go where corrosion is worst (most negative potentials, spalls): bars with
-        # the least cover, i.e. the zone's gamma truncated to its lowest depassivated quantile
+        # the least cover, i.e. the face's gamma truncated to its lowest depassivated quantile
         upper = min(BREAKOUT_COVER_QUANTILE, float(distribution.cdf(reach)))
         cover = distribution.ppf(rng.uniform(0.0, upper, n))
         t_p = np.maximum(t - initiation_time(zone, cover), 0.0)
         penetration = PENETRATION_PER_ICORR * zone["i_corr"] * t_p
-        members = _cycle(_members_in(zone_id), n)
-        d0 = np.array([MEMBERS[m]["bar_diameter"] for m in members], float)
+        d0 = np.array([d for _, _, d in sites], float)
         residual = d0 - 2.0 * penetration + rng.normal(
             0.0, MEASUREMENT["section_loss_diameter_error_sd_mm"], n)
-        pit = (zone["pitting_factor"] * penetration
-               * np.exp(MEASUREMENT["pit_depth_local_log_sd"] * rng.standard_normal(n))
+        pit = (gumbel_pitting_factor(zone, rng, n) * penetration
                + rng.normal(0.0, MEASUREMENT["pit_depth_error_sd_mm"], n))
         residual = np.clip(residual, 0.0, d0)
         pit = np.clip(pit, 0.0, d0)
-        rows += [[f"BO{tag}-{zone_id}-{i + 1}", zone_id, members[i], _fmt(d0[i], 0),
-                  _fmt(residual[i], 1), _fmt(pit[i], 1)] for i in range(n)]
-    return header, rows, {}
+        rows += [[f"BO{tag}-{zone_id}-{i + 1}", zone_id, sites[i][0], _fmt(d0[i], 0),
+                  _fmt(residual[i], 1), _fmt(pit[i], 1), sites[i][1]]
+                 for i in range(n)]
+    return header, rows, {"faces": _face_counts(rows, 1, 6)}
 
 
 MAKERS = {"cores": make_cores, "tensile": make_tensile, "cover": make_cover,
@@ -775,13 +944,18 @@ def generate(out: str | Path, seed: int = DEFAULT_SEED) -> dict:
         The content of ``truth.json``.
     """
     out = Path(out)
-    streams = np.random.SeedSequence(seed).spawn(1 + len(CAMPAIGNS))
+    # one stream for the zone truth, one per campaign, one for the face and pitting truth
+    # (spawned last, so that the earlier streams are those of generator version 1)
+    streams = np.random.SeedSequence(seed).spawn(2 + len(CAMPAIGNS))
     truth = draw_truth(np.random.default_rng(streams[0]))
+    draw_face_truth(np.random.default_rng(streams[-1]), truth)
+    checker = design_check_module()
+    design = checker.check_all(MEMBERS, SITE_TABLES["loads"], LINKS)
     (out / "campaigns").mkdir(parents=True, exist_ok=True)
     (out / "site.toml").write_bytes(site_toml().encode("utf-8"))
 
     campaigns_record, flagged = {}, {}
-    for campaign, stream in zip(CAMPAIGNS, streams[1:]):
+    for campaign, stream in zip(CAMPAIGNS, streams[1:1 + len(CAMPAIGNS)]):
         rng = np.random.default_rng(stream)
         folder = out / "campaigns" / campaign["folder"]
         folder.mkdir(parents=True, exist_ok=True)
@@ -798,7 +972,8 @@ def generate(out: str | Path, seed: int = DEFAULT_SEED) -> dict:
             else:
                 write_csv(folder / file_name, header, rows)
             files[file_name] = {"kind": kind, "rows": len(rows),
-                                **({"unit": options["unit"]} if "unit" in options else {})}
+                                **({"unit": options["unit"]} if "unit" in options else {}),
+                                **({"faces": extra["faces"]} if "faces" in extra else {})}
         t = age_years(campaign["date"])
         campaigns_record[campaign["folder"]] = {
             "name": campaign["name"], "date": campaign["date"].isoformat(), "age": _sig(t, 6),
@@ -841,13 +1016,31 @@ def generate(out: str | Path, seed: int = DEFAULT_SEED) -> dict:
         "corrosion_model": {
             "initiation": "C(cover, t) >= Ccrit or carbonation_k sqrt(t) >= cover",
             "penetration_mm_per_year_per_uA_cm2": PENETRATION_PER_ICORR,
-            "max_pit_depth": "pitting_factor * penetration * LN(0, pit_depth_local_log_sd)",
+            "max_pit_depth": "R * penetration, R ~ Gumbel(pitting_gumbel_location + "
+                             "pitting_gumbel_scale ln(L / L0), pitting_gumbel_scale), R >= 1; "
+                             "mean of R at L0 = pitting_factor",
+            "pitting_reference_length_mm": SITE_MODEL["pitting_reference_length_mm"],
+            "breakout_exposed_length_mm": SITE_MODEL["breakout_exposed_length_mm"],
+            "pitting_source": "Gumbel pitting factor, Stewart 2004 and Stewart & Al-Harthy "
+                              "2008 (alpha = 1.02 for 125 mm bars, from memory)",
             "breakout_min_active_fraction": MIN_ACTIVE_FRACTION_FOR_BREAKOUT,
-            "breakout_cover": "zone gamma truncated to quantiles [0, min(breakout_cover_quantile, "
-                              "active_fraction)]",
+            "breakout_sites": {z: [[m, f, d] for m, f, d in breakout_sites(z)] for z in ZONES},
+            "breakout_cover": "the face's gamma truncated to quantiles [0, min("
+                              "breakout_cover_quantile, active_fraction of that face)]",
             "breakout_cover_quantile": BREAKOUT_COVER_QUANTILE,
         },
         "measurement_error": MEASUREMENT,
+        "design": {
+            "code": "CP 110:1972 limit-state design, simplified (demo_sites/design_check.py; "
+                    "rules from memory, v_c in the closed form of BS 8110-1 Table 3.8)",
+            "partial_factors": {"dead": checker.GAMMA_F_DEAD,
+                                "imposed": checker.GAMMA_F_IMPOSED,
+                                "concrete": checker.GAMMA_M_CONCRETE,
+                                "steel": checker.GAMMA_M_STEEL},
+            "f_cu": checker.F_CU, "f_y": checker.F_Y, "f_yv": checker.F_YV,
+            "links": LINKS,
+            "utilisation": design,
+        },
         "campaigns": campaigns_record,
     }
     text = json.dumps(record, indent=2, sort_keys=False, allow_nan=False) + "\n"
@@ -862,7 +1055,9 @@ def main(argv: list[str] | None = None) -> None:
     parser.add_argument("--seed", type=int, default=DEFAULT_SEED,
                         help=f"random seed (default {DEFAULT_SEED})")
     args = parser.parse_args(argv)
-    generate(args.out, args.seed)
+    record = generate(args.out, args.seed)
+    print(f"Design check ({record['design']['code']}):")
+    print(design_check_module().utilisation_table(record["design"]["utilisation"]))
 
 
 if __name__ == "__main__":

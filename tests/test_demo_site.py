@@ -30,12 +30,12 @@ DATA_SUFFIXES = (".csv", ".xlsx")
 
 ZONE_KEYS = {"exposure", "mu_log_fc", "sigma_log_fc", "steel_mean", "steel_sd", "cover_mean",
              "cover_sd", "Cs", "D_ref", "ageing_exponent", "t_ref", "C0", "Ccrit",
-             "initiation_time", "i_corr", "pitting_factor", "carbonation_k"}
+             "initiation_time", "i_corr", "pitting_factor", "carbonation_k",
+             "pitting_gumbel_location", "pitting_gumbel_scale", "faces"}
 MEASUREMENT_KEYS = {"cover_error_sd_mm", "chloride_error_log_sd", "carbonation_local_log_sd",
                     "carbonation_reading_sd_mm", "halfcell_active_mean_mV_CSE",
                     "halfcell_passive_mean_mV_CSE", "halfcell_sd_mV",
-                    "section_loss_diameter_error_sd_mm", "pit_depth_local_log_sd",
-                    "pit_depth_error_sd_mm"}
+                    "section_loss_diameter_error_sd_mm", "pit_depth_error_sd_mm"}
 #: ASTM C876 threshold below which corrosion is likely (> 90 %) [mV CSE] (from memory).
 ASTM_C876_ACTIVE = -350.0
 
@@ -374,13 +374,16 @@ def test_halfcell_active_share_matches_truth_and_grows(truth):
 def test_cover_and_carbonation_surveys_match_truth(truth):
     for _, path in campaign_files("cover"):
         rows, _ = read_rows(path, "cover")
-        by_zone = defaultdict(list)
+        by_face = defaultdict(list)
         for row in rows:
-            by_zone[row["zone"]].append(float(row["cover"]))
-        for zone_id, values in by_zone.items():
-            zone = truth["zones"][zone_id]
-            spread = math.hypot(zone["cover_sd"], truth["measurement_error"]["cover_error_sd_mm"])
-            assert abs(np.mean(values) - zone["cover_mean"]) < 3.0 * spread / math.sqrt(len(values))
+            by_face[row["zone"], row["face"]].append(float(row["cover"]))
+        assert {face for _, face in by_face} == {"top", "bottom"}
+        for (zone_id, face), values in by_face.items():
+            population = truth["zones"][zone_id]["faces"][face]
+            spread = math.hypot(population["cover_sd"],
+                                truth["measurement_error"]["cover_error_sd_mm"])
+            assert abs(np.mean(values) - population["cover_mean"]) < \
+                3.0 * spread / math.sqrt(len(values)), (path.parent.name, zone_id, face)
     for age, path in campaign_files("carbonation"):
         rows, _ = read_rows(path, "carbonation")
         by_zone = defaultdict(list)
@@ -406,3 +409,129 @@ def test_every_demo_file_reads_without_error(site):
                                         concrete_density=site.materials.concrete_density,
                                         known_zones=list(site.zones), known_members=members)
             assert len(result.observations) > 0, path
+
+
+# --------------------------------------------------------------------------- design, faces, pits
+def _design_check():
+    spec = importlib.util.spec_from_file_location("demo_design_check",
+                                                  REPO / "demo_sites" / "design_check.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def test_design_check_formulas_against_hand_figures():
+    check = _design_check()
+    # CP 110:1972 3.3.5.3 (from memory), by hand: T12 at 125 mm (904.8 mm2/m), b = 1000,
+    # d = 169 mm, f_cu = 37, f_y = 410: z = 169 (1 - 1.1 x 410 x 904.8 / (37 x 1000 x 169))
+    # = 157.97 mm <= 0.95 d; M_u = 0.87 x 410 x 904.8 x 157.97 = 50.98 kNm
+    assert check.flexural_resistance(904.8, 1000.0, 169.0) == pytest.approx(50.98, abs=0.02)
+    # lever arm capped at 0.95 d for little steel: 0.87 x 410 x 100 x 0.95 x 169 = 5.727 kNm
+    assert check.flexural_resistance(100.0, 1000.0, 169.0) == pytest.approx(5.727, abs=0.002)
+    # concrete limit 0.15 f_cu b d^2 = 0.15 x 37 x 300 x 500^2 = 416.25 kNm
+    assert check.flexural_resistance(6000.0, 300.0, 500.0) == pytest.approx(416.25)
+    # BS 8110-1:1997 Table 3.8, grade 25 (from memory): 100 As/bd = 0.15 gives 0.45 N/mm2 at
+    # d = 125 mm and 0.34 N/mm2 at d >= 400 mm (values rounded to 0.01 in the table)
+    assert check.concrete_shear_stress(0.15 * 125.0 * 10, 1000.0, 125.0, 25.0) == \
+        pytest.approx(0.45, abs=0.005)
+    assert check.concrete_shear_stress(0.15 * 500.0 * 10, 1000.0, 500.0, 25.0) == \
+        pytest.approx(0.34, abs=0.005)
+    # elastic support moments of equal spans under a UDL on all spans, in w L^2 (standard
+    # beam tables, e.g. Hicks, Civil Engineering Formulas, Table 2.1, from memory):
+    # 2 spans -1/8; 3 spans -0.100; 4 spans -0.1071, -0.0714, -0.1071
+    assert check.elastic_support_moments(2) == pytest.approx([-0.125])
+    assert check.elastic_support_moments(3) == pytest.approx([-0.100, -0.100])
+    assert check.elastic_support_moments(4) == pytest.approx([-3 / 28, -2 / 28, -3 / 28])
+    # CP 110:1972 Table 1 partial factors on loads (from memory): w = 1.4 g_k + 1.6 q_k
+    slab = {"kind": "one-way slab", "depth": 200, "width": 1000}
+    loads = {"concrete_unit_weight": 25.0, "superimposed_dead": 1.2,
+             "imposed_characteristic": 2.5}
+    assert check.design_load(slab, loads) == pytest.approx(1.4 * 6.2 + 1.6 * 2.5)
+
+
+def test_every_demo_member_meets_the_code_of_its_time(truth, site, generator):
+    design = truth["design"]["utilisation"]
+    assert set(design) == set(site.members)
+    # the committed truth is the check of the committed members (nothing stale)
+    fresh = _design_check().check_all(generator.MEMBERS, generator.SITE_TABLES["loads"],
+                                      generator.LINKS)
+    assert fresh == design
+    for member_id, modes in design.items():
+        member = site.members[member_id]
+        expected = ({"punching"} if member.kind == "flat-slab column connection" else
+                    {"flexure sagging", "shear with links" if member.shear_reinforcement
+                     else "shear"} | ({"flexure hogging"} if member.continuous else set()))
+        assert set(modes) == expected, member_id
+        utilisations = [row["utilisation"] for row in modes.values()]
+        assert max(utilisations) <= 1.0, (member_id, modes)
+        # designed, not over-designed: the governing mode uses 65-95 % of the resistance
+        assert 0.65 <= max(utilisations) <= 0.95, (member_id, modes)
+
+
+def test_several_slabs_and_beams_are_continuous_with_top_bars(site):
+    continuous = [m for m in site.members.values() if m.continuous]
+    assert {m.kind for m in continuous} == {"one-way slab", "beam"}
+    assert len(continuous) >= 4 and {m.span_position for m in continuous} == {"end", "interior"}
+    for m in continuous:
+        assert m.span_count >= 3 and m.top_cover is not None and m.top_bar_diameter
+        assert (m.top_bar_spacing if m.kind == "one-way slab" else m.top_steel_area)
+        assert m.top_cover >= m.cover  # deck-top cover at least the soffit cover
+    assert any(not m.continuous for m in site.members.values() if m.kind != CONNECTION)
+
+
+CONNECTION = "flat-slab column connection"
+
+
+def test_readings_state_their_face(truth):
+    faces = defaultdict(set)
+    for kind in ("cover", "carbonation", "chloride", "halfcell", "section_loss"):
+        for _, path in campaign_files(kind):
+            rows, _ = read_rows(path, kind)
+            assert all(row["face"] in ("top", "bottom") for row in rows), path
+            faces[kind] |= {(row["zone"], row["face"]) for row in rows}
+    # deck-top chloride and carbonation on the exposed decks, some soffit samples elsewhere
+    for kind in ("chloride", "carbonation"):
+        assert {("L3", "top"), ("L4", "top"), ("L1", "bottom"), ("L2", "bottom")} <= faces[kind]
+    assert {f for _, f in faces["cover"]} == {"top", "bottom"}
+    assert {f for _, f in faces["halfcell"]} == {"top"}
+    # truth.json counts the rows of each face
+    for folder, record in truth["campaigns"].items():
+        for name, info in record["files"].items():
+            if "faces" in info:
+                assert sum(sum(z.values()) for z in info["faces"].values()) <= info["rows"]
+
+
+def test_breakouts_open_the_top_bars_of_continuous_members_with_pits(site):
+    rows_seen = 0
+    for _, path in campaign_files("section_loss"):
+        rows, _ = read_rows(path, "section_loss")
+        for row in rows:
+            member = site.members[row["member"]]
+            if row["face"] == "top":
+                assert member.continuous or member.kind == CONNECTION
+                expected = member.top_bar_diameter if member.continuous else member.bar_diameter
+            else:  # a zone without top bars (L1): the bottom bars of a slab
+                assert member.kind == "one-way slab" and not member.continuous
+                expected = member.bar_diameter
+            assert float(row["bar_diameter"]) == expected
+            uniform = (float(row["bar_diameter"]) - float(row["residual_diameter"])) / 2.0
+            if row["zone"] in ("L3", "L4"):
+                rows_seen += 1
+                # the deepest pit exceeds the uniform loss (pitting factor R >= 1), within
+                # the readings' errors (0.1 mm on pit and diameter, 0.05 mm rounding)
+                assert float(row["max_pit_depth"]) > uniform - 0.3, row
+    assert rows_seen >= 16
+
+
+def test_gumbel_pitting_factor_has_the_truth_mean(generator, truth):
+    # Gumbel (EV-I) mean = location + 0.5772 scale (Abramowitz & Stegun 6.1.3; scipy gumbel_r)
+    for zone in truth["zones"].values():
+        mean = stats.gumbel_r(zone["pitting_gumbel_location"], zone["pitting_gumbel_scale"]).mean()
+        assert mean == pytest.approx(zone["pitting_factor"], abs=1e-3)
+    zone = truth["zones"]["L3"]
+    draws = generator.gumbel_pitting_factor(zone, np.random.default_rng(3), 100_000)
+    reference = stats.gumbel_r(zone["pitting_gumbel_location"], zone["pitting_gumbel_scale"])
+    # standard error of a mean of 1e5 draws: scale x pi / sqrt(6) / sqrt(1e5); 4 of them
+    sd = zone["pitting_gumbel_scale"] * math.pi / math.sqrt(6.0)
+    assert abs(draws.mean() - reference.mean()) < 4.0 * sd / math.sqrt(draws.size)
+    assert stats.kstest(draws, reference.cdf).pvalue > 0.001
