@@ -65,9 +65,13 @@ def test_every_member_has_a_system_beta_against_the_cc2_annual_target(job):
     for r in rows:
         # JCSS PMC Part 1 / ISO 2394 Annex G: CC2, normal cost of safety -> 4.2 (annual)
         assert r["target"] == pytest.approx(4.2)
-        assert r["verdict"] in ("meets target", "below target")
-        if r["beta_after"] is not None:
+        assert r["verdict"] in ("meets target", "below target", "undecided")
+        if r["beta_after"] is not None and r["verdict"] != "undecided":
+            # a decided verdict agrees with beta and with its whole interval
             assert (r["verdict"] == "meets target") == (r["beta_after"] >= 4.2)
+            low, high = r["interval_after"]
+            if low is not None and high is not None:
+                assert (low >= 4.2) if r["verdict"] == "meets target" else (high < 4.2)
 
 
 def test_system_beta_never_exceeds_its_weakest_mode(job):

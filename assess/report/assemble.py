@@ -35,6 +35,13 @@ def _fmt_beta(beta) -> str:
     return format_beta(beta, minus_infinity="-")
 
 
+def _fmt_interval(interval) -> str:
+    low, high = interval
+    if low is None or high is None or math.isnan(low) or math.isnan(high):
+        return "-"
+    return f"{_fmt_beta(low)}-{_fmt_beta(high)}"
+
+
 def build_report(run) -> tuple[ReportDocument, dict]:
     """The report document and the dictionary of all its numbers, from a `SiteRun`.
 
@@ -197,11 +204,18 @@ def _section_members(doc, run) -> list:
         f"Beta before uses the design information only; beta after uses the site's evidence. "
         f"Both use the same loads, model uncertainties and random numbers. Method: "
         f"{a.method.replace('_', ' ')}; CoV is the coefficient of variation of the pf estimate. "
-        f"A member system fails when any of its modes fails.")
+        f"A member system fails when any of its modes fails. The interval is the range of "
+        f"beta from the sampling error of the estimate alone (95 %, shared over the repeated "
+        f"looks when it is sampled again; JSON: interval_level); the verdict is 'undecided' "
+        f"when it straddles the target after sampling again up to "
+        f"{a.max_calls if a.max_calls is not None else 'no further'} limit-state calls; a "
+        f"change within the noise of both estimates reads 'no significant change'.")
     rows = []
     for r in a.results:
         rows.append({"member": r.member, "mode": r.mode, "beta before": _fmt_beta(r.before.beta),
                      "beta after": _fmt_beta(r.after.beta),
+                     "interval after": _fmt_interval(r.interval_after),
+                     "change": r.change,
                      "CoV after": r.after.cov if math.isfinite(r.after.cov) else None,
                      "target": r.target, "verdict": r.verdict,
                      "main drivers": ", ".join(f"{n} ({v:.2f})" for n, v in r.drivers())})
