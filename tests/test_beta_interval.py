@@ -13,6 +13,7 @@ import math
 
 import numpy as np
 import pytest
+from reference_problems import linear_normal, linear_standard_normal
 from scipy import stats
 
 from assess.reliability.crude import crude_monte_carlo
@@ -32,7 +33,6 @@ from assess.reliability.interval import (
 )
 from assess.reliability.result import ReliabilityResult, beta_from_pf
 from assess.reliability.subset import subset_simulation
-from reference_problems import linear_normal, linear_standard_normal
 
 ALPHA = 0.001
 """Chance that a correct estimator exceeds an allowed count (binomial 99.9 % point)."""

@@ -235,7 +235,9 @@ def _section_life(doc, run) -> object:
     rows = life.table_rows()
     if rows:
         sec.add_table(rows, caption="Remaining life per member (first year beta falls below the target)")
-        sec.add_figure(life_figure(life), caption="Beta per year against the target")
+        sec.add_figure(life_figure(life), caption="Beta per year against the target; shaded: "
+                       "the parameter band (5-95 % over the posterior parameters); dashed: the "
+                       "sampling band of the estimate")
     return life.to_dict()
 
 
