@@ -90,6 +90,20 @@ def test_parameter_band_matches_the_closed_form_quantiles():
     assert life.latest - life.earliest < 0.25 * (life.parameter_high - life.parameter_low)
 
 
+def test_conditional_estimates_average_to_the_predictive_pf():
+    # Law of total probability: E_m[pf(t | m)] = pf(t) (closed form of the predictive curve).
+    # Checked at three times with 4 standard errors of the mean over the K draws (their
+    # spread includes the conditional estimates' own noise).
+    draws = 200
+    result = estimate(12, draws)
+    conditional = result.parameter_pf["g"]
+    for j in (0, 40, 80):
+        exact = stats.norm.sf((M0 - C * TIMES[j] - MU_S) / math.hypot(S_M, SIGMA))
+        mean = conditional[:, j].mean()
+        se = conditional[:, j].std(ddof=1) / math.sqrt(draws)
+        assert abs(mean - exact) <= 4 * se, (j, mean, exact, se)
+
+
 def test_parameter_band_covers_the_generating_life_counted_over_seeds():
     # Each seed: a fresh band from K = 40 draws and one "true" m drawn from the distribution
     # that generated it. With sample quantiles X(2), X(38) of 40 draws, the expected content
