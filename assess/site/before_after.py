@@ -288,9 +288,12 @@ def assess_members(
                 problem_after = models["after"].problem(group)
 
                 def rerun(k, _problem=problem_after, _member=member_id, _label=label):
-                    return run_method(_problem, method,
-                                      seed=_analysis_seed(seed, _member, f"{_label}#{k}"),
-                                      **options)
+                    return run_method(
+                        _problem,
+                        method,
+                        seed=_analysis_seed(seed, _member, f"{_label}#{k}"),
+                        **options,
+                    )
 
                 after, _, level = sample_until_decided(after, rerun, own_target.beta, max_calls)
                 if update.after is update.before:
@@ -317,11 +320,23 @@ def assess_members(
             progress(member_id)
     undecided = [f"{r.member} {r.mode}" for r in results if r.verdict == "undecided"]
     if undecided:
-        budget = (f"within the budget of {max_calls} limit-state calls per verdict"
-                  if max_calls is not None else "with one run per estimate")
-        notes.append(f"Undecided {budget} (the interval of beta after straddles the target): "
-                     f"{', '.join(undecided)}.")
+        budget = (
+            f"within the budget of {max_calls} limit-state calls per verdict"
+            if max_calls is not None
+            else "with one run per estimate"
+        )
+        notes.append(
+            f"Undecided {budget} (the interval of beta after straddles the target): "
+            f"{', '.join(undecided)}."
+        )
     return Assessment(
-        results, target, period, notes, method, seed, options, getattr(update, "data_hash", ""),
+        results,
+        target,
+        period,
+        notes,
+        method,
+        seed,
+        options,
+        getattr(update, "data_hash", ""),
         max_calls=max_calls,
     )

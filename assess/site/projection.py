@@ -151,12 +151,20 @@ def parameter_names(model) -> list:
     """Names of the model's parameter variables: ``<q>.precision`` and ``<q>.location`` of
     every population (`assess.updating.to_model`) and the zone's corrosion initiation time
     and rate (`assess.site.corrosion`)."""
-    return [n for n in model.random_names
-            if n.endswith(PARAMETER_SUFFIXES) or n in (INITIATION_NAME, RATE_NAME)]
+    return [
+        n
+        for n in model.random_names
+        if n.endswith(PARAMETER_SUFFIXES) or n in (INITIATION_NAME, RATE_NAME)
+    ]
 
 
-def _conditional_centres(centres: np.ndarray, betas: np.ndarray, theta: np.ndarray,
-                         p_cols: np.ndarray, a_cols: np.ndarray) -> np.ndarray:
+def _conditional_centres(
+    centres: np.ndarray,
+    betas: np.ndarray,
+    theta: np.ndarray,
+    p_cols: np.ndarray,
+    a_cols: np.ndarray,
+) -> np.ndarray:
     """(K, J, d_a) sampling centres of the other variables given each parameter draw.
 
     Linearised limit state of centre j: beta_j - alpha_j.u = 0 with alpha_j = u*_j / beta_j;
@@ -178,8 +186,9 @@ def _conditional_centres(centres: np.ndarray, betas: np.ndarray, theta: np.ndarr
     return out
 
 
-def _parameter_curves(model, limit_state_at, times, groups, centres, betas, names,
-                      n_draws, per_draw, rng):
+def _parameter_curves(
+    model, limit_state_at, times, groups, centres, betas, names, n_draws, per_draw, rng
+):
     """pf(t | theta_k) of every group for ``n_draws`` parameter draws (see the module notes)."""
     p_cols = np.array([model.random_names.index(n) for n in names], dtype=int)
     a_cols = np.setdiff1d(np.arange(model.dim), p_cols)
@@ -187,8 +196,9 @@ def _parameter_curves(model, limit_state_at, times, groups, centres, betas, name
     cond = _conditional_centres(centres, betas, theta, p_cols, a_cols)
     n_centres = cond.shape[1]
     component = rng.integers(0, n_centres, size=(n_draws, per_draw))
-    ua = (cond[np.arange(n_draws)[:, None], component]
-          + rng.standard_normal((n_draws, per_draw, a_cols.size)))
+    ua = cond[np.arange(n_draws)[:, None], component] + rng.standard_normal(
+        (n_draws, per_draw, a_cols.size)
+    )
     squared = ((ua[:, :, None, :] - cond[:, None, :, :]) ** 2).sum(axis=3)
     log_h = logsumexp(-0.5 * squared, axis=2) - math.log(n_centres)
     weights = np.exp(-0.5 * (ua * ua).sum(axis=2) - log_h)  # (K, M)
@@ -351,11 +361,24 @@ def estimate_curves(
     parameter_pf: dict = {}
     if parameters and len(parameters) < model.dim:
         n_parameter_draws = check_int(n_parameter_draws, "n_parameter_draws", caller, 2)
-        per_draw = (max(n_samples // SAMPLES_PER_DRAW_FRACTION, 100) if samples_per_draw is None
-                    else check_int(samples_per_draw, "samples_per_draw", caller, 10))
+        per_draw = (
+            max(n_samples // SAMPLES_PER_DRAW_FRACTION, 100)
+            if samples_per_draw is None
+            else check_int(samples_per_draw, "samples_per_draw", caller, 10)
+        )
         betas = np.array([c["beta"] for c in info], dtype=float)
-        parameter_pf = _parameter_curves(model, limit_state_at, times, groups, centres, betas,
-                                         parameters, n_parameter_draws, per_draw, rng)
+        parameter_pf = _parameter_curves(
+            model,
+            limit_state_at,
+            times,
+            groups,
+            centres,
+            betas,
+            parameters,
+            n_parameter_draws,
+            per_draw,
+            rng,
+        )
         n_calls += n_parameter_draws * per_draw * times.size
     return CurveEstimate(
         times=times,
@@ -507,8 +530,9 @@ class RemainingLife:
         return clean
 
 
-def remaining_life(times, beta, lower, upper, target: float,
-                   parameter_life: tuple[float, float] | None = None) -> RemainingLife:
+def remaining_life(
+    times, beta, lower, upper, target: float, parameter_life: tuple[float, float] | None = None
+) -> RemainingLife:
     """Remaining life from beta(t) and its sampling band (times from the assessment date)
     [yr]; ``parameter_life`` = (low, high) of the parameter band (`parameter_band`)."""
     times = np.asarray(times, dtype=float)
@@ -628,13 +652,15 @@ class LifeCurve:
             "beta_upper": values(self.beta_upper),
             "sampling_band": {
                 "what": f"beta -/+ {BAND_STANDARD_ERRORS:g} standard errors of the sampling "
-                        "estimate of this curve (not the uncertainty of the member)",
+                "estimate of this curve (not the uncertainty of the member)",
                 "lower": values(self.beta_lower),
                 "upper": values(self.beta_upper),
             },
-            "parameter_band": None if self.parameter_lower is None else {
+            "parameter_band": None
+            if self.parameter_lower is None
+            else {
                 "what": "5 % and 95 % quantile of beta(t) over draws of the population and "
-                        "corrosion parameters from their posterior",
+                "corrosion parameters from their posterior",
                 "quantiles": list(PARAMETER_BAND),
                 "draws": self.parameter_draws,
                 "lower": values(self.parameter_lower),
@@ -855,7 +881,8 @@ def project_member(
         parameter_life = None
         if label in estimate.parameter_pf:
             p_low, p_high, life_low, life_high = parameter_band(
-                estimate.parameter_pf[label], times, target.beta)
+                estimate.parameter_pf[label], times, target.beta
+            )
             band, parameter_life = (p_low, p_high), (life_low, life_high)
         governing = label
         if label == "system":
@@ -882,8 +909,9 @@ def project_member(
                 beta_lower=lower,
                 beta_upper=upper,
                 target=target,
-                remaining_life=remaining_life(times, beta, lower, upper, target.beta,
-                                              parameter_life),
+                remaining_life=remaining_life(
+                    times, beta, lower, upper, target.beta, parameter_life
+                ),
                 governing_mode=governing,
                 corrosion=inputs.to_dict(),
                 n_samples=estimate.n_samples,
