@@ -204,3 +204,11 @@ def test_change_text_and_standard_error():
 def test_looks_level_is_bonferroni():
     assert looks_level(0.95, 1) == pytest.approx(0.95)
     assert looks_level(0.95, 10) == pytest.approx(0.995)
+
+
+def test_portfolio_action_does_not_call_an_undecided_member_safe():
+    from assess.portfolio.summary import recommended_action
+
+    member = {"beta_now": 4.21, "target": 4.2, "verdict": "undecided"}
+    assert recommended_action({}, member).startswith("check: undecided")
+    assert recommended_action({}, {**member, "verdict": "meets target"}).startswith("keep")
