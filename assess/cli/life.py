@@ -87,14 +87,13 @@ def life_command(
     target = life.target
     table = Table(title=f"Remaining life: annual beta(t) against the annual target "
                         f"{target.beta:.1f}, horizon {horizon:g} years")
-    for col in ("member", "governing mode", "beta now", "beta at horizon", "remaining life",
-                "parameter band (90 %)", "sampling band", "reference"):
+    for col in ("member", "mode", "beta now", "beta at horizon", "remaining life",
+                "parameters 5-95 %", "sampling"):
         table.add_column(col, justify="right" if col.startswith("beta") else "left")
     for c in life.main:
         table.add_row(c.member, c.governing_mode, _fmt_beta(c.beta_now),
                       _fmt_beta(float(c.beta[-1])), c.remaining_life.text().split(" (")[0],
-                      c.remaining_life.parameter_text(), c.remaining_life.sampling_text(),
-                      "annual")
+                      c.remaining_life.parameter_text(), c.remaining_life.sampling_text())
     out_console.print(table)
     err_console.print(f"Target: {target.beta:.2f} per year ({target.source}).", highlight=False,
                       markup=False)
