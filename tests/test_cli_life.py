@@ -58,7 +58,9 @@ def test_life_table_says_annual(demo_site):
     assert result.exit_code == 0, result.stderr
     assert "S4-01" in result.stdout and "annual" in result.stdout
     assert "annual reliability index" in result.stderr
-    assert "parameter" in result.stdout and "sampling" in result.stdout  # both bands
+    # both bands, named in the note, each in its own column (7 columns: 6 inner borders)
+    assert "Parameter band" in result.stderr and "Sampling band" in result.stderr
+    assert result.stdout.splitlines()[1].count("┳") == 6
 
 
 def test_life_bad_input_exits_2(demo_site):
