@@ -164,21 +164,22 @@ def members_command(
     target = assessment.target
     table = Table(title=f"Reliability index beta per member ({target.reference_period_years:g}-year "
                         f"reference period) against the target {target.beta:.1f}")
-    for col in ("member", "mode", "beta before", "interval", "beta after", "interval ",
-                "change", "verdict", "main drivers (alpha^2)"):
-        table.add_column(col, justify="right" if col.startswith(("beta", "interval", "change"))
+    for col in ("member", "mode", "beta before", "beta after", "change", "verdict",
+                "main drivers (alpha^2)"):
+        table.add_column(col, justify="right" if col.startswith(("beta", "change"))
                          else "left")
     for r in assessment.results:
         drivers = ", ".join(f"{n} {a:.2f}" for n, a in r.drivers())
-        table.add_row(r.member, r.mode, _fmt_beta(r.before.beta), fmt_interval(r.interval_before),
-                      _fmt_beta(r.after.beta), fmt_interval(r.interval_after), r.change,
-                      r.verdict, drivers)
+        table.add_row(r.member, r.mode,
+                      f"{_fmt_beta(r.before.beta)}\n{fmt_interval(r.interval_before)}",
+                      f"{_fmt_beta(r.after.beta)}\n{fmt_interval(r.interval_after)}",
+                      r.change, r.verdict, drivers)
     out_console.print(table)
     levels = sorted({r.interval_level for r in assessment.results})
-    err_console.print("Intervals: the range of beta from the sampling error of each estimate "
-                      "(not the uncertainty of the structure), 95 % before; after at the level "
-                      f"its verdict used ({', '.join(f'{v:.2%}' for v in levels)}: 95 % shared "
-                      "over the repeated looks the budget allows). 'undecided' when the interval "
+    err_console.print("Under each beta, its interval: the range from the sampling error of the "
+                      "estimate (not the uncertainty of the structure), 95 % before; after at "
+                      "the level its verdict used (95 %, shared over the repeated looks the "
+                      f"budget allows: up to {max(levels, default=0.95):.2%}). 'undecided' when the interval "
                       "straddles the target; a change within the noise of both estimates shows "
                       "as 'no significant change'.", highlight=False, markup=False)
     if assessment.undecided:
