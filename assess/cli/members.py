@@ -40,7 +40,11 @@ def fmt_interval(interval) -> str:
     low, high = interval
     if low is None or high is None or math.isnan(low) or math.isnan(high):
         return "-"
-    return f"({format_beta(low, no_failure='>8')}-{format_beta(high, no_failure='>8')})"
+    if math.isinf(high) and high > 0:  # no failed sample: only a lower bound
+        return f"(>= {format_beta(low)})"
+    if math.isinf(low) and low < 0:  # pf may reach 1: only an upper bound
+        return f"(<= {format_beta(high)})"
+    return f"({format_beta(low)} - {format_beta(high)})"
 
 
 def _fmt_cov(value: float) -> str:
@@ -167,7 +171,7 @@ def members_command(
     for col in ("member", "mode", "beta before", "beta after", "change", "verdict",
                 "main drivers (alpha^2)"):
         table.add_column(col, justify="right" if col.startswith(("beta", "change"))
-                         else "left")
+                         else "left", overflow="fold" if col.startswith("beta") else "ellipsis")
     for r in assessment.results:
         drivers = ", ".join(f"{n} {a:.2f}" for n, a in r.drivers())
         table.add_row(r.member, r.mode,
