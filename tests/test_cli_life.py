@@ -50,6 +50,11 @@ def test_life_json_curves_plot_and_ledger_rows(demo_site):
     for c in curves:
         assert len(c["beta"]) == 31 and c["reference_period_years"] == 1.0
         assert c["remaining_life"]["text"]
+        # two bands, each named for what it is (issue 13)
+        assert "sampling" in c["sampling_band"]["what"]
+        assert c["parameter_band"]["draws"] >= 2 and "parameters" in c["parameter_band"]["what"]
+        assert len(c["parameter_band"]["lower"]) == 31
+        assert c["remaining_life"]["parameter_band"] != "-"
     assert len(ledger_rows(demo_site)) == before + len(curves)
     assert all(p.endswith(".png") for p in payload["plots"])
     assert {z["origin"] for z in payload["corrosion"].values()} == {"posterior"}
@@ -61,6 +66,9 @@ def test_life_table_says_annual(demo_site):
     assert result.exit_code == 0, result.stderr
     assert "S4-01" in result.stdout and "annual" in result.stdout
     assert "annual reliability index" in result.stderr
+    # both bands, named in the note, each in its own column (7 columns: 6 inner borders)
+    assert "Parameter band" in result.stderr and "Sampling band" in result.stderr
+    assert result.stdout.splitlines()[1].count("┳") == 6
 
 
 def test_life_bad_input_exits_2(demo_site):

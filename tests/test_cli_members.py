@@ -79,7 +79,7 @@ CORES_CSV = ("zone,member,core_id,diameter [mm],length [mm],strength [MPa]\n"
 
 PNG_MAGIC = b"\x89PNG\r\n\x1a\n"  # PNG specification (ISO/IEC 15948), file signature
 
-VERDICTS = {"meets target", "below target"}  # assess.targets.verdict
+VERDICTS = {"meets target", "below target", "undecided"}  # assess.reliability.interval
 
 
 def run(*args):
@@ -145,6 +145,16 @@ def test_members_json_has_every_mode_and_the_system(first_members_run):
         brittle = r["mode"] in ("shear", "punching", "system")
         expected = stats.norm.isf(stats.norm.sf(site_beta) / 10.0) if brittle else site_beta
         assert r["target"] == pytest.approx(expected)
+        # the verdict reads the interval of beta after: wholly above / below / straddling
+        low, high = r["interval_after"]
+        if low is not None and high is not None:
+            assert low <= r["beta_after"] <= high
+            expected = ("meets target" if low >= r["target"] else "below target"
+                        if high < r["target"] else "undecided")
+            assert r["verdict"] == expected
+        assert r["n_calls"] >= 1 and r["change"]
+    assert set(payload["undecided"]) == {f"{r['member']} {r['mode']}" for r in rows
+                                         if r["verdict"] == "undecided"}
     # a series system is no more reliable than its weakest mode: pf_sys >= max pf_i
     # (Ditlevsen 1979 simple bounds). Both are subset-simulation estimates; the tolerance
     # is 3 standard errors of beta, sd(beta) ~ CoV(pf) Phi(-beta) / phi(beta) (delta method).

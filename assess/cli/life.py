@@ -53,8 +53,9 @@ def life_command(
     zone's corrosion initiation time and rate updated from break-outs and
     half-cell surveys). beta(t) is the ANNUAL reliability index of year t (annual
     maximum load, resistance of year t), compared with the annual target. The
-    remaining life is the first year with beta below the target; its band comes
-    from the sampling error of the estimate only. Results are appended to the ledger.
+    remaining life is the first year with beta below the target, with two bands: the
+    spread over the posterior of the population and corrosion parameters, and the
+    sampling error of the estimate. Results are appended to the ledger.
     """
     from assess.report.figures import life_figure
     from assess.report.files import save_figure
@@ -86,18 +87,22 @@ def life_command(
     target = life.target
     table = Table(title=f"Remaining life: annual beta(t) against the annual target "
                         f"{target.beta:.1f}, horizon {horizon:g} years")
-    for col in ("member", "governing mode", "beta now", "beta at horizon", "remaining life (band)",
-                "reference"):
+    for col in ("member", "mode", "beta now", "beta at horizon", "remaining life",
+                "parameters 5-95 %", "sampling"):
         table.add_column(col, justify="right" if col.startswith("beta") else "left")
     for c in life.main:
         table.add_row(c.member, c.governing_mode, _fmt_beta(c.beta_now),
-                      _fmt_beta(float(c.beta[-1])), c.remaining_life.text(), "annual")
+                      _fmt_beta(float(c.beta[-1])), c.remaining_life.text().split(" (")[0],
+                      c.remaining_life.parameter_text(), c.remaining_life.sampling_text())
     out_console.print(table)
     err_console.print(f"Target: {target.beta:.2f} per year ({target.source}).", highlight=False,
                       markup=False)
     err_console.print("beta(t) is an annual reliability index (annual maximum load, resistance "
-                      "of year t); the band is +/- 2 standard errors of the sampling estimate, "
-                      "not the uncertainty of the models.", highlight=False, markup=False)
+                      "of year t). Parameter band: 5 % to 95 % of the remaining life over what "
+                      "the tests leave uncertain about the populations and the corrosion "
+                      "parameters. Sampling band: +/- 2 standard errors of the estimate of the "
+                      "curve, only how precisely it was computed.", highlight=False,
+                      markup=False)
     for zone, c in life.corrosion.items():
         err_console.print(f"Zone {zone}: t_i median {c.initiation_median:.1f} yr, i_corr median "
                           f"{c.rate_median:.3g} uA/cm2 ({c.origin}).", highlight=False,

@@ -20,6 +20,7 @@ from assess.cli.options import (
     SiteFolder,
     TargetAcceptOption,
     TuneOption,
+    VerdictCallsOption,
     load_checked_site,
     make_settings,
 )
@@ -32,6 +33,18 @@ METHOD_NAMES = ("subset_simulation", "auto", "form", "sorm", "importance_samplin
 
 def _fmt_beta(value: float) -> str:
     return format_beta(value, no_failure="> 8 (no failure found)")
+
+
+def fmt_interval(interval) -> str:
+    """"(4.05-4.38)" for a 95 % interval of beta; "-" when there is none (FORM, SORM)."""
+    low, high = interval
+    if low is None or high is None or math.isnan(low) or math.isnan(high):
+        return "-"
+    if math.isinf(high) and high > 0:  # no failed sample: only a lower bound
+        return f"(>= {format_beta(low)})"
+    if math.isinf(low) and low < 0:  # pf may reach 1: only an upper bound
+        return f"(<= {format_beta(high)})"
+    return f"({format_beta(low)} - {format_beta(high)})"
 
 
 def _fmt_cov(value: float) -> str:
@@ -115,6 +128,7 @@ def members_command(
         tune: TuneOption = None, target_accept: TargetAcceptOption = None,
         sampler: SamplerOption = None, sampling: SamplingOption = None,
         quick: QuickFlag = False, samples: SamplesOption = None,
+        verdict_calls: VerdictCallsOption = None,
         method: Annotated[str, typer.Option("--method", help="Reliability method: "
                                             + ", ".join(METHOD_NAMES) + ".")] = "subset_simulation",
         plots: Annotated[bool, typer.Option("--plots/--no-plots",
@@ -132,7 +146,7 @@ def members_command(
 
     run = new_run(folder, seed=seed, quick=quick, draws=draws, tune=tune,
                   target_accept=target_accept, sampler=sampler, sampling=sampling,
-                  reliability_samples=samples, method=method)
+                  reliability_samples=samples, method=method, verdict_calls=verdict_calls)
     assessment = run_with_status(run, "members")
     update = run.result("materials")
     figure_paths = []
@@ -155,16 +169,29 @@ def members_command(
     table = Table(title=f"Reliability index beta per member ({target.reference_period_years:g}-year "
                         f"reference period) against the target of each mode (site "
                         f"{target.beta:.1f}; brittle modes stricter)")
-    for col in ("member", "mode", "beta before", "CoV", "beta after", "CoV ", "target",
-                "verdict", "main drivers (alpha^2)"):
-        table.add_column(col, justify="right" if col.startswith(("beta", "CoV", "target"))
-                         else "left")
+    for col in ("member", "mode", "beta before", "beta after", "change", "target", "verdict",
+                "main drivers (alpha^2)"):
+        table.add_column(col, justify="right" if col.startswith(("beta", "change", "target"))
+                         else "left", overflow="fold" if col.startswith("beta") else "ellipsis")
     for r in assessment.results:
         drivers = ", ".join(f"{n} {a:.2f}" for n, a in r.drivers())
-        table.add_row(r.member, r.mode, _fmt_beta(r.before.beta), _fmt_cov(r.before.cov),
-                      _fmt_beta(r.after.beta), _fmt_cov(r.after.cov), f"{r.target:.2f}",
-                      r.verdict, drivers)
+        table.add_row(r.member, r.mode,
+                      f"{_fmt_beta(r.before.beta)}\n{fmt_interval(r.interval_before)}",
+                      f"{_fmt_beta(r.after.beta)}\n{fmt_interval(r.interval_after)}",
+                      r.change, f"{r.target:.2f}", r.verdict, drivers)
     out_console.print(table)
+    levels = sorted({r.interval_level for r in assessment.results})
+    err_console.print("Under each beta, its interval: the range from the sampling error of the "
+                      "estimate (not the uncertainty of the structure), 95 % before; after at "
+                      "the level its verdict used (95 %, shared over the repeated looks the "
+                      f"budget allows: up to {max(levels, default=0.95):.2%}). 'undecided' when the interval "
+                      "straddles the target; a change within the noise of both estimates shows "
+                      "as 'no significant change'.", highlight=False, markup=False)
+    if assessment.undecided:
+        err_console.print("Still undecided: " + ", ".join(f"{r.member} {r.mode}"
+                                                           for r in assessment.undecided)
+                          + " (raise --verdict-calls to sample further).", highlight=False,
+                          markup=False)
     if not update.has_data:
         err_console.print("No test data has been used yet: 'after' equals 'before'. Import "
                           "campaign files with 'assess site import'.", highlight=False,

@@ -34,6 +34,11 @@ QuickFlag = Annotated[bool, typer.Option("--quick", help="Smaller runs for a fir
                                          "level (the convergence gate still applies).")]
 SamplesOption = Annotated[Optional[int], typer.Option(
     "--samples", help="Samples per subset-simulation level for the member betas.")]
+VerdictCallsOption = Annotated[Optional[int], typer.Option(
+    "--verdict-calls", help="Budget of limit-state calls per member verdict: while the 95 % "
+                            "interval of beta straddles the target, the estimate is sampled "
+                            "again with new random numbers until decided or this is spent "
+                            "(default 60000; 20000 with --quick; 0 = one run, never repeated).")]
 
 MAX_SUBSET_SAMPLES = 1_000_000
 
@@ -71,4 +76,4 @@ def make_settings(site, *, seed: int = DEFAULT_SEED, quick: bool = False,
 
 __all__ = ["DrawsOption", "JsonFlag", "QuickFlag", "SamplerOption", "SamplesOption",
            "SamplingOption", "SeedOption", "SiteFolder", "TargetAcceptOption", "TuneOption",
-           "check_samples", "load_checked_site", "make_settings"]
+           "VerdictCallsOption", "check_samples", "load_checked_site", "make_settings"]

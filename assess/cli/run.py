@@ -8,7 +8,7 @@ import typer
 from rich.table import Table
 
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
-from assess.cli.members import _fmt_beta
+from assess.cli.members import _fmt_beta, fmt_interval
 from assess.cli.options import (
     DrawsOption,
     JsonFlag,
@@ -20,6 +20,7 @@ from assess.cli.options import (
     SiteFolder,
     TargetAcceptOption,
     TuneOption,
+    VerdictCallsOption,
     load_checked_site,
     make_settings,
 )
@@ -32,6 +33,7 @@ def run_command(folder: SiteFolder, seed: SeedOption = DEFAULT_SEED, draws: Draw
                 tune: TuneOption = None, target_accept: TargetAcceptOption = None,
                 sampler: SamplerOption = None, sampling: SamplingOption = None,
                 quick: QuickFlag = False, samples: SamplesOption = None,
+                verdict_calls: VerdictCallsOption = None,
                 history: Annotated[bool, typer.Option("--history/--no-history",
                                                       help="Re-assess campaign by campaign.")] = True,
                 json_output: JsonFlag = False):
@@ -53,7 +55,8 @@ def run_command(folder: SiteFolder, seed: SeedOption = DEFAULT_SEED, draws: Draw
     site = load_checked_site(folder)
     settings = make_settings(site, seed=seed, quick=quick, draws=draws, tune=tune,
                              target_accept=target_accept, sampler=sampler, sampling=sampling,
-                             reliability_samples=samples, history=history)
+                             reliability_samples=samples, history=history,
+                             verdict_calls=verdict_calls)
     with Progress(SpinnerColumn(), TextColumn("{task.description}"), TimeElapsedColumn(),
                   console=err_console, transient=False) as progress:
         current = {"task": None}
@@ -91,12 +94,12 @@ def run_command(folder: SiteFolder, seed: SeedOption = DEFAULT_SEED, draws: Draw
 def _print_members(assessment) -> None:
     target = assessment.target
     table = Table(title=f"Member systems: beta after updating against the target {target.beta:.1f}")
-    for col in ("member", "mode", "beta before", "beta after", "verdict"):
+    for col in ("member", "mode", "beta before", "beta after", "interval", "verdict"):
         table.add_column(col)
     results = assessment.results
     for r in results:
         if r.mode == "system" or not any(o.member == r.member and o.mode == "system"
                                          for o in results):
             table.add_row(r.member, r.mode, _fmt_beta(r.before.beta), _fmt_beta(r.after.beta),
-                          r.verdict)
+                          fmt_interval(r.interval_after), r.verdict)
     out_console.print(table)

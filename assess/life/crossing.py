@@ -51,3 +51,29 @@ def target_crossing_time(times: Any, beta: Any, beta_target: float) -> float:
     if not np.isfinite(b0):
         return float(t[i - 1])
     return float(t[i - 1] + (b0 - beta_target) / (b0 - b1) * (t[i] - t[i - 1]))
+
+
+def crossing_times(times: Any, beta: Any, beta_target: float) -> np.ndarray:
+    """`target_crossing_time` of each row of ``beta`` (shape (K, T)), vectorised [years].
+
+    NaN for a row that never falls below the target; ``times[0]`` for a row that
+    starts below it.
+    """
+    t = _as_1d(times, "times")
+    b = np.asarray(beta, dtype=float)
+    if b.ndim != 2 or b.shape[1] != t.size:
+        raise InputError(f"beta must have shape (K, {t.size}), got {b.shape}.", column="beta")
+    below = b < beta_target
+    has = below.any(axis=1)
+    i = np.argmax(below, axis=1)
+    out = np.full(b.shape[0], np.nan)
+    rows = np.arange(b.shape[0])
+    first = has & (i == 0)
+    out[first] = t[0]
+    later = has & (i > 0)
+    r, k = rows[later], i[later]
+    b0, b1 = b[r, k - 1], b[r, k]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        fraction = np.where(np.isfinite(b0), (b0 - beta_target) / (b0 - b1), 0.0)
+    out[later] = t[k - 1] + fraction * (t[k] - t[k - 1])
+    return out

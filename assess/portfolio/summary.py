@@ -23,6 +23,8 @@ def recommended_action(summary: dict, member: dict | None) -> str:
         return "act: below target (compare actions in a decisions.toml)"
     if group == ranking.NO_RESULT:
         return "check: no reliability result"
+    if member.get("verdict") == "undecided":
+        return "check: undecided against the target (sample further: --verdict-calls)"
     return "keep as is (meets target)"
 
 

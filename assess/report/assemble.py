@@ -35,6 +35,17 @@ def _fmt_beta(beta) -> str:
     return format_beta(beta, minus_infinity="-")
 
 
+def _fmt_interval(interval) -> str:
+    low, high = interval
+    if low is None or high is None or math.isnan(low) or math.isnan(high):
+        return "-"
+    if math.isinf(high) and high > 0:  # no failed sample: only a lower bound
+        return f">= {_fmt_beta(low)}"
+    if math.isinf(low) and low < 0:  # pf may reach 1: only an upper bound
+        return f"<= {_fmt_beta(high)}"
+    return f"{_fmt_beta(low)}-{_fmt_beta(high)}"
+
+
 def build_report(run) -> tuple[ReportDocument, dict]:
     """The report document and the dictionary of all its numbers, from a `SiteRun`.
 
@@ -202,11 +213,18 @@ def _section_members(doc, run) -> list:
         f"Beta before uses the design information only; beta after uses the site's evidence. "
         f"Both use the same loads, model uncertainties and random numbers. Method: "
         f"{a.method.replace('_', ' ')}; CoV is the coefficient of variation of the pf estimate. "
-        f"A member system fails when any of its modes fails.")
+        f"A member system fails when any of its modes fails. The interval is the range of "
+        f"beta from the sampling error of the estimate alone (95 %, shared over the repeated "
+        f"looks when it is sampled again; JSON: interval_level); the verdict is 'undecided' "
+        f"when it straddles the target after sampling again up to "
+        f"{a.max_calls if a.max_calls is not None else 'no further'} limit-state calls; a "
+        f"change within the noise of both estimates reads 'no significant change'.")
     rows = []
     for r in a.results:
         rows.append({"member": r.member, "mode": r.mode, "beta before": _fmt_beta(r.before.beta),
                      "beta after": _fmt_beta(r.after.beta),
+                     "interval after": _fmt_interval(r.interval_after),
+                     "change": r.change,
                      "CoV after": r.after.cov if math.isfinite(r.after.cov) else None,
                      "target": r.target, "verdict": r.verdict,
                      "main drivers": ", ".join(f"{n} ({v:.2f})" for n, v in r.drivers())})
@@ -226,7 +244,9 @@ def _section_life(doc, run) -> object:
     rows = life.table_rows()
     if rows:
         sec.add_table(rows, caption="Remaining life per member (first year beta falls below the target)")
-        sec.add_figure(life_figure(life), caption="Beta per year against the target")
+        sec.add_figure(life_figure(life), caption="Beta per year against the target; shaded: "
+                       "the parameter band (5-95 % over the posterior parameters); dashed: the "
+                       "sampling band of the estimate")
     return life.to_dict()
 
 

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import numpy as np
+
 from assess.report.plots import (
     plot_beta_before_after,
     plot_beta_over_time,
@@ -38,11 +40,28 @@ def before_after_figure(assessment):
                                   modes=[r.mode for r in rows])
 
 
+def _finite(values):
+    """+/-inf (no failed sample in a draw) left out of a drawn band."""
+    values = np.asarray(values, dtype=float)
+    return np.where(np.isfinite(values), values, np.nan)
+
+
 def life_figure(life):
-    """beta(t) of each member's governing curve against the annual target."""
+    """beta(t) of each member's governing curve against the annual target: shaded, the
+    parameter band (5-95 % over the posterior parameters); dashed, the sampling band."""
+    with_parameters = all(c.parameter_lower is not None for c in life.main)
+    sampling = {c.member: (c.beta_lower, c.beta_upper) for c in life.main}
+    if with_parameters:
+        return plot_beta_over_time(
+            life.main[0].years_from_assessment, {c.member: c.beta for c in life.main},
+            life.target.beta,
+            bands={c.member: (_finite(c.parameter_lower), _finite(c.parameter_upper))
+                   for c in life.main},
+            sampling_bands=sampling, band_label="parameter band (5-95 %)",
+            time_label="Years after the assessment (annual beta)")
     return plot_beta_over_time(
         life.main[0].years_from_assessment, {c.member: c.beta for c in life.main},
-        life.target.beta, bands={c.member: (c.beta_lower, c.beta_upper) for c in life.main},
+        life.target.beta, bands=sampling, band_label="sampling band (+/- 2 standard errors)",
         time_label="Years after the assessment (annual beta)")
 
 

@@ -254,7 +254,9 @@ def plot_beta_before_after(members: Sequence[str], beta_before: Any, beta_after:
 def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any, *,
                         bands: Mapping[str, tuple[Any, Any]] | None = None,
                         time_label: str = "Time from assessment", time_unit: str = "years",
-                        mark_crossings: bool = True) -> Figure:
+                        mark_crossings: bool = True,
+                        sampling_bands: Mapping[str, tuple[Any, Any]] | None = None,
+                        band_label: str | None = None) -> Figure:
     """Reliability index against time per member, with the target line.
 
     Parameters
@@ -272,6 +274,10 @@ def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any,
     mark_crossings : bool, default True
         Mark where each curve first falls below the target (end of remaining
         life), found by `target_crossing_time`.
+    sampling_bands : mapping of str to (lower, upper), optional
+        Sampling band of each curve (its estimator's error), drawn as thin dashed lines [-].
+    band_label : str, optional
+        Legend text of the shaded ``bands``.
 
     Returns
     -------
@@ -300,6 +306,10 @@ def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any,
                 raise InputError(f"band of {name!r} must have {t.size} lower and upper values.",
                                  column=f"bands[{name!r}]")
             ax.fill_between(t, lower, upper, color=colour, alpha=0.15, linewidth=0)
+        if sampling_bands and name in sampling_bands:
+            for edge in sampling_bands[name]:
+                ax.plot(t, _as_1d(edge, f"sampling_bands[{name!r}]"), color=colour,
+                        linewidth=0.8, linestyle="--")
         ax.plot(t, beta, color=colour, linewidth=1.8, label=str(name))
         if mark_crossings:
             tc = target_crossing_time(t, beta, target)
@@ -307,6 +317,11 @@ def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any,
                 crossings_t.append(tc)
                 crossings_b.append(target)
     _target_hline(ax, target)
+    if bands and band_label:
+        ax.fill_between([], [], [], color="grey", alpha=0.15, linewidth=0, label=band_label)
+    if sampling_bands:
+        ax.plot([], [], color="grey", linewidth=0.8, linestyle="--",
+                label="sampling band (+/- 2 standard errors)")
     if crossings_t:
         ax.plot(crossings_t, crossings_b, linestyle="none", marker="v", markersize=8,
                 color=TARGET_COLOUR, label="Falls below target")

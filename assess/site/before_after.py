@@ -20,10 +20,17 @@ from typing import Any, Callable
 import numpy as np
 
 from assess.reliability.dispatch import run_method
+from assess.reliability.interval import (
+    CONFIDENCE,
+    change_text,
+    interval_verdict,
+    result_interval,
+    sample_until_decided,
+)
 from assess.site.member_models import build_member_model
 from assess.site.record import LedgerRow
 from assess.site.settings import DEFAULT_SEED
-from assess.targets import Target, mode_target, system_target, target_beta, verdict
+from assess.targets import Target, mode_target, system_target, target_beta
 
 DEFAULT_METHOD = "subset_simulation"
 
@@ -44,6 +51,26 @@ class MemberResult:
     target_basis: str = ""
     """Why this target: ductile / brittle mode (brittle stricter), the system's strictest
     mode, or a site-file override."""
+    interval_level: float = CONFIDENCE
+    """Confidence level of the interval behind the verdict [-]: 95 %, or the Bonferroni level
+    over the repeated looks the budget allows (`assess.reliability.interval.looks_level`)."""
+
+    @property
+    def interval_before(self) -> tuple[float, float]:
+        """95 % interval of beta before, from the sampling error of its estimate [-]."""
+        return result_interval(self.before)
+
+    @property
+    def interval_after(self) -> tuple[float, float]:
+        """Interval of beta after at `interval_level`, from the sampling error of its
+        estimate (the one the verdict reads) [-]."""
+        return result_interval(self.after, self.interval_level)
+
+    @property
+    def change(self) -> str:
+        """Signed change of beta, or "no significant change" when within its noise
+        (`assess.reliability.interval.change_text`)."""
+        return change_text(self.before, self.after)
 
     def drivers(self, count: int = 3) -> list[tuple[str, float]]:
         """Largest FORM importance factors alpha^2 (after updating), physical names merged."""
@@ -70,6 +97,12 @@ class MemberResult:
             "n_calls": self.before.n_calls + self.after.n_calls,
             "method": self.after.method,
             "seed": self.after.seed,
+            "interval_before": list(self.interval_before),
+            "interval_after": list(self.interval_after),
+            "interval_level_before": CONFIDENCE,
+            "interval_level": self.interval_level,
+            "n_runs_after": len((self.after.details or {}).get("runs", [])) or 1,
+            "change": self.change,
             "target": self.target,
             "target_basis": self.target_basis,
             "verdict": self.verdict,
@@ -91,6 +124,12 @@ class Assessment:
     seed: int
     options: dict = dataclasses.field(default_factory=dict)
     posterior_hash: str = ""
+    max_calls: int | None = None
+
+    @property
+    def undecided(self) -> list:
+        """Results whose verdict stayed "undecided"."""
+        return [r for r in self.results if r.verdict == "undecided"]
 
     def ledger_rows(self) -> list[LedgerRow]:
         """One ``"reliability"`` row per member and mode."""
@@ -98,6 +137,7 @@ class Assessment:
             "method": self.method,
             "options": self.options,
             "posterior_hash": self.posterior_hash,
+            "max_calls_per_verdict": self.max_calls,
         }
         return [
             LedgerRow(
@@ -122,6 +162,9 @@ class Assessment:
             "reference_period_years": self.reference_period_years,
             "method": self.method,
             "seed": self.seed,
+            "interval_level": CONFIDENCE,
+            "max_calls_per_verdict": self.max_calls,
+            "undecided": [f"{r.member} {r.mode}" for r in self.undecided],
             "results": [r.to_dict() for r in self.results],
             "notes": list(self.notes),
         }
@@ -166,9 +209,13 @@ def _mode_goal(target: Target, modes: list, overridden: bool) -> Target:
     return system_target(modes, target)
 
 
-def _verdict(beta: float, target) -> str:
-    """`assess.targets.verdict`, with "no result" for an undefined beta (NaN)."""
-    return "no result" if np.isnan(beta) else verdict(beta, target)
+def _verdict(result, target: Target, level: float = CONFIDENCE) -> str:
+    """`assess.reliability.interval.interval_verdict` against ``target``: "meets target",
+    "below target", "undecided" (the interval straddles it) or "no result" (NaN)."""
+    if np.isnan(result.beta):
+        return "no result"
+    low, high = result_interval(result, level)
+    return interval_verdict(result.beta, low, high, target.beta)
 
 
 def _analysis_seed(seed: int, member: str, mode: str) -> int:
@@ -186,6 +233,7 @@ def assess_members(
     members=None,
     progress: Callable[[str], None] | None = None,
     known_before: dict | None = None,
+    max_calls: int | None = None,
 ) -> Assessment:
     """Beta before and after updating for every member, mode and member system.
 
@@ -209,6 +257,12 @@ def assess_members(
         with the same method, options and seed (e.g. by the members step of the same
         run); reused instead of sampled again. Without test data "after" is "before"
         and is not sampled twice either.
+    max_calls : int, optional
+        Budget of limit-state calls per verdict [-]: while the 95 % interval of beta after
+        straddles the target, the after estimate is repeated with new seed streams and
+        pooled (`assess.reliability.interval.sample_until_decided`) until decided or the
+        next repetition would exceed the budget. None: one run (the verdict may stay
+        "undecided"). Members still undecided are named in the notes.
     """
     options = dict(options or {})
     period = float(site.target.reference_period)
@@ -249,11 +303,25 @@ def assess_members(
                 after = before
             else:
                 after = run_method(models["after"].problem(group), method, seed=run_seed, **options)
+            level = CONFIDENCE
+            if max_calls is not None and not np.isnan(after.beta):
+                problem_after = models["after"].problem(group)
+
+                def rerun(k, _problem=problem_after, _member=member_id, _label=label):
+                    return run_method(
+                        _problem,
+                        method,
+                        seed=_analysis_seed(seed, _member, f"{_label}#{k}"),
+                        **options,
+                    )
+
+                after, _, level = sample_until_decided(after, rerun, goal.beta, max_calls)
+                if update.after is update.before:
+                    before = after
             outcome = {"before": before, "after": after}
             form_after = None
             if importance and label != "system":
                 form_after = run_method(models["after"].problem(group), "form")
-            beta_after = outcome["after"].beta
             results.append(
                 MemberResult(
                     member=member_id,
@@ -264,12 +332,32 @@ def assess_members(
                     after=outcome["after"],
                     form_after=form_after,
                     target=goal.beta,
-                    verdict=_verdict(beta_after, goal),
+                    verdict=_verdict(outcome["after"], goal, level),
+                    interval_level=level,
                     target_basis=goal.note or goal.source,
                 )
             )
         if progress:
             progress(member_id)
+    undecided = [f"{r.member} {r.mode}" for r in results if r.verdict == "undecided"]
+    if undecided:
+        budget = (
+            f"within the budget of {max_calls} limit-state calls per verdict"
+            if max_calls is not None
+            else "with one run per estimate"
+        )
+        notes.append(
+            f"Undecided {budget} (the interval of beta after straddles the target): "
+            f"{', '.join(undecided)}."
+        )
     return Assessment(
-        results, target, period, notes, method, seed, options, getattr(update, "data_hash", "")
+        results,
+        target,
+        period,
+        notes,
+        method,
+        seed,
+        options,
+        getattr(update, "data_hash", ""),
+        max_calls=max_calls,
     )

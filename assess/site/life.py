@@ -16,7 +16,11 @@ EXPLANATION = (
     "against the resistance of year t, with the bars corroding after the assessment "
     "date by Faraday's law from the zone's corrosion initiation time and rate "
     "(updated with break-outs and half-cell surveys). It is compared with the annual "
-    "target. The band is +/- 2 standard errors of the sampling estimate only."
+    "target. Two bands, for two things: the parameter band is the 5 % to 95 % spread of "
+    "beta(t) and of the remaining life over what the tests leave uncertain about the "
+    "populations (means and spreads of concrete, steel, cover, bar area) and the zone's "
+    "corrosion initiation time and rate; the sampling band (+/- 2 standard errors) only says "
+    "how precisely the one curve was estimated."
 )
 
 
@@ -44,7 +48,9 @@ class SiteLife:
                 "governing mode": c.governing_mode,
                 "beta now": c.beta_now,
                 "beta at horizon": float(c.beta[-1]),
-                "remaining life": c.remaining_life.text(),
+                "remaining life": c.remaining_life.text().split(" (")[0],
+                "parameter band (90 %)": c.remaining_life.parameter_text(),
+                "sampling band": c.remaining_life.sampling_text(),
                 "reference": "annual",
             }
             for c in self.main

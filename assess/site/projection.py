@@ -41,6 +41,23 @@ samples near the design points of the non-governing modes, whose own curves are
 reported too (a defensive choice; Owen & Zhou 2000, J. Am. Stat. Assoc. 95,
 from memory).
 
+Two bands, for two different things
+-----------------------------------
+beta(t) above is the predictive index: the uncertainty of the population
+parameters (means and spreads of concrete, steel, cover and residual bar area,
+the zone's corrosion initiation time and rate; `parameter_names`) is integrated
+out. Its *sampling band* (beta -/+ 2 standard errors) only says how precisely
+the sampler estimated that one curve. The *parameter band* says how far the
+curve itself could lie, given what the tests tell about the parameters: for K
+draws theta_k of the parameters' standard normal coordinates, the conditional
+pf(t | theta_k) is estimated by importance sampling over the other variables,
+centred at the FORM design points shifted to the plane of theta_k (linearised
+limit state beta_j - alpha_j.u = 0, so the conditional centre is (beta_j -
+alpha_p.theta) alpha_a / |alpha_a|^2), and the band is the pointwise 5 % and
+95 % quantile of beta(t | theta_k); the remaining life of each draw gives the
+5 % and 95 % quantile of the remaining life. The conditional estimates carry
+their own sampling noise, which widens this band slightly (on the safe side).
+
 References
 ----------
 .. [1] C. G. Bucher, "Adaptive sampling - an iterative fast Monte Carlo procedure,"
@@ -79,6 +96,16 @@ ANNUAL_NOTE = (
 )
 DEFAULT_SAMPLES = 6000
 BAND_STANDARD_ERRORS = 2.0
+PARAMETER_DRAWS = 40
+"""Parameter draws K of the parameter band [-]."""
+PARAMETER_BAND = (0.05, 0.95)
+"""Quantiles of the parameter band (a 90 % band) [-]."""
+SAMPLES_PER_DRAW_FRACTION = 8
+"""Importance samples per parameter draw: the curve's samples / this, at least 100 [-]."""
+PARAMETER_SUFFIXES = (".precision", ".location")
+MIN_ALEATORY_SHARE = 0.05
+"""Below this share |alpha_a|^2 of a design point's direction in the other variables, its
+centre is not shifted with the parameter draw (the shift would blow up) [-]."""
 
 ALREADY_BELOW, CROSSES, BEYOND = "already below target", "crosses target", "beyond horizon"
 
@@ -114,6 +141,81 @@ class CurveEstimate:
     n_calls: int
     seed: int | None
     warnings: list
+    parameter_pf: dict = dataclasses.field(default_factory=dict)
+    """Group label -> ndarray (K, T): pf(t | theta_k) for each parameter draw [-]."""
+    parameter_names: list = dataclasses.field(default_factory=list)
+    samples_per_draw: int = 0
+
+
+def parameter_names(model) -> list:
+    """Names of the model's parameter variables: ``<q>.precision`` and ``<q>.location`` of
+    every population (`assess.updating.to_model`) and the zone's corrosion initiation time
+    and rate (`assess.site.corrosion`)."""
+    return [
+        n
+        for n in model.random_names
+        if n.endswith(PARAMETER_SUFFIXES) or n in (INITIATION_NAME, RATE_NAME)
+    ]
+
+
+def _conditional_centres(
+    centres: np.ndarray,
+    betas: np.ndarray,
+    theta: np.ndarray,
+    p_cols: np.ndarray,
+    a_cols: np.ndarray,
+) -> np.ndarray:
+    """(K, J, d_a) sampling centres of the other variables given each parameter draw.
+
+    Linearised limit state of centre j: beta_j - alpha_j.u = 0 with alpha_j = u*_j / beta_j;
+    given theta its nearest point in the other coordinates is
+    (beta_j - alpha_jp.theta) alpha_ja / |alpha_ja|^2.
+    """
+    k = theta.shape[0]
+    out = np.broadcast_to(centres[:, a_cols], (k, *centres[:, a_cols].shape)).copy()
+    for j, (centre, beta) in enumerate(zip(centres, betas)):  # over design points, not samples
+        if not (np.isfinite(beta) and abs(beta) > 1e-9):
+            continue
+        alpha = centre / beta
+        alpha_a = alpha[a_cols]
+        share = float(alpha_a @ alpha_a)
+        if share < MIN_ALEATORY_SHARE:
+            continue
+        distance = (beta - theta @ alpha[p_cols]) / share
+        out[:, j, :] = distance[:, None] * alpha_a[None, :]
+    return out
+
+
+def _parameter_curves(
+    model, limit_state_at, times, groups, centres, betas, names, n_draws, per_draw, rng
+):
+    """pf(t | theta_k) of every group for ``n_draws`` parameter draws (see the module notes)."""
+    p_cols = np.array([model.random_names.index(n) for n in names], dtype=int)
+    a_cols = np.setdiff1d(np.arange(model.dim), p_cols)
+    theta = rng.standard_normal((n_draws, p_cols.size))
+    cond = _conditional_centres(centres, betas, theta, p_cols, a_cols)
+    n_centres = cond.shape[1]
+    component = rng.integers(0, n_centres, size=(n_draws, per_draw))
+    ua = cond[np.arange(n_draws)[:, None], component] + rng.standard_normal(
+        (n_draws, per_draw, a_cols.size)
+    )
+    squared = ((ua[:, :, None, :] - cond[:, None, :, :]) ** 2).sum(axis=3)
+    log_h = logsumexp(-0.5 * squared, axis=2) - math.log(n_centres)
+    weights = np.exp(-0.5 * (ua * ua).sum(axis=2) - log_h)  # (K, M)
+    u = np.empty((n_draws * per_draw, model.dim))
+    u[:, p_cols] = np.repeat(theta, per_draw, axis=0)
+    u[:, a_cols] = ua.reshape(n_draws * per_draw, a_cols.size)
+    x = model.u_to_x(u)
+    pf = {label: np.zeros((n_draws, times.size)) for label in groups}
+    for j, t in enumerate(times):
+        g = np.asarray(limit_state_at(x, float(t)), dtype=float)
+        if g.ndim == 1:
+            g = g[:, None]
+        g = np.where(np.isfinite(g), g, -np.inf)  # a non-finite value counts as failure
+        for label, columns in groups.items():
+            failed = (g[:, list(columns)].min(axis=1) <= 0.0).reshape(n_draws, per_draw)
+            pf[label][:, j] = (weights * failed).mean(axis=1)
+    return pf
 
 
 def _at_time(limit_state_at: Callable, x, t: float):
@@ -130,6 +232,9 @@ def estimate_curves(
     n_samples: int = DEFAULT_SAMPLES,
     seed=None,
     centre_times: Sequence[float] | None = None,
+    parameters: Sequence[str] = (),
+    n_parameter_draws: int = PARAMETER_DRAWS,
+    samples_per_draw: int | None = None,
 ) -> CurveEstimate:
     """Probability of failure at each time, by importance sampling with common random numbers.
 
@@ -155,6 +260,13 @@ def estimate_curves(
     centre_times : sequence of float, optional
         Times whose FORM design points centre the sampling mixture; default the
         first, middle and last of ``times``.
+    parameters : sequence of str
+        Parameter variables (`parameter_names`); with some, also pf(t | theta_k) for
+        ``n_parameter_draws`` draws of them (``parameter_pf``, the parameter band).
+    n_parameter_draws : int
+        Parameter draws K [-].
+    samples_per_draw : int, optional
+        Importance samples per draw [-]; default n_samples / 8, at least 100.
 
     Returns
     -------
@@ -244,6 +356,30 @@ def estimate_curves(
             if estimate > 0:
                 variance = float(contribution.var(ddof=1))
                 cov[label][j] = math.sqrt(variance / n_samples) / estimate
+    parameters = [n for n in parameters if n in model.random_names]
+    per_draw = 0
+    parameter_pf: dict = {}
+    if parameters and len(parameters) < model.dim:
+        n_parameter_draws = check_int(n_parameter_draws, "n_parameter_draws", caller, 2)
+        per_draw = (
+            max(n_samples // SAMPLES_PER_DRAW_FRACTION, 100)
+            if samples_per_draw is None
+            else check_int(samples_per_draw, "samples_per_draw", caller, 10)
+        )
+        betas = np.array([c["beta"] for c in info], dtype=float)
+        parameter_pf = _parameter_curves(
+            model,
+            limit_state_at,
+            times,
+            groups,
+            centres,
+            betas,
+            parameters,
+            n_parameter_draws,
+            per_draw,
+            rng,
+        )
+        n_calls += n_parameter_draws * per_draw * times.size
     return CurveEstimate(
         times=times,
         pf=pf,
@@ -254,7 +390,32 @@ def estimate_curves(
         n_calls=n_calls,
         seed=recorded,
         warnings=warnings,
+        parameter_pf=parameter_pf,
+        parameter_names=list(parameters) if parameter_pf else [],
+        samples_per_draw=per_draw,
     )
+
+
+def parameter_band(parameter_pf, times, target: float, quantiles=PARAMETER_BAND):
+    """The parameter band from pf(t | theta_k) of K draws.
+
+    Returns
+    -------
+    lower, upper : ndarray (T,)
+        Pointwise ``quantiles`` of beta(t | theta_k) over the draws [-] (+inf where a
+        draw's conditional estimate found no failure).
+    life_low, life_high : float
+        Same quantiles of the remaining life of the draws (first crossing of the target
+        after times[0]) [yr]; +inf beyond the horizon.
+    """
+    from assess.life.crossing import crossing_times
+
+    beta = stats.norm.isf(np.asarray(parameter_pf, dtype=float))
+    lower, upper = np.quantile(beta, quantiles, axis=0, method="inverted_cdf")
+    life = crossing_times(times, beta, target) - float(times[0])
+    life = np.where(np.isnan(life), np.inf, life)
+    life_low, life_high = np.quantile(life, quantiles, method="inverted_cdf")
+    return lower, upper, float(life_low), float(life_high)
 
 
 def beta_band(pf, cov, standard_errors: float = BAND_STANDARD_ERRORS):
@@ -288,7 +449,7 @@ def first_crossing(times, beta, target: float) -> float:
 
 @dataclasses.dataclass(frozen=True)
 class RemainingLife:
-    """Remaining life against the annual target, with the band of the estimator.
+    """Remaining life against the annual target, with its two bands.
 
     Attributes
     ----------
@@ -298,10 +459,17 @@ class RemainingLife:
         Years from the assessment date to the first year with beta < target
         (0 when already below; NaN beyond the horizon) [yr].
     earliest, latest : float
-        Crossing of the lower and of the upper band (beta -/+ 2 se) [yr]; NaN
-        when that band does not cross within the horizon.
+        Sampling band: crossing of beta -/+ 2 standard errors of the estimate [yr]; NaN
+        when that band does not cross within the horizon. Says how precisely the one
+        curve was estimated, not how long the member may last.
     horizon_years : float
         Length of the projection [yr].
+    parameter_low, parameter_high : float
+        Parameter band: 5 % and 95 % quantile of the remaining life over draws of the
+        population and corrosion parameters from their posterior [yr]; +inf beyond the
+        horizon, NaN when not computed.
+    parameter_level : float
+        Probability content of the parameter band [-].
     """
 
     status: str
@@ -309,33 +477,64 @@ class RemainingLife:
     earliest: float
     latest: float
     horizon_years: float
+    parameter_low: float = math.nan
+    parameter_high: float = math.nan
+    parameter_level: float = 0.90
+
+    def _years(self, value: float) -> str:
+        return f"{value:.1f}" if math.isfinite(value) else f">{self.horizon_years:g}"
+
+    def sampling_text(self) -> str:
+        """The sampling band in words, e.g. ``"22.9-24.1 yr"``; "-" when neither end crosses."""
+        if self.status == ALREADY_BELOW:
+            return "-"
+        if not (math.isfinite(self.earliest) or math.isfinite(self.latest)):
+            return "-"
+        earliest = f"{self.earliest:.1f}" if math.isfinite(self.earliest) else "0"
+        return f"{earliest}-{self._years(self.latest)} yr"
+
+    def parameter_text(self) -> str:
+        """The parameter band in words, e.g. ``"12.0-35.5 yr"``; "-" when not computed."""
+        if math.isnan(self.parameter_low) or math.isnan(self.parameter_high):
+            return "-"
+        return f"{self._years(self.parameter_low)}-{self._years(self.parameter_high)} yr"
 
     def text(self) -> str:
-        """Plain-language remaining life, e.g. ``"23.4 yr (22.9-24.1)"``."""
+        """Plain-language remaining life with both bands named, e.g.
+        ``"23.4 yr (parameters 15.0-33.2 yr; sampling 22.9-24.1 yr)"``."""
+        bands = []
+        if self.parameter_text() != "-":
+            bands.append(f"parameters {self.parameter_text()}")
         if self.status == ALREADY_BELOW:
-            return "already below target"
-        if self.status == BEYOND:
-            lower = (
-                f" (band: may cross from {self.earliest:.1f} yr)"
-                if math.isfinite(self.earliest)
-                else ""
-            )
-            return f"more than {self.horizon_years:g} yr{lower}"
-        latest = f"{self.latest:.1f}" if math.isfinite(self.latest) else f">{self.horizon_years:g}"
-        earliest = f"{self.earliest:.1f}" if math.isfinite(self.earliest) else "0"
-        return f"{self.years:.1f} yr ({earliest}-{latest})"
+            head = "already below target"
+        elif self.status == BEYOND:
+            head = f"more than {self.horizon_years:g} yr"
+            if math.isfinite(self.earliest):
+                bands.append(f"sampling: may cross from {self.earliest:.1f} yr")
+        else:
+            head = f"{self.years:.1f} yr"
+            bands.append(f"sampling {self.sampling_text()}")
+        return head + (f" ({'; '.join(bands)})" if bands else "")
 
     def to_dict(self) -> dict:
         clean = {
             k: (v if not isinstance(v, float) or math.isfinite(v) else None)
             for k, v in dataclasses.asdict(self).items()
         }
+        for key in ("parameter_low", "parameter_high"):  # +inf: beyond the horizon
+            value = getattr(self, key)
+            clean[f"{key}_beyond_horizon"] = bool(value == math.inf)
         clean["text"] = self.text()
+        clean["sampling_band"] = self.sampling_text()
+        clean["parameter_band"] = self.parameter_text()
         return clean
 
 
-def remaining_life(times, beta, lower, upper, target: float) -> RemainingLife:
-    """Remaining life from beta(t) and its band (times from the assessment date) [yr]."""
+def remaining_life(
+    times, beta, lower, upper, target: float, parameter_life: tuple[float, float] | None = None
+) -> RemainingLife:
+    """Remaining life from beta(t) and its sampling band (times from the assessment date)
+    [yr]; ``parameter_life`` = (low, high) of the parameter band (`parameter_band`)."""
     times = np.asarray(times, dtype=float)
     horizon = float(times[-1] - times[0])
     crossing = first_crossing(times, beta, target)
@@ -348,12 +547,15 @@ def remaining_life(times, beta, lower, upper, target: float) -> RemainingLife:
     else:
         status, years = BEYOND, math.nan
     shift = float(times[0])
+    low, high = parameter_life if parameter_life is not None else (math.nan, math.nan)
     return RemainingLife(
         status=status,
         years=float(years),
         earliest=float(earliest - shift) if math.isfinite(earliest) else math.nan,
         latest=float(latest - shift) if math.isfinite(latest) else math.nan,
         horizon_years=horizon,
+        parameter_low=float(low),
+        parameter_high=float(high),
     )
 
 
@@ -374,7 +576,10 @@ class LifeCurve:
     beta, pf, cov : ndarray (T,)
         Annual reliability index [-], annual pf [-], CoV of the pf estimate [-].
     beta_lower, beta_upper : ndarray (T,)
-        beta -/+ 2 standard errors of the estimator [-].
+        Sampling band: beta -/+ 2 standard errors of the estimator [-].
+    parameter_lower, parameter_upper : ndarray (T,) or None
+        Parameter band: 5 % and 95 % quantile of beta(t | theta) over draws of the
+        population and corrosion parameters [-] (None when not computed).
     target : Target
         Annual target (`assess.targets.target_beta` with a 1-year period).
     remaining_life : RemainingLife
@@ -417,6 +622,9 @@ class LifeCurve:
     warnings: list
     checks: list = dataclasses.field(default_factory=list)
     reference: str = ANNUAL_NOTE
+    parameter_lower: np.ndarray | None = None
+    parameter_upper: np.ndarray | None = None
+    parameter_draws: int = 0
 
     @property
     def beta_now(self) -> float:
@@ -442,6 +650,22 @@ class LifeCurve:
             "cov": values(self.cov),
             "beta_lower": values(self.beta_lower),
             "beta_upper": values(self.beta_upper),
+            "sampling_band": {
+                "what": f"beta -/+ {BAND_STANDARD_ERRORS:g} standard errors of the sampling "
+                "estimate of this curve (not the uncertainty of the member)",
+                "lower": values(self.beta_lower),
+                "upper": values(self.beta_upper),
+            },
+            "parameter_band": None
+            if self.parameter_lower is None
+            else {
+                "what": "5 % and 95 % quantile of beta(t) over draws of the population and "
+                "corrosion parameters from their posterior",
+                "quantiles": list(PARAMETER_BAND),
+                "draws": self.parameter_draws,
+                "lower": values(self.parameter_lower),
+                "upper": values(self.parameter_upper),
+            },
             "target": {
                 "beta": self.target.beta,
                 "reference_period_years": self.target.reference_period_years,
@@ -559,6 +783,7 @@ def project_member(
     check_years: Sequence[float] = (),
     check_samples: int = 1000,
     pitting: bool = False,
+    parameter_draws: int = PARAMETER_DRAWS,
 ) -> list:
     """Annual beta(t) and remaining life of every mode and the system of one member.
 
@@ -588,6 +813,8 @@ def project_member(
         the uniform penetration with R ~ Gumbel (Stewart 2004, `assess.deterioration.
         corrosion.pitting_factor_distribution`). On the safe side: it assumes every
         bar's deepest pit lies in the critical section.
+    parameter_draws : int
+        Parameter draws of the parameter band (0: no parameter band) [-].
 
     Returns
     -------
@@ -650,6 +877,8 @@ def project_member(
         mode_names=mode_names,
         n_samples=n_samples,
         seed=run_seed,
+        parameters=parameter_names(member_model.model) if parameter_draws else (),
+        n_parameter_draws=max(int(parameter_draws), 2),
     )
     site_target = annual_target(site)
     start_year = _decimal_year(site.site.assessment_date)
@@ -662,6 +891,13 @@ def project_member(
             else mode_target(label, site_target)
         )
         beta, lower, upper = beta_band(estimate.pf[label], estimate.cov[label])
+        band: tuple = (None, None)
+        parameter_life = None
+        if label in estimate.parameter_pf:
+            p_low, p_high, life_low, life_high = parameter_band(
+                estimate.parameter_pf[label], times, target.beta
+            )
+            band, parameter_life = (p_low, p_high), (life_low, life_high)
         governing = label
         if label == "system":
             governing = min(mode_names, key=lambda m: stats.norm.isf(estimate.pf[m][-1]))
@@ -687,7 +923,9 @@ def project_member(
                 beta_lower=lower,
                 beta_upper=upper,
                 target=target,
-                remaining_life=remaining_life(times, beta, lower, upper, target.beta),
+                remaining_life=remaining_life(
+                    times, beta, lower, upper, target.beta, parameter_life
+                ),
                 governing_mode=governing,
                 corrosion=inputs.to_dict(),
                 n_samples=estimate.n_samples,
@@ -695,6 +933,9 @@ def project_member(
                 seed=estimate.seed,
                 centres=estimate.centres,
                 warnings=warnings,
+                parameter_lower=band[0],
+                parameter_upper=band[1],
+                parameter_draws=len(next(iter(estimate.parameter_pf.values()), ())),
             )
         )
     system = curves[-1]
@@ -731,6 +972,7 @@ def project_site(
     check_years: Sequence[float] = (),
     progress: Callable[[str], None] | None = None,
     pitting: bool = False,
+    parameter_draws: int = PARAMETER_DRAWS,
 ) -> list:
     """`project_member` for every member (or those given); curves of all modes and systems."""
     from assess.site.corrosion import zone_corrosion_inputs
@@ -759,6 +1001,7 @@ def project_site(
                 seed=seed,
                 check_years=check_years,
                 pitting=pitting,
+                parameter_draws=parameter_draws,
             )
         )
         if progress:
@@ -787,6 +1030,8 @@ __all__ = [
     "estimate_curves",
     "first_crossing",
     "governing_curves",
+    "parameter_band",
+    "parameter_names",
     "project_member",
     "project_site",
     "remaining_life",

@@ -197,6 +197,7 @@ def _members(run: SiteRun):
         seed=run.settings.seed,
         options=run.settings.reliability_options,
         members=run.members,
+        max_calls=run.settings.max_calls_per_verdict,
     )
 
 

@@ -37,6 +37,14 @@ QUICK_WORTH_OUTCOMES = 200
 """Simulated outcomes per test programme in quick mode [-]."""
 FULL_WORTH_OUTCOMES = 500
 
+QUICK_VERDICT_CALLS = 20_000
+"""Budget of limit-state calls per member verdict in quick mode [-]: an undecided verdict
+(its 95 % interval straddles the target) is sampled again until decided or this is spent."""
+FULL_VERDICT_CALLS = 60_000
+"""Budget of limit-state calls per member verdict in a full run [-] (about ten subset
+simulation runs of 1000 samples per level at pf 1e-5)."""
+MAX_VERDICT_CALLS = 10**8
+
 MAX_DRAWS = 100_000
 MAX_CHAINS = 16
 
@@ -124,6 +132,9 @@ class RunSettings:
         Whether the main job runs these steps.
     pitting : bool
         Pitting in the remaining-life curves.
+    verdict_calls : int or None
+        Budget of limit-state calls per member verdict (default by ``quick``); 0 = one run
+        per estimate, never repeated [-].
     """
 
     seed: int = DEFAULT_SEED
@@ -138,6 +149,7 @@ class RunSettings:
     life: bool = True
     worth: bool = True
     pitting: bool = False
+    verdict_calls: int | None = None
 
     def __post_init__(self):
         if (
@@ -155,6 +167,16 @@ class RunSettings:
             raise InputError(
                 f"unknown method {self.method!r}; choose one of {', '.join(METHODS)}",
                 column="--method",
+            )
+        if self.verdict_calls is not None and (
+            isinstance(self.verdict_calls, bool)
+            or not isinstance(self.verdict_calls, int)
+            or not 0 <= self.verdict_calls <= MAX_VERDICT_CALLS
+        ):
+            raise InputError(
+                f"the budget of limit-state calls per verdict must be a whole number from 0 to "
+                f"{MAX_VERDICT_CALLS}, got {self.verdict_calls!r}",
+                column="--verdict-calls",
             )
         unknown = sorted(set(self.fits) - set(FIT_KINDS))
         if unknown:
@@ -189,6 +211,14 @@ class RunSettings:
         if self.method in ("importance_sampling", "crude_monte_carlo") and self.reliability_samples:
             return {"n": self.reliability_samples}
         return {}
+
+    @property
+    def max_calls_per_verdict(self) -> int:
+        """Budget of limit-state calls per member verdict [-] (`verdict_calls`, else the
+        quick or full default)."""
+        if self.verdict_calls is not None:
+            return self.verdict_calls
+        return QUICK_VERDICT_CALLS if self.quick else FULL_VERDICT_CALLS
 
     @property
     def life_sample_count(self) -> int:
