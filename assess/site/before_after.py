@@ -18,7 +18,9 @@ import numpy as np
 
 from assess.reliability.dispatch import run_method
 from assess.site.member_models import build_member_model
+from assess.site.paths import has_ledger
 from assess.site.record import LedgerRow
+from assess.site.result_cache import cached_result, member_payload
 from assess.site.settings import DEFAULT_SEED
 from assess.targets import Target, target_beta, verdict
 
@@ -168,6 +170,7 @@ def assess_members(
     members=None,
     progress: Callable[[str], None] | None = None,
     known_before: dict | None = None,
+    cache: bool = True,
 ) -> Assessment:
     """Beta before and after updating for every member, mode and member system.
 
@@ -191,12 +194,18 @@ def assess_members(
         with the same method, options and seed (e.g. by the members step of the same
         run); reused instead of sampled again. Without test data "after" is "before"
         and is not sampled twice either.
+    cache : bool, default True
+        Read and store every result in the site's reliability cache
+        (`assess.site.result_cache`: a hash of the member's model, knowledge, modes,
+        method, options, seed and code), so a run with nothing new samples nothing.
+        Only for an imported site (one with a ledger).
     """
     options = dict(options or {})
     period = float(site.target.reference_period)
     target = target_beta(site.target.consequence_class, period, site.target.cost_of_safety)
     chosen = list(members) if members is not None else list(site.members)
     use = getattr(getattr(site, "priors", None), "imposed_use", None) or "commercial"
+    cache_folder = site.folder if cache and has_ledger(site.folder) else None
     results: list[MemberResult] = []
     notes: list[str] = []
     for member_id in chosen:
@@ -214,6 +223,32 @@ def assess_members(
             )
             for state, knowledge in (("before", update.before), ("after", update.after))
         }
+        keys = {
+            state: member_payload(
+                site,
+                member,
+                knowledge[member.zone],
+                local=getattr(update, f"{state}_local", {}).get(member.zone),
+                reference_period_years=period,
+                car_park_use=use,
+            )
+            for state, knowledge in (("before", update.before), ("after", update.after))
+        }
+
+        def run(state, group, method, run_seed, options):
+            payload = {
+                **keys[state],
+                "modes": group,
+                "method": method,
+                "seed": run_seed,
+                "options": options,
+            }
+            return cached_result(
+                cache_folder,
+                payload,
+                lambda: run_method(models[state].problem(group), method, seed=run_seed, **options),
+            )
+
         notes.extend(n for n in models["after"].notes if n not in notes)
         modes = list(models["after"].modes)
         groups = [[m] for m in modes] + ([modes] if len(modes) > 1 else [])
@@ -222,17 +257,15 @@ def assess_members(
             run_seed = _analysis_seed(seed, member_id, label)
             before = (known_before or {}).get((member_id, label))
             if before is None:
-                before = run_method(
-                    models["before"].problem(group), method, seed=run_seed, **options
-                )
+                before = run("before", group, method, run_seed, options)
             if update.after is update.before:  # no test data: the same model
                 after = before
             else:
-                after = run_method(models["after"].problem(group), method, seed=run_seed, **options)
+                after = run("after", group, method, run_seed, options)
             outcome = {"before": before, "after": after}
             form_after = None
             if importance and label != "system":
-                form_after = run_method(models["after"].problem(group), "form")
+                form_after = run("after", group, "form", None, {})
             beta_after = outcome["after"].beta
             results.append(
                 MemberResult(
