@@ -39,7 +39,7 @@ Vols. 1 and 2, 2nd ed., Wiley, 1994/1995 (moments of each family).
 from __future__ import annotations
 
 import numpy as np
-from scipy import special, stats
+from scipy import special
 
 from assess.errors import InputError
 
@@ -319,6 +319,8 @@ class _TruncatedNormal:
         self._mu, self._sigma = mu, sigma
         self._a = (lower - mu) / sigma
         self._b = (upper - mu) / sigma
+        from scipy import stats  # on first use: scipy.stats takes long to import
+
         self._scipy = stats.truncnorm(self._a, self._b, loc=mu, scale=sigma)
         upper_side = self._a > 0  # both bounds above the parent mean: use sf differences
         self._mass = np.where(upper_side, special.ndtr(-self._a) - special.ndtr(-self._b),
@@ -643,6 +645,8 @@ def _build(kind, params, name):
 
 def _freeze(kind, p, name, check_only=False):
     """The scipy distribution (or, with ``check_only``, only the bound checks)."""
+    from scipy import stats  # on first use: the closed-form maps do not need scipy.stats
+
     if kind == "normal":
         frozen = stats.norm(loc=p["mu"], scale=p["sigma"])
     elif kind == "lognormal":

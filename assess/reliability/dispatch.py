@@ -9,6 +9,7 @@ from assess.reliability.auto import auto
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.form import form
 from assess.reliability.importance import importance_sampling
+from assess.reliability.names import METHOD_NAMES
 from assess.reliability.problem import StandardNormalProblem
 from assess.reliability.result import ReliabilityResult
 from assess.reliability.sorm import sorm
@@ -38,6 +39,9 @@ METHODS = {
     "polynomial_chaos": polynomial_chaos,
 }
 """Reliability methods by name; the keys are the valid ``method`` values of `run_method`."""
+
+if tuple(METHODS) != METHOD_NAMES:  # the light list the command line reads must follow
+    raise ImportError("assess.reliability.names.METHOD_NAMES does not match METHODS")
 
 CHECKED_DEFAULTS = {"check": True, "design_points": 4}
 """Options `run_method` gives FORM, SORM and importance sampling unless the caller sets

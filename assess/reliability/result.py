@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import numpy as np
-from scipy import stats
+if TYPE_CHECKING:  # the command line imports this module for format_beta: no numpy there
+    import numpy as np
 
 
 def beta_from_pf(pf: float) -> float:
@@ -16,12 +16,16 @@ def beta_from_pf(pf: float) -> float:
     Uses the inverse survival function so that tiny pf keep full precision
     (never ``ppf(1 - pf)``). pf = 0 gives +inf, pf = 1 gives -inf.
     """
-    return float(stats.norm.isf(pf))
+    from scipy import special  # on first use: the command line imports this module
+
+    return float(-special.ndtri(pf))  # = scipy.stats.norm.isf(pf)
 
 
 def pf_from_beta(beta: float) -> float:
     """Probability of failure from a reliability index, pf = Phi(-beta) [-]."""
-    return float(stats.norm.sf(beta))
+    from scipy import special
+
+    return float(special.ndtr(-beta))  # = scipy.stats.norm.sf(beta)
 
 
 @dataclasses.dataclass(frozen=True)
