@@ -26,7 +26,7 @@ from dataclasses import dataclass
 from typing import Callable, Sequence
 
 import numpy as np
-from scipy import linalg
+from scipy import linalg, special
 
 from assess.distributions import KINDS, Distribution, conditional_x_from_u, make_distribution
 from assess.errors import InputError
@@ -46,7 +46,39 @@ class _Conditional:
     params: Callable[[dict], dict]
 
 
-_ROOT, _CONSTANT, _CHILD = "root", "constant", "child"
+_ROOT, _CONSTANT, _CHILD, _GROUPED = "root", "constant", "child", "grouped"
+_GROUPED_KINDS = {
+    "normal": ("mu", "sigma"),
+    "lognormal": ("mu_ln", "sigma_ln"),
+    "gumbel": ("loc", "scale"),
+    "gamma": ("shape", "scale"),
+}
+"""Root kinds mapped together, one numpy call for all roots of a kind (the same closed forms
+as `assess.distributions.Distribution.x_from_u`, element by element)."""
+
+
+def _grouped_roots(groups: list, z: np.ndarray) -> dict[str, np.ndarray]:
+    """Physical values of the grouped roots from their normal-space values z [units]."""
+    out: dict[str, np.ndarray] = {}
+    for kind, names, indices, p in groups:
+        zt = np.ascontiguousarray(z[:, indices].T)  # one row per variable
+        if kind == "normal":
+            values = p["mu"] + p["sigma"] * zt
+        elif kind == "lognormal":
+            values = np.exp(p["mu_ln"] + p["sigma_ln"] * zt)
+        elif kind == "gumbel":
+            values = p["loc"] - p["scale"] * np.log(-special.log_ndtr(zt))
+        else:  # gamma: the lower and upper tails through their own inverses
+            values = np.empty(zt.shape)
+            shape = np.broadcast_to(p["shape"], zt.shape)
+            low = zt < 0.0
+            high = ~low
+            values[low] = special.gammaincinv(shape[low], special.ndtr(zt[low]))
+            values[high] = special.gammainccinv(shape[high], special.ndtr(-zt[high]))
+            values = p["scale"] * values
+        for row, name in enumerate(names):
+            out[name] = values[row]
+    return out
 
 
 @dataclass(frozen=True)
@@ -59,6 +91,7 @@ class _Plan:
     root_columns: list
     identity: bool
     steps: list
+    groups: list
 
 
 class ProbabilisticModel:
@@ -234,10 +267,14 @@ class ProbabilisticModel:
         random_names = self.random_names
         column = {n: k for k, n in enumerate(random_names)}
         steps: list[tuple] = []
+        members: dict[str, list] = {}
         for name, variable in self._variables.items():
             if isinstance(variable, _Root):
                 dist = variable.distribution
-                if dist.is_random:
+                if dist.is_random and dist.kind in _GROUPED_KINDS:
+                    members.setdefault(dist.kind, []).append((name, dist, roots.index(name)))
+                    steps.append((name, _GROUPED, None, None))
+                elif dist.is_random:
                     steps.append((name, _ROOT, dist.x_from_u, roots.index(name)))
                 else:
                     steps.append((name, _CONSTANT, float(dist.params["value"]), None))
@@ -245,7 +282,12 @@ class ProbabilisticModel:
                 steps.append((name, _CHILD, variable, column.get(name)))
         root_columns = [column[n] for n in roots]
         identity = not self._correlations or root_columns == []
-        return _Plan(random_names, len(random_names), root_columns, identity, steps)
+        groups = []
+        for kind, entries in members.items():
+            keys = _GROUPED_KINDS[kind]
+            params = {k: np.array([[float(d.params[k])] for _, d, _ in entries]) for k in keys}
+            groups.append((kind, [n for n, _, _ in entries], [i for _, _, i in entries], params))
+        return _Plan(random_names, len(random_names), root_columns, identity, steps, groups)
 
     def _conditional_distribution(self, name: str, x: dict) -> Distribution:
         variable = self._variables[name]
@@ -279,8 +321,12 @@ class ProbabilisticModel:
             z = u[:, plan.root_columns]
         else:
             z = u[:, plan.root_columns] @ L.T
+        grouped = _grouped_roots(plan.groups, z)
         x: dict[str, np.ndarray] = {}
         for name, step, data, where in plan.steps:
+            if step is _GROUPED:
+                x[name] = grouped[name]
+                continue
             if step is _ROOT:
                 value = data(z[:, where])
             elif step is _CONSTANT:
