@@ -230,6 +230,36 @@ class Member:
     """Direct target reliability index of this member [-] (site reference period)."""
     target_beta_reason: str | None = None
     """Why the target is set directly (required with `target_beta`)."""
+    continuous: bool = False
+    """Continuous over its supports (slabs and beams): adds a hogging mode at the support."""
+    span_count: int | None = None
+    """Number of equal spans of the continuous run [-] (continuous members, >= 2)."""
+    span_position: str | None = None
+    """"end" or "interior": which span of the run the member is (continuous members)."""
+    top_bar_diameter: float | None = None
+    """Top bar diameter over the supports [mm]."""
+    top_bar_spacing: float | None = None
+    """Top bar spacing [mm] (give this or `top_steel_area`)."""
+    top_steel_area: float | None = None
+    """Top steel area in the width b [mm2] (give this or `top_bar_spacing`)."""
+    top_cover: float | None = None
+    """Nominal cover to the top bars [mm] (default: `cover`)."""
+
+    @property
+    def top_tension_steel_area(self) -> float | None:
+        """Top steel area in the width b [mm2] (from `top_bar_spacing` if not given); None
+        without top bars."""
+        if self.top_steel_area is not None:
+            return self.top_steel_area
+        if self.top_bar_diameter is None or self.top_bar_spacing is None:
+            return None
+        bar_area = 3.141592653589793 * self.top_bar_diameter ** 2 / 4.0
+        return bar_area * self.width / self.top_bar_spacing
+
+    @property
+    def top_bar_cover(self) -> float:
+        """Nominal cover to the top bars [mm] (`top_cover`, else `cover`)."""
+        return self.cover if self.top_cover is None else self.top_cover
 
     @property
     def effective_depth(self) -> float:
@@ -701,10 +731,17 @@ def _target_override(s: _Schema, body: dict, path: str) -> tuple[float | None, s
 _MEMBER_COMMON = ("zone", "kind", "depth", "cover", "bar_diameter")
 _MEMBER_OPTIONAL = ("bar_spacing", "steel_area", "shear_reinforcement", "tension_face",
                     "target_beta", "target_beta_reason")
+#: Optional keys of slabs and beams continuous over their supports (hogging at the support).
+_CONTINUITY_KEYS = ("continuous", "span_count", "span_position", "top_bar_diameter",
+                    "top_bar_spacing", "top_steel_area", "top_cover")
+SPAN_POSITIONS = ("end", "interior")
+#: Most equal spans of a continuous run accepted [-].
+MAX_SPAN_COUNT = 20
 _MEMBER_KEYS = {
-    "one-way slab": (_MEMBER_COMMON + ("span",), _MEMBER_OPTIONAL + ("width",)),
+    "one-way slab": (_MEMBER_COMMON + ("span",),
+                     _MEMBER_OPTIONAL + ("width",) + _CONTINUITY_KEYS),
     "beam": (_MEMBER_COMMON + ("span", "width"),
-             _MEMBER_OPTIONAL + ("tributary_width", "slab_depth")),
+             _MEMBER_OPTIONAL + ("tributary_width", "slab_depth") + _CONTINUITY_KEYS),
     "flat-slab column connection": (
         _MEMBER_COMMON + ("column_size", "position", "span_x", "span_y"),
         _MEMBER_OPTIONAL + ("width",)),
@@ -793,6 +830,12 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
                               hint=" (the slab depth is in mm and at most the beam depth)")
 
     target_beta, reason = _target_override(s, body, path)
+    continuity = _continuity(s, body, path, depth=depth, cover=cover, width=width)
+    if continuity.get("continuous") and body.get("tension_face", "bottom") != "bottom":
+        raise s.error(f"{path}.tension_face",
+                      "a continuous member's main bars are its bottom (span) bars, with the "
+                      "top bars over the supports given by top_bar_diameter; set "
+                      'tension_face = "bottom" or leave it out')
     return Member(
         member_id=member_id,
         zone=zone,
@@ -816,7 +859,76 @@ def _member(s: _Schema, member_id: str, body: dict, zones: Mapping[str, Zone]) -
         slab_depth=slab_depth,
         target_beta=target_beta,
         target_beta_reason=reason,
+        **continuity,
     )
+
+
+def _continuity(s: _Schema, body: dict, path: str, *, depth: float, cover: float,
+                width: float) -> dict:
+    """The continuity keys of a slab or beam, checked (see docs/data-formats.md)."""
+    out: dict[str, Any] = {}
+    continuous = s.boolean(body.get("continuous", False), f"{path}.continuous")
+    out["continuous"] = continuous
+    for key in ("span_count", "span_position"):
+        if key in body and not continuous:
+            raise s.error(f"{path}.{key}", f"'{key}' describes a continuous member; set "
+                                           "continuous = true or leave it out")
+    if continuous:
+        for key, what in (("span_count", "the number of equal spans of the run (>= 2)"),
+                          ("span_position", '"end" or "interior"')):
+            if key not in body:
+                raise s.error(f"{path}.{key}", f"a continuous member needs '{key}': {what}")
+        count = s.integer(body["span_count"], f"{path}.span_count", 2, MAX_SPAN_COUNT)
+        position = s.text(body["span_position"], f"{path}.span_position", SPAN_POSITIONS)
+        if position == "interior" and count < 3:
+            raise s.error(f"{path}.span_position",
+                          f'a run of {count} spans has no interior span; use "end" or raise '
+                          "span_count")
+        out["span_count"], out["span_position"] = count, position
+    has_top = [k for k in ("top_bar_diameter", "top_bar_spacing", "top_steel_area", "top_cover")
+               if k in body]
+    if continuous and "top_bar_diameter" not in body:
+        raise s.error(f"{path}.top_bar_diameter",
+                      "a continuous member has a hogging mode over its supports and needs its "
+                      "top bars: give top_bar_diameter [mm] with top_bar_spacing [mm] (slabs) "
+                      "or top_steel_area [mm2] (beams)")
+    if not has_top:
+        return out
+    if "top_bar_diameter" not in body:
+        raise s.error(f"{path}.top_bar_diameter",
+                      f"'{has_top[0]}' is given without top_bar_diameter [mm]")
+    phi = s.number(body["top_bar_diameter"], f"{path}.top_bar_diameter", 3.0, 50.0, "mm", True)
+    has_spacing, has_area = "top_bar_spacing" in body, "top_steel_area" in body
+    if has_spacing == has_area:
+        which = "both" if has_spacing else "neither"
+        raise s.error(f"{path}.top_bar_spacing",
+                      "give exactly one of 'top_bar_spacing' [mm] or 'top_steel_area' [mm2] "
+                      f"with top_bar_diameter; found {which}")
+    top_cover = None
+    if "top_cover" in body:
+        top_cover = s.number(body["top_cover"], f"{path}.top_cover", 0.0, 200.0, "mm")
+    used_cover = cover if top_cover is None else top_cover
+    if used_cover + phi >= depth:
+        raise s.error(f"{path}.top_cover" if top_cover is not None else f"{path}.top_bar_diameter",
+                      f"top cover + top bar diameter ({used_cover + phi:g} mm) must be smaller "
+                      f"than the depth ({depth:g} mm)")
+    if has_spacing:
+        spacing = s.number(body["top_bar_spacing"], f"{path}.top_bar_spacing", phi, 1000.0, "mm",
+                           hint=" (must exceed the top bar diameter)")
+        area = 3.141592653589793 * phi ** 2 / 4.0 * width / spacing
+        out["top_bar_spacing"] = spacing
+    else:
+        area = s.number(body["top_steel_area"], f"{path}.top_steel_area", 0.0, 1.0e6, "mm2")
+        out["top_steel_area"] = area
+    ratio = area / (width * depth)
+    if ratio > MAX_REINFORCEMENT_RATIO:
+        key = "top_steel_area" if has_area else "top_bar_spacing"
+        raise s.error(f"{path}.{key}",
+                      f"top steel of {area:.6g} mm2 is {100 * ratio:.3g} % of the section "
+                      f"{width:g} x {depth:g} mm; at most {100 * MAX_REINFORCEMENT_RATIO:g} % "
+                      "is plausible; check the unit (mm2) and the width")
+    out["top_bar_diameter"], out["top_cover"] = phi, top_cover
+    return out
 
 
 SAMPLING_FITS = ("materials", "chloride", "carbonation", "corrosion")
@@ -929,6 +1041,7 @@ __all__ = [
     "EN206_OTHER_CLASSES",
     "EXPOSURES",
     "MEMBER_KINDS",
+    "SPAN_POSITIONS",
     "TARGET_BETA_RANGE",
     "CampaignInfo",
     "Loads",

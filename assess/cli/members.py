@@ -153,14 +153,17 @@ def members_command(
         return
     target = assessment.target
     table = Table(title=f"Reliability index beta per member ({target.reference_period_years:g}-year "
-                        f"reference period) against the target {target.beta:.1f}")
-    for col in ("member", "mode", "beta before", "CoV", "beta after", "CoV ", "verdict",
-                "main drivers (alpha^2)"):
-        table.add_column(col, justify="right" if col.startswith(("beta", "CoV")) else "left")
+                        f"reference period) against the target of each mode (site "
+                        f"{target.beta:.1f}; brittle modes stricter)")
+    for col in ("member", "mode", "beta before", "CoV", "beta after", "CoV ", "target",
+                "verdict", "main drivers (alpha^2)"):
+        table.add_column(col, justify="right" if col.startswith(("beta", "CoV", "target"))
+                         else "left")
     for r in assessment.results:
         drivers = ", ".join(f"{n} {a:.2f}" for n, a in r.drivers())
         table.add_row(r.member, r.mode, _fmt_beta(r.before.beta), _fmt_cov(r.before.cov),
-                      _fmt_beta(r.after.beta), _fmt_cov(r.after.cov), r.verdict, drivers)
+                      _fmt_beta(r.after.beta), _fmt_cov(r.after.cov), f"{r.target:.2f}",
+                      r.verdict, drivers)
     out_console.print(table)
     if not update.has_data:
         err_console.print("No test data has been used yet: 'after' equals 'before'. Import "

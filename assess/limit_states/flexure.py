@@ -1,7 +1,10 @@
 """Bending resistance of a singly reinforced rectangular RC section, mean-value form.
 
-Source: EN 1992-1-1:2004 3.1.7(3) rectangular stress block (lambda = 0.8, eta = 1.0
-for f_c <= 50 MPa) with all partial factors and alpha_cc equal to 1.
+Source: EN 1992-1-1:2004 3.1.7(3) rectangular stress block with all partial factors
+and alpha_cc equal to 1: lambda = 0.8, eta = 1.0 for f_c <= 50 MPa, and
+lambda = 0.8 - (f_c - 50)/400, eta = 1.0 - (f_c - 50)/200 for 50 < f_c <= 90 MPa,
+applied to each sampled strength (`stress_block_factors`); the ultimate strain
+epsilon_cu3 follows Table 3.1 in the same way.
 """
 
 from __future__ import annotations
@@ -25,6 +28,31 @@ STEEL_MODULUS_MPA = 200_000.0
 DUCTILITY_LIMIT_X_OVER_D = 0.45
 
 OVER_REINFORCED_MODES = ("balanced", "strain_compatibility")
+
+#: Highest strength class of EN 1992-1-1 Table 3.1 [MPa]; stronger samples keep its factors.
+MAX_TABULATED_STRENGTH_MPA = 90.0
+
+
+def stress_block_factors(concrete_strength_mpa):
+    """Stress-block factors (lambda, eta) of EN 1992-1-1:2004 3.1.7(3) [-], vectorised.
+
+    lambda = 0.8 and eta = 1.0 for f_c <= 50 MPa; lambda = 0.8 - (f_c - 50)/400,
+    eta = 1.0 - (f_c - 50)/200 for 50 < f_c <= 90 MPa (expressions 3.19-3.22);
+    above 90 MPa (outside the code) the 90 MPa values 0.7 and 0.8 are kept.
+    """
+    fc = np.clip(np.asarray(concrete_strength_mpa, dtype=float), 50.0, MAX_TABULATED_STRENGTH_MPA)
+    return 0.8 - (fc - 50.0) / 400.0, 1.0 - (fc - 50.0) / 200.0
+
+
+def ultimate_concrete_strain(concrete_strength_mpa):
+    """epsilon_cu3 of EN 1992-1-1:2004 Table 3.1 [-], vectorised.
+
+    3.5 per mille for f_c <= 50 MPa, 2.6 + 35 ((90 - f_c)/100)^4 per mille above
+    (from memory), the 90 MPa value 2.6 per mille beyond.
+    """
+    raw = np.asarray(concrete_strength_mpa, dtype=float)
+    fc = np.clip(raw, 50.0, MAX_TABULATED_STRENGTH_MPA)
+    return np.where(raw <= 50.0, 3.5, 2.6 + 35.0 * ((90.0 - fc) / 100.0) ** 4) / 1000.0
 
 
 @dataclasses.dataclass(frozen=True)
@@ -60,19 +88,24 @@ def balanced_x_over_d(yield_strength_mpa, *, steel_modulus_mpa: float = STEEL_MO
 
 
 def flexural_capacity_details(steel_area_mm2, yield_strength_mpa, concrete_strength_mpa,
-                              width_mm, effective_depth_mm, *, lam: float = 0.8,
-                              eta: float = 1.0, over_reinforced: str = "balanced",
+                              width_mm, effective_depth_mm, *, lam=None,
+                              eta=None, over_reinforced: str = "balanced",
                               steel_modulus_mpa: float = STEEL_MODULUS_MPA,
-                              ultimate_strain: float = ULTIMATE_CONCRETE_STRAIN) -> FlexureDetails:
+                              ultimate_strain=None) -> FlexureDetails:
     """Bending resistance and neutral-axis ratio; see `flexural_capacity` for parameters."""
     if over_reinforced not in OVER_REINFORCED_MODES:
         raise InputError(f"over_reinforced must be one of {OVER_REINFORCED_MODES}, "
                          f"got {over_reinforced!r}")
-    if not (0 < lam <= 1 and 0 < eta <= 1):
-        raise InputError(f"stress-block factors must satisfy 0 < lam, eta <= 1, got {lam}, {eta}")
     area = as_array(steel_area_mm2, "steel area", unit="mm2", allow_zero=True)
     fy = as_array(yield_strength_mpa, "yield strength", unit="MPa")
     fc = as_array(concrete_strength_mpa, "concrete strength", unit="MPa")
+    lam_fc, eta_fc = stress_block_factors(fc)
+    lam = lam_fc if lam is None else np.asarray(lam, dtype=float)
+    eta = eta_fc if eta is None else np.asarray(eta, dtype=float)
+    if not (np.all(lam > 0) and np.all(lam <= 1) and np.all(eta > 0) and np.all(eta <= 1)):
+        raise InputError(f"stress-block factors must satisfy 0 < lam, eta <= 1, got {lam}, {eta}")
+    ultimate_strain = (ultimate_concrete_strain(fc) if ultimate_strain is None
+                       else np.asarray(ultimate_strain, dtype=float))
     b = as_array(width_mm, "width", unit="mm")
     d = as_array(effective_depth_mm, "effective depth", unit="mm")
 
@@ -100,7 +133,7 @@ def flexural_capacity_details(steel_area_mm2, yield_strength_mpa, concrete_stren
 
 
 def flexural_capacity(steel_area_mm2, yield_strength_mpa, concrete_strength_mpa, width_mm,
-                      effective_depth_mm, *, lam: float = 0.8, eta: float = 1.0,
+                      effective_depth_mm, *, lam=None, eta=None,
                       over_reinforced: str = "balanced") -> np.ndarray:
     """Mean bending resistance M_R of a singly reinforced rectangular section [kNm].
 
@@ -114,13 +147,15 @@ def flexural_capacity(steel_area_mm2, yield_strength_mpa, concrete_strength_mpa,
     yield_strength_mpa : array-like
         Yield strength f_y [MPa].
     concrete_strength_mpa : array-like
-        In-situ compressive strength f_c, at most 50 MPa for lam = 0.8, eta = 1 [MPa].
+        In-situ compressive strength f_c [MPa]; it also sets lam, eta and
+        epsilon_cu3 when they are not given (EN 1992-1-1 3.1.7(3), Table 3.1).
     width_mm : array-like
         Width of the compression zone b [mm].
     effective_depth_mm : array-like
         Effective depth d [mm].
-    lam, eta : float
-        Stress-block depth and intensity factors (EN 1992-1-1 3.1.7(3)) [-].
+    lam, eta : float or array-like, optional
+        Stress-block depth and intensity factors [-]; default from f_c by
+        EN 1992-1-1 3.1.7(3) (`stress_block_factors`).
     over_reinforced : str
         ``"balanced"`` (default): where the steel would not yield, the neutral
         axis is capped at the balanced depth x_bal = eps_cu/(eps_cu + f_y/E_s) d,
@@ -152,11 +187,15 @@ def flexural_capacity(steel_area_mm2, yield_strength_mpa, concrete_strength_mpa,
 
 
 def neutral_axis_ratio(steel_area_mm2, yield_strength_mpa, concrete_strength_mpa, width_mm,
-                       effective_depth_mm, *, lam: float = 0.8, eta: float = 1.0) -> np.ndarray:
+                       effective_depth_mm, *, lam=None, eta=None) -> np.ndarray:
     """Neutral-axis ratio x/d with yielding steel, uncapped [-] (for ductility checks)."""
     area = as_array(steel_area_mm2, "steel area", unit="mm2", allow_zero=True)
     fy = as_array(yield_strength_mpa, "yield strength", unit="MPa")
     fc = as_array(concrete_strength_mpa, "concrete strength", unit="MPa")
     b = as_array(width_mm, "width", unit="mm")
     d = as_array(effective_depth_mm, "effective depth", unit="mm")
+    lam_fc, eta_fc = stress_block_factors(fc)
+    lam = lam_fc if lam is None else lam
+    eta = eta_fc if eta is None else eta
     return area * fy / (lam * eta * fc * b) / d
+

@@ -252,15 +252,15 @@ def car_park_vehicle_load_prior(loaded_area_m2: float, reference_period_years: f
     Notes
     -----
     Full occupancy on busy days is assumed (on the safe side for lightly used car
-    parks). Heavy vehicles (category G) are outside this model.
+    parks). Heavy vehicles (category G) are outside this model. This is the
+    vehicle load smeared over the loaded area; the member models use the point
+    loads at bay centres instead (`vehicle_weight_maximum_prior` with
+    `assess.limit_states.point_loads`), which matter for short strips and punching.
     """
     if not loaded_area_m2 > 0:
         raise InputError(f"loaded area must be positive [m2], got {loaded_area_m2!r}")
     if not reference_period_years > 0:
         raise InputError(f"reference period must be positive [years], got {reference_period_years!r}")
-    uses = CAR_PARK_VEHICLES["use"]
-    if use not in uses:
-        raise InputError(f"car-park use must be one of {sorted(uses)}, got {use!r}")
     mean_l = vehicle_weight_mean_kn or CAR_PARK_VEHICLES["vehicle_weight_mean_kn"]
     cov_l = vehicle_weight_cov or CAR_PARK_VEHICLES["vehicle_weight_cov"]
     bay = CAR_PARK_VEHICLES["bay_area_m2"]
@@ -268,13 +268,9 @@ def car_park_vehicle_load_prior(loaded_area_m2: float, reference_period_years: f
     area = max(loaded_area_m2, bay)
     state_mean = mean_l / bay
     state_std = cov_l * mean_l * math.sqrt(n_vehicles) / area
-    n_states = uses[use]["vehicles_per_bay_day"] * uses[use]["busy_days"] * reference_period_years
-    if n_states < 10:
-        raise InputError(f"only {n_states:.3g} independent load states in the reference period; "
-                         "the extreme-value approximation needs at least 10")
-    root = math.sqrt(2.0 * math.log(n_states))
-    a_n = root - (math.log(math.log(n_states)) + math.log(4.0 * math.pi)) / (2.0 * root)
-    scale = state_std / root
+    n_states = car_park_state_count(reference_period_years, use)
+    a_n, b_n = normal_extremes_constants(n_states)
+    scale = b_n * state_std
     location = state_mean + a_n * state_std
     mean = location + EULER_GAMMA * scale
     std = math.pi * scale / math.sqrt(6.0)
@@ -284,3 +280,71 @@ def car_park_vehicle_load_prior(loaded_area_m2: float, reference_period_years: f
                  note=f"{use} car park, loaded area {loaded_area_m2:.3g} m2 "
                       f"({n_vehicles:.3g} vehicles), {n_states:.3g} states in "
                       f"{reference_period_years:g} yr")
+
+
+def car_park_state_count(reference_period_years: float, use: str = "commercial") -> float:
+    """Independent occupancy states in the period: vehicles per bay and busy day x busy
+    days per year x T [-] (JCSS PMC car-park model, `CAR_PARK_VEHICLES`)."""
+    if not reference_period_years > 0:
+        raise InputError(f"reference period must be positive [years], got {reference_period_years!r}")
+    uses = CAR_PARK_VEHICLES["use"]
+    if use not in uses:
+        raise InputError(f"car-park use must be one of {sorted(uses)}, got {use!r}")
+    n_states = uses[use]["vehicles_per_bay_day"] * uses[use]["busy_days"] * reference_period_years
+    if n_states < 10:
+        raise InputError(f"only {n_states:.3g} independent load states in the reference period; "
+                         "the extreme-value approximation needs at least 10")
+    return n_states
+
+
+def normal_extremes_constants(n: float) -> tuple[float, float]:
+    """(a_n, b_n): the maximum of n standard normal values is about Gumbel(a_n, b_n) [-].
+
+    a_n = sqrt(2 ln n) - (ln ln n + ln 4 pi) / (2 sqrt(2 ln n)), b_n = 1/sqrt(2 ln n)
+    (Gumbel 1958, *Statistics of Extremes*; from memory).
+    """
+    if not n > 1:
+        raise InputError(f"the normal-extremes constants need n > 1, got {n!r}")
+    root = math.sqrt(2.0 * math.log(n))
+    return root - (math.log(math.log(n)) + math.log(4.0 * math.pi)) / (2.0 * root), 1.0 / root
+
+
+def vehicle_weight_maximum_prior(spread: float, reference_period_years: float = 1.0, *,
+                                 use: str = "commercial",
+                                 vehicle_weight_mean_kn: float | None = None,
+                                 vehicle_weight_cov: float | None = None) -> Prior:
+    """Gumbel model of the maximum effective vehicle weight on a member [kN].
+
+    With point loads at bay centres (`assess.limit_states.point_loads`) the effect
+    of one occupancy state is S = s1 W with W normal, mean mu_L and standard
+    deviation k sigma_L, k = sqrt(s2)/s1 the member's ``spread`` (1 for one
+    vehicle, 1/sqrt(N) for N vehicles of equal influence). The maximum of W over
+    the n states of the reference period (`car_park_state_count`) is Gumbel with
+    Gumbel's normal-extremes constants (`normal_extremes_constants`), as in
+    `car_park_vehicle_load_prior`; the effect of a mode is then s1 x this value.
+
+    Parameters
+    ----------
+    spread : float
+        k = sqrt(s2)/s1 of the member's load effect [-] (0 < k <= 1).
+    reference_period_years : float
+        Period of the maximum [years].
+    use : str
+        Key of ``CAR_PARK_VEHICLES["use"]``.
+    """
+    if not 0 < spread <= 1.0 + 1e-9:
+        raise InputError(f"the spread sqrt(s2)/s1 must lie in (0, 1], got {spread!r}")
+    mean_l = vehicle_weight_mean_kn or CAR_PARK_VEHICLES["vehicle_weight_mean_kn"]
+    cov_l = vehicle_weight_cov or CAR_PARK_VEHICLES["vehicle_weight_cov"]
+    n_states = car_park_state_count(reference_period_years, use)
+    a_n, b_n = normal_extremes_constants(n_states)
+    state_std = spread * cov_l * mean_l
+    location = mean_l + a_n * state_std
+    scale = b_n * state_std
+    return Prior("gumbel", location + EULER_GAMMA * scale, math.pi * scale / math.sqrt(6.0),
+                 unit="kN",
+                 source=CAR_PARK_VEHICLES["source"] + "; point loads at bay centres with influence "
+                        "coefficients (JCSS PMC Part 2 car parks); maximum of normal states by "
+                        "Gumbel's normal-extremes constants (from memory)",
+                 note=f"{use} car park, spread {spread:.3g} ({1 / spread**2:.3g} equivalent "
+                      f"vehicles), {n_states:.3g} states in {reference_period_years:g} yr")

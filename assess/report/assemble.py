@@ -265,6 +265,7 @@ def _section_history(doc, run) -> list:
 def _section_sources(doc, run, target) -> dict:
     from assess.site.knowledge import design_knowledge
     from assess.site.member_models import build_member_model
+    from assess.targets import BRITTLE_BASIS, DUCTILE_BASIS
 
     sec = doc.add_section("Models, assumptions and their sources")
     sources: dict[str, str] = {}
@@ -277,6 +278,7 @@ def _section_sources(doc, run, target) -> dict:
         for name, source in model.sources.items():
             sources.setdefault(name.split(".")[0], source)
     sources["target reliability"] = target.source
+    sources["target per mode"] = f"{DUCTILE_BASIS}; {BRITTLE_BASIS}"
     sources["convergence gate"] = ("Vehtari et al. 2021, Bayesian Analysis 16(2): rank-normalised "
                                    "R-hat <= 1.01, ESS >= 400; no divergences")
     sources["posterior into reliability"] = (

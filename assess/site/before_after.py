@@ -5,7 +5,10 @@ uses the posteriors of `site_update.update_site`. Both use the same loads,
 model uncertainties and seeds (common random numbers), so the change in beta
 is due to the site's evidence. The target is chosen from the site file's
 settings (`assess.targets.target_beta`) for the same reference period as the
-loads.
+loads, per mode (`assess.targets.mode_target`: ductile flexure and hogging at
+the site target, brittle shear without stirrups and punching stricter); the
+member system takes the strictest target of its modes. A target set in the site
+file for the member or its zone applies to every mode as given.
 """
 
 from __future__ import annotations
@@ -22,7 +25,7 @@ from assess.site.paths import has_ledger
 from assess.site.record import LedgerRow
 from assess.site.result_cache import cached_result, member_payload
 from assess.site.settings import DEFAULT_SEED
-from assess.targets import Target, target_beta, verdict
+from assess.targets import Target, mode_target, system_target, target_beta, verdict
 
 DEFAULT_METHOD = "subset_simulation"
 
@@ -40,6 +43,9 @@ class MemberResult:
     form_after: Any | None
     target: float
     verdict: str
+    target_basis: str = ""
+    """Why this target: ductile / brittle mode (brittle stricter), the system's strictest
+    mode, or a site-file override."""
 
     def drivers(self, count: int = 3) -> list[tuple[str, float]]:
         """Largest FORM importance factors alpha^2 (after updating), physical names merged."""
@@ -67,6 +73,7 @@ class MemberResult:
             "method": self.after.method,
             "seed": self.after.seed,
             "target": self.target,
+            "target_basis": self.target_basis,
             "verdict": self.verdict,
             "drivers": [{"variable": n, "alpha2": a} for n, a in self.drivers()],
             "form_converged": None if self.form_after is None else bool(self.form_after.converged),
@@ -150,6 +157,17 @@ def member_target(site, member, target: Target) -> Target:
     return target
 
 
+def _mode_goal(target: Target, modes: list, overridden: bool) -> Target:
+    """Target of one mode (or of the system of ``modes``): `assess.targets.mode_target`
+    (brittle modes stricter), the system the strictest of its modes; a target set in the
+    site file wins as given."""
+    if overridden:
+        return target
+    if len(modes) == 1:
+        return mode_target(modes[0], target)
+    return system_target(modes, target)
+
+
 def _verdict(beta: float, target) -> str:
     """`assess.targets.verdict`, with "no result" for an undefined beta (NaN)."""
     return "no result" if np.isnan(beta) else verdict(beta, target)
@@ -220,6 +238,7 @@ def assess_members(
                 knowledge[member.zone],
                 reference_period_years=period,
                 car_park_use=use,
+                local=(getattr(update, f"{state}_local", None) or {}).get(member.zone),
             )
             for state, knowledge in (("before", update.before), ("after", update.after))
         }
@@ -254,6 +273,7 @@ def assess_members(
         groups = [[m] for m in modes] + ([modes] if len(modes) > 1 else [])
         for group in groups:
             label = group[0] if len(group) == 1 else "system"
+            goal = _mode_goal(own_target, group, own_target is not target)
             run_seed = _analysis_seed(seed, member_id, label)
             before = (known_before or {}).get((member_id, label))
             if before is None:
@@ -276,8 +296,9 @@ def assess_members(
                     before=outcome["before"],
                     after=outcome["after"],
                     form_after=form_after,
-                    target=own_target.beta,
-                    verdict=_verdict(beta_after, own_target),
+                    target=goal.beta,
+                    verdict=_verdict(beta_after, goal),
+                    target_basis=goal.note or goal.source,
                 )
             )
         if progress:

@@ -446,6 +446,7 @@ class LifeCurve:
                 "beta": self.target.beta,
                 "reference_period_years": self.target.reference_period_years,
                 "source": self.target.source,
+                "note": self.target.note,
             },
             "remaining_life": self.remaining_life.to_dict(),
             "governing_mode": self.governing_mode,
@@ -522,6 +523,8 @@ def deteriorating_limit_state(
         )
         shifted = dict(x)
         shifted["area_ratio"] = x["area_ratio"] * factor
+        if "area_ratio_top" in x:  # top bars of a continuous member: same zone rate
+            shifted["area_ratio_top"] = x["area_ratio_top"] * factor
         return np.column_stack([f(shifted) for f in funcs])
 
     return limit_state_at
@@ -594,6 +597,7 @@ def project_member(
     from assess.reliability.subset import subset_simulation
     from assess.site.corrosion import zone_corrosion_inputs
     from assess.site.member_models import build_member_model
+    from assess.targets import mode_target, system_target
 
     if member_id not in site.members:
         raise InputError(
@@ -611,7 +615,11 @@ def project_member(
         corrosion = zone_corrosion_inputs(site, seed=seed)
     inputs = corrosion[member.zone]
     member_model = build_member_model(
-        site, member, update.after[member.zone], reference_period_years=1.0
+        site,
+        member,
+        update.after[member.zone],
+        reference_period_years=1.0,
+        local=(getattr(update, "after_local", None) or {}).get(member.zone),
     )
     inputs.add_to_model(member_model.model)
     if pitting:
@@ -643,10 +651,16 @@ def project_member(
         n_samples=n_samples,
         seed=run_seed,
     )
-    target = annual_target(site)
+    site_target = annual_target(site)
     start_year = _decimal_year(site.site.assessment_date)
     curves = []
     for label in groups:
+        # each mode against its own target (brittle stricter), the system the strictest
+        target = (
+            system_target(mode_names, site_target)
+            if label == "system"
+            else mode_target(label, site_target)
+        )
         beta, lower, upper = beta_band(estimate.pf[label], estimate.cov[label])
         governing = label
         if label == "system":

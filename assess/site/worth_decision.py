@@ -180,6 +180,15 @@ class ConditionalReliability:
         self.modes = list(member_model.modes)
         base = member_model.model
         physical = {v for v, _ in PHYSICAL.values()}
+        # further bar layers (top bars of continuous members) take their zone's populations
+        self._layers = [
+            (variable, quantity)
+            for quantity, (main, _) in PHYSICAL.items()
+            for cover, ratio in getattr(member_model, "layers", {}).values()
+            for variable in (cover, ratio)
+            if variable != main and variable in base.names and variable.startswith(main)
+        ]
+        physical |= {v for v, _ in self._layers}
         self._others = [n for n in base.names if n.split(".")[0] not in physical]
         roots, matrix, _ = base.correlation_matrix()
         self._correlations = [
@@ -203,6 +212,13 @@ class ConditionalReliability:
                 add_uncertain_quantity(model, variable, self.repair_population, kind=kind)
             else:
                 add_fixed_quantity(model, variable, theta_row[2 * i], theta_row[2 * i + 1], kind)
+            for extra, of in self._layers:
+                if of != quantity:
+                    continue
+                if quantity == "area_ratio" and alternative.kind == "repair":
+                    add_uncertain_quantity(model, extra, self.repair_population, kind=kind)
+                else:
+                    add_fixed_quantity(model, extra, theta_row[2 * i], theta_row[2 * i + 1], kind)
         base = self.member_model.model
         for name in self._others:
             distribution = base.marginal(name)
@@ -386,7 +402,11 @@ def system_beta_after(site, update, member_id: str, reference_period_years: floa
     """FORM system beta of a member on updated knowledge (sum of mode pfs as system pf) [-]."""
     member = site.members[member_id]
     model = build_member_model(
-        site, member, update.after[member.zone], reference_period_years=reference_period_years
+        site,
+        member,
+        update.after[member.zone],
+        reference_period_years=reference_period_years,
+        local=(getattr(update, "after_local", None) or {}).get(member.zone),
     )
     pf = 0.0
     for mode in model.modes:
@@ -639,7 +659,11 @@ def build_site_decision(
     annual_target = target_beta(site.target.consequence_class, 1.0, site.target.cost_of_safety)
     horizon_target = float(convert_reference_period(annual_target.beta, 1.0, setup.horizon_years))
     member_model = build_member_model(
-        site, site.members[member_id], update.after[zone], reference_period_years=1.0
+        site,
+        site.members[member_id],
+        update.after[zone],
+        reference_period_years=1.0,
+        local=(getattr(update, "after_local", None) or {}).get(zone),
     )
     notes.extend(member_model.notes)
     reliability = ConditionalReliability(member_model, update.before[zone]["area_ratio"])
