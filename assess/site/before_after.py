@@ -247,7 +247,7 @@ def assess_members(
                 site,
                 member,
                 knowledge[member.zone],
-                local=getattr(update, f"{state}_local", {}).get(member.zone),
+                local=(getattr(update, f"{state}_local", None) or {}).get(member.zone),
                 reference_period_years=period,
                 car_park_use=use,
             )
