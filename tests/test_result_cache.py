@@ -159,3 +159,36 @@ def test_result_round_trip_is_exact():
         np.testing.assert_equal(getattr(back, field.name), getattr(result, field.name))
     assert back.warnings == ("a", "b") and back.settings["levels"] == (1, 2)
     assert back.pf == result.pf and back.beta == result.beta and math.isnan(back.cov)
+
+
+def test_remaining_life_curves_are_read_back_when_nothing_changed(site, monkeypatch):
+    import assess.site.projection as projection
+    from assess.site.corrosion import zone_corrosion_inputs
+
+    made = {"n": 0}
+    original = projection.project_member
+
+    def counting(*args, **kwargs):
+        made["n"] += 1
+        if made["n"] == 1:
+            made["curves"] = original(*args, **kwargs)
+        return made["curves"]  # later misses only counted (the projection is slow)
+
+    monkeypatch.setattr(projection, "project_member", counting)
+    update = update_of(site, 0.05)
+    corrosion = zone_corrosion_inputs(site, seed=4, prior_samples=2000)
+    options = {
+        "corrosion": corrosion,
+        "members": [MEMBER],
+        "horizon_years": 2.0,
+        "n_samples": 200,
+        "seed": 4,
+    }
+    cold = projection.project_site(site, update, **options)
+    warm = projection.project_site(site, update, **options)
+    assert made["n"] == 1
+    assert [type(c) for c in warm] == [type(c) for c in cold]
+    for a, b in zip(cold, warm):
+        np.testing.assert_equal(dataclasses.asdict(a), dataclasses.asdict(b))
+    projection.project_site(site, update, **{**options, "n_samples": 201})
+    assert made["n"] == 2

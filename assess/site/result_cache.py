@@ -18,6 +18,7 @@ from __future__ import annotations
 import dataclasses
 import functools
 import hashlib
+import importlib
 import json
 import os
 import tempfile
@@ -70,6 +71,7 @@ def member_payload(site, member, populations, *, local=None, **model_options) ->
         "materials": site.materials,
         "priors": getattr(site, "priors", None),
         "target": site.target,
+        "site": getattr(site, "site", None),
         "populations": populations,
         "local": local,
         "model_options": model_options,
@@ -100,6 +102,14 @@ def _encode(value: Any) -> Any:
         return int(value)
     if isinstance(value, np.floating):
         return float(value)
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        home = type(value).__module__
+        if not home.startswith("assess."):
+            raise _Unstorable(f"{type(value).__name__} from {home}")
+        fields = {
+            f.name: _encode(getattr(value, f.name)) for f in dataclasses.fields(value) if f.init
+        }
+        return {"__dataclass__": f"{home}:{type(value).__qualname__}", "fields": fields}
     if isinstance(value, tuple):
         return {"__tuple__": [_encode(v) for v in value]}
     if isinstance(value, list):
@@ -107,7 +117,7 @@ def _encode(value: Any) -> Any:
     if isinstance(value, dict):
         if not all(isinstance(k, str) for k in value):
             raise _Unstorable("dict with keys that are not text")
-        if "__array__" in value or "__tuple__" in value:
+        if {"__array__", "__tuple__", "__dataclass__"} & set(value):
             raise _Unstorable("dict with a reserved key")
         return {k: _encode(v) for k, v in value.items()}
     raise _Unstorable(type(value).__name__)
@@ -121,8 +131,23 @@ def _decode(value: Any) -> Any:
             return np.array(value["__array__"], dtype=np.dtype(value["dtype"]))
         if "__tuple__" in value:
             return tuple(_decode(v) for v in value["__tuple__"])
+        if "__dataclass__" in value:
+            return _dataclass(value["__dataclass__"])(**_decode(value["fields"]))
         return {k: _decode(v) for k, v in value.items()}
     return value
+
+
+def _dataclass(where: str) -> type:
+    """The class named ``module:qualname``, only from this library's own modules."""
+    home, _, name = where.partition(":")
+    if not home.startswith("assess."):
+        raise ValueError(f"a stored result names a class outside the library: {where!r}")
+    found = importlib.import_module(home)
+    for part in name.split("."):
+        found = getattr(found, part)
+    if not (isinstance(found, type) and dataclasses.is_dataclass(found)):
+        raise ValueError(f"{where!r} is not a dataclass")
+    return found
 
 
 def encode_result(result: ReliabilityResult) -> str:
@@ -147,6 +172,34 @@ def _write_atomically(text: str, path: Path) -> None:
     finally:
         if os.path.exists(tmp):
             os.unlink(tmp)
+
+
+def cached_value(site_folder: Path | None, kind: str, payload: dict, run: Callable[[], Any]):
+    """`cached_result` for any value made of numbers, text, arrays, lists, dicts and this
+    library's dataclasses (e.g. the remaining-life curves of a member); ``kind`` names it
+    in the hash."""
+    if site_folder is None:
+        return run()
+    digest = content_hash(kind, {"inputs": payload, "code": code_fingerprint()})
+    path = result_path(Path(site_folder), digest)
+    if path.exists():
+        try:
+            return _decode(json.loads(path.read_text(encoding="utf-8"))["value"])
+        except Exception as exc:  # any unreadable file: set aside and run again
+            moved = set_aside(path)
+            warnings.warn(
+                f"the stored result {path.name} could not be read ({type(exc).__name__}); it "
+                f"was set aside as {moved.name} and the analysis was run again",
+                UserWarning,
+                stacklevel=2,
+            )
+    value = run()
+    try:
+        text = json.dumps({"value": _encode(value)}, allow_nan=True)
+    except _Unstorable:
+        return value
+    _write_atomically(text, path)
+    return value
 
 
 def cached_result(
@@ -201,6 +254,7 @@ def clean_stale_temporaries(site_folder: Path, *, older_than: float = 0.0) -> li
 __all__ = [
     "RESULT_FOLDER",
     "cached_result",
+    "cached_value",
     "clean_stale_temporaries",
     "code_fingerprint",
     "decode_result",
