@@ -773,7 +773,8 @@ def project_site(
                 folder,
                 "life",
                 payload,
-                lambda member_id=member_id: project_member(
+                partial(
+                    project_member,
                     site,
                     member_id,
                     update,
