@@ -33,8 +33,8 @@ def test_record_kinds_of_the_help_text_are_the_readers_kinds():
 
 
 def test_method_names_are_the_dispatch_table():
+    from assess.method_names import METHOD_NAMES
     from assess.reliability.dispatch import METHODS
-    from assess.reliability.names import METHOD_NAMES
 
     assert tuple(METHODS) == METHOD_NAMES
 

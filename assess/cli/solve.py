@@ -16,7 +16,7 @@ from rich.table import Table
 
 from assess.cli.app import app, err_console, guard, out_console, plain, print_caution
 from assess.errors import InputError
-from assess.reliability.names import METHOD_NAMES
+from assess.method_names import METHOD_NAMES
 
 if TYPE_CHECKING:
     from assess.problem_file import LoadedProblem

@@ -13,35 +13,17 @@ several design points), `sorm` (curvatures; Breitung, Hohenbichler-Rackwitz, Tve
 (aCS or modified Metropolis), `crude_monte_carlo`; `run_method` dispatches by name.
 """
 
-import importlib
+from assess.reliability.auto import auto
+from assess.reliability.crude import crude_monte_carlo
+from assess.reliability.dispatch import METHODS, run_method
+from assess.reliability.form import form
+from assess.reliability.importance import importance_sampling
+from assess.reliability.problem import StandardNormalProblem
+from assess.reliability.result import ReliabilityResult, beta_from_pf, pf_from_beta
+from assess.reliability.sorm import sorm
+from assess.reliability.subset import subset_simulation
 
-# Imported on first use (PEP 562): the command line reads method names and formats results
-# without loading every method and scipy.stats.
-_HOMES = {
-    "auto": "assess.reliability.auto",
-    "crude_monte_carlo": "assess.reliability.crude",
-    "METHODS": "assess.reliability.dispatch",
-    "run_method": "assess.reliability.dispatch",
-    "form": "assess.reliability.form",
-    "importance_sampling": "assess.reliability.importance",
-    "StandardNormalProblem": "assess.reliability.problem",
-    "ReliabilityResult": "assess.reliability.result",
-    "beta_from_pf": "assess.reliability.result",
-    "pf_from_beta": "assess.reliability.result",
-    "sorm": "assess.reliability.sorm",
-    "subset_simulation": "assess.reliability.subset",
-}
-
-
-def __getattr__(name: str):
-    if name in _HOMES:
-        value = getattr(importlib.import_module(_HOMES[name]), name)
-        globals()[name] = value
-        return value
-    raise AttributeError(f"module 'assess.reliability' has no attribute {name!r}")
-
-
-__all__ = [  # noqa: F822 (names resolved by __getattr__)
+__all__ = [
            "METHODS",
            "ReliabilityResult",
            "StandardNormalProblem",

@@ -5,11 +5,11 @@ from __future__ import annotations
 import inspect
 
 from assess.errors import InputError
+from assess.method_names import METHOD_NAMES
 from assess.reliability.auto import auto
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.form import form
 from assess.reliability.importance import importance_sampling
-from assess.reliability.names import METHOD_NAMES
 from assess.reliability.problem import StandardNormalProblem
 from assess.reliability.result import ReliabilityResult
 from assess.reliability.sorm import sorm
@@ -41,7 +41,7 @@ METHODS = {
 """Reliability methods by name; the keys are the valid ``method`` values of `run_method`."""
 
 if tuple(METHODS) != METHOD_NAMES:  # the light list the command line reads must follow
-    raise ImportError("assess.reliability.names.METHOD_NAMES does not match METHODS")
+    raise ImportError("assess.method_names.METHOD_NAMES does not match METHODS")
 
 CHECKED_DEFAULTS = {"check": True, "design_points": 4}
 """Options `run_method` gives FORM, SORM and importance sampling unless the caller sets

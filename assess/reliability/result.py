@@ -6,6 +6,8 @@ import dataclasses
 import math
 from typing import TYPE_CHECKING, Any
 
+from assess.beta_text import format_beta  # noqa: F401 (its home before; still imported from here)
+
 if TYPE_CHECKING:  # the command line imports this module for format_beta: no numpy there
     import numpy as np
 
@@ -96,13 +98,3 @@ class ReliabilityResult:
                for f in dataclasses.fields(self)}
         out["log10_pf"] = to_json_native(self.log10_pf)
         return out
-
-
-def format_beta(beta, *, no_failure: str = "> 8", minus_infinity: str = "-inf") -> str:
-    """Beta for tables: two decimals; ``no_failure`` for +inf (no failed sample), "-" for
-    NaN or None, ``minus_infinity`` for -inf (pf = 1)."""
-    if beta is None or math.isnan(beta):
-        return "-"
-    if math.isinf(beta):
-        return no_failure if beta > 0 else minus_infinity
-    return f"{beta:.2f}"

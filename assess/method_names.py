@@ -1,4 +1,4 @@
-"""Names of the reliability methods, without importing them (for the command line's choices).
+"""Names of the reliability methods, without importing them (the command line's choices).
 
 `assess.reliability.dispatch.METHODS` holds the functions under the same names, in the same
 order (checked there on import).
