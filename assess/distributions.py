@@ -39,7 +39,7 @@ Vols. 1 and 2, 2nd ed., Wiley, 1994/1995 (moments of each family).
 from __future__ import annotations
 
 import numpy as np
-from scipy import special, stats
+from scipy import special
 
 from assess.errors import InputError
 
@@ -319,6 +319,8 @@ class _TruncatedNormal:
         self._mu, self._sigma = mu, sigma
         self._a = (lower - mu) / sigma
         self._b = (upper - mu) / sigma
+        from scipy import stats  # on first use: scipy.stats takes long to import
+
         self._scipy = stats.truncnorm(self._a, self._b, loc=mu, scale=sigma)
         upper_side = self._a > 0  # both bounds above the parent mean: use sf differences
         self._mass = np.where(upper_side, special.ndtr(-self._a) - special.ndtr(-self._b),
@@ -511,6 +513,14 @@ def _fast_x_from_u(kind, p, u):
     if kind == "gumbel":
         return p["loc"] - p["scale"] * np.log(-special.log_ndtr(u))
     if kind == "gamma":
+        if np.ndim(p["shape"]) == 0 and np.ndim(p["scale"]) == 0:
+            # fixed parameters (a root variable): no broadcasting, one inverse per point
+            x = np.empty(u.shape)
+            low = u < 0.0
+            high = ~low
+            x[low] = special.gammaincinv(p["shape"], special.ndtr(u[low]))
+            x[high] = special.gammainccinv(p["shape"], special.ndtr(-u[high]))
+            return p["scale"] * x
         shape, scale = np.broadcast_arrays(p["shape"], p["scale"], u)[:2]
         x = np.empty(np.broadcast(shape, u).shape)
         u_b = np.broadcast_to(u, x.shape)
@@ -532,10 +542,86 @@ def _fast_u_from_x(kind, p, x):
             return (np.log(x) - p["mu_ln"]) / p["sigma_ln"]
     if kind == "gamma":
         z = np.maximum(x, 0.0) / p["scale"]
+        if np.ndim(p["shape"]) == 0 and z.ndim == 1:
+            # fixed shape: the upper tail only where it is needed (the same values)
+            u = special.ndtri(special.gammainc(p["shape"], z))
+            upper = ~(u <= 0.0)
+            u[upper] = -special.ndtri(special.gammaincc(p["shape"], z[upper]))
+            return u
         cdf = special.gammainc(p["shape"], z)
         sf = special.gammaincc(p["shape"], z)
         return np.where(cdf <= 0.5, special.ndtri(cdf), -special.ndtri(sf))
     return None
+
+
+def conditional_x_from_u(kind: str, values: dict, u, name: str | None = None) -> np.ndarray:
+    """x = F^-1(Phi(u)) for per-sample parameters, without building a `Distribution`.
+
+    The same arithmetic, checks and result as
+    ``make_distribution(kind, name=name, **values).x_from_u(u)``, in one pass for the
+    normal and lognormal kinds given by mean and std or by their native parameters
+    (the conditional variables of a member model, evaluated on every limit-state
+    call). Any other kind or keyword, and any parameter that fails a check, goes
+    through `make_distribution`, so errors read the same.
+
+    Parameters
+    ----------
+    kind : str
+        Distribution kind.
+    values : dict
+        Keyword parameters of `make_distribution` (floats or arrays (n,)).
+    u : ndarray
+        Standard normal values [-].
+    name : str, optional
+        Variable name for messages.
+
+    Returns
+    -------
+    ndarray
+        Physical values [variable units].
+    """
+    fast = _lean_normal_params(kind, values)
+    if fast is not None:
+        location, spread = fast
+        u = np.asarray(u, dtype=float)
+        if kind == "normal":
+            return location + spread * u
+        return np.exp(location + spread * u)
+    return make_distribution(kind, name=name, **values).x_from_u(u)
+
+
+def _lean_normal_params(kind, values):
+    """(mu, sigma) or (mu_ln, sigma_ln) as `make_distribution` computes them, else None."""
+    if kind not in ("normal", "lognormal") or len(values) != 2:
+        return None
+    native = _NATIVE_KEYS[kind]
+    if "mean" in values and "std" in values:
+        try:
+            mean = np.asarray(values["mean"], dtype=float)
+            std = np.asarray(values["std"], dtype=float)
+        except (TypeError, ValueError):
+            return None
+        # one check for all: NaN fails "> 0" and an infinite term makes the sum infinite
+        # (on any doubt the caller takes the checked path of `make_distribution`)
+        if not ((std > 0).all() and np.isfinite(mean + std).all()):
+            return None
+        if kind == "normal":
+            return mean, std
+        if not (mean > 0).all():
+            return None
+        sigma_ln = np.sqrt(np.log1p((std / mean) ** 2))
+        location, spread = np.log(mean) - 0.5 * sigma_ln**2, sigma_ln
+    elif native[0] in values and native[1] in values:
+        try:
+            location = np.asarray(values[native[0]], dtype=float)
+            spread = np.asarray(values[native[1]], dtype=float)
+        except (TypeError, ValueError):
+            return None
+    else:
+        return None
+    if not ((spread > 0).all() and np.isfinite(location + spread).all()):
+        return None
+    return location, spread
 
 
 def _build(kind, params, name):
@@ -559,6 +645,8 @@ def _build(kind, params, name):
 
 def _freeze(kind, p, name, check_only=False):
     """The scipy distribution (or, with ``check_only``, only the bound checks)."""
+    from scipy import stats  # on first use: the closed-form maps do not need scipy.stats
+
     if kind == "normal":
         frozen = stats.norm(loc=p["mu"], scale=p["sigma"])
     elif kind == "lognormal":
@@ -586,4 +674,7 @@ def _freeze(kind, p, name, check_only=False):
     return None if check_only else frozen
 
 
-__all__ = ["Distribution", "make_distribution", "weibull_shape_from_cov", "KINDS", "EULER_GAMMA"]
+__all__ = [
+    "Distribution", "make_distribution", "conditional_x_from_u", "weibull_shape_from_cov",
+    "KINDS", "EULER_GAMMA",
+]

@@ -26,9 +26,9 @@ from dataclasses import dataclass
 from typing import Callable, Sequence
 
 import numpy as np
-from scipy import linalg
+from scipy import linalg, special
 
-from assess.distributions import KINDS, Distribution, make_distribution
+from assess.distributions import KINDS, Distribution, conditional_x_from_u, make_distribution
 from assess.errors import InputError
 from assess.nataf import corrected_correlation_matrix
 from assess.reliability.problem import StandardNormalProblem
@@ -44,6 +44,54 @@ class _Conditional:
     kind: str
     parents: tuple
     params: Callable[[dict], dict]
+
+
+_ROOT, _CONSTANT, _CHILD, _GROUPED = "root", "constant", "child", "grouped"
+_GROUPED_KINDS = {
+    "normal": ("mu", "sigma"),
+    "lognormal": ("mu_ln", "sigma_ln"),
+    "gumbel": ("loc", "scale"),
+    "gamma": ("shape", "scale"),
+}
+"""Root kinds mapped together, one numpy call for all roots of a kind (the same closed forms
+as `assess.distributions.Distribution.x_from_u`, element by element)."""
+
+
+def _grouped_roots(groups: list, z: np.ndarray) -> dict[str, np.ndarray]:
+    """Physical values of the grouped roots from their normal-space values z [units]."""
+    out: dict[str, np.ndarray] = {}
+    for kind, names, indices, p in groups:
+        zt = np.ascontiguousarray(z[:, indices].T)  # one row per variable
+        if kind == "normal":
+            values = p["mu"] + p["sigma"] * zt
+        elif kind == "lognormal":
+            values = np.exp(p["mu_ln"] + p["sigma_ln"] * zt)
+        elif kind == "gumbel":
+            values = p["loc"] - p["scale"] * np.log(-special.log_ndtr(zt))
+        else:  # gamma: the lower and upper tails through their own inverses
+            values = np.empty(zt.shape)
+            shape = np.broadcast_to(p["shape"], zt.shape)
+            low = zt < 0.0
+            high = ~low
+            values[low] = special.gammaincinv(shape[low], special.ndtr(zt[low]))
+            values[high] = special.gammainccinv(shape[high], special.ndtr(-zt[high]))
+            values = p["scale"] * values
+        for row, name in enumerate(names):
+            out[name] = values[row]
+    return out
+
+
+@dataclass(frozen=True)
+class _Plan:
+    """What `ProbabilisticModel.u_to_x` does, worked out once: the u columns of the roots,
+    whether they are correlated, and one step per variable in Rosenblatt order."""
+
+    random_names: list
+    dim: int
+    root_columns: list
+    identity: bool
+    steps: list
+    groups: list
 
 
 class ProbabilisticModel:
@@ -63,6 +111,7 @@ class ProbabilisticModel:
         self._variables: dict[str, _Root | _Conditional] = {}
         self._correlations: dict[tuple[str, str], float] = {}
         self._transform = None
+        self._plan: _Plan | None = None
 
     # -- building ---------------------------------------------------------------
     def _check_new_name(self, name) -> None:
@@ -210,7 +259,35 @@ class ProbabilisticModel:
             else:
                 R0 = R.copy()
             self._transform = (roots, R, R0, np.linalg.cholesky(R0))
+            self._plan = self._make_plan(roots)
         return self._transform
+
+    def _make_plan(self, roots: list[str]) -> _Plan:
+        """The steps of `u_to_x`, fixed once per model (until a variable is added)."""
+        random_names = self.random_names
+        column = {n: k for k, n in enumerate(random_names)}
+        steps: list[tuple] = []
+        members: dict[str, list] = {}
+        for name, variable in self._variables.items():
+            if isinstance(variable, _Root):
+                dist = variable.distribution
+                if dist.is_random and dist.kind in _GROUPED_KINDS:
+                    members.setdefault(dist.kind, []).append((name, dist, roots.index(name)))
+                    steps.append((name, _GROUPED, None, None))
+                elif dist.is_random:
+                    steps.append((name, _ROOT, dist.x_from_u, roots.index(name)))
+                else:
+                    steps.append((name, _CONSTANT, float(dist.params["value"]), None))
+            else:
+                steps.append((name, _CHILD, variable, column.get(name)))
+        root_columns = [column[n] for n in roots]
+        identity = not self._correlations or root_columns == []
+        groups = []
+        for kind, entries in members.items():
+            keys = _GROUPED_KINDS[kind]
+            params = {k: np.array([[float(d.params[k])] for _, d, _ in entries]) for k in keys}
+            groups.append((kind, [n for n, _, _ in entries], [i for _, _, i in entries], params))
+        return _Plan(random_names, len(random_names), root_columns, identity, steps, groups)
 
     def _conditional_distribution(self, name: str, x: dict) -> Distribution:
         variable = self._variables[name]
@@ -235,23 +312,45 @@ class ProbabilisticModel:
             name -> ndarray (n,) [variable units], for every variable in `names`.
         """
         u = np.atleast_2d(np.asarray(u, dtype=float))
-        if u.ndim != 2 or u.shape[1] != self.dim:
-            raise InputError(f"u must have shape (n, {self.dim}), got {u.shape}")
-        roots, _, _, L = self._build()
-        column = {n: k for k, n in enumerate(self.random_names)}
-        z = u[:, [column[n] for n in roots]] @ L.T
-        z_of = {n: z[:, k] for k, n in enumerate(roots)}
+        _, _, _, L = self._build()
+        plan = self._plan
+        if u.ndim != 2 or u.shape[1] != plan.dim:
+            raise InputError(f"u must have shape (n, {plan.dim}), got {u.shape}")
         n_points = u.shape[0]
+        if plan.identity:  # no correlation: z = u (a product with I would turn inf into NaN)
+            z = u[:, plan.root_columns]
+        else:
+            z = u[:, plan.root_columns] @ L.T
+        grouped = _grouped_roots(plan.groups, z)
         x: dict[str, np.ndarray] = {}
-        for name, variable in self._variables.items():
-            if isinstance(variable, _Root):
-                dist = variable.distribution
-                coordinate = z_of[name] if dist.is_random else np.zeros(n_points)
+        for name, step, data, where in plan.steps:
+            if step is _GROUPED:
+                x[name] = grouped[name]
+                continue
+            if step is _ROOT:
+                value = data(z[:, where])
+            elif step is _CONSTANT:
+                x[name] = np.full(n_points, data)
+                continue
             else:
-                dist = self._conditional_distribution(name, x)
-                coordinate = u[:, column[name]] if dist.is_random else np.zeros(n_points)
-            x[name] = np.broadcast_to(dist.x_from_u(coordinate), (n_points,)).astype(float)
+                value = self._child_values(name, data, x, u, where, n_points)
+            value = np.asarray(value, dtype=float)
+            if value.shape != (n_points,):
+                value = np.broadcast_to(value, (n_points,)).astype(float)
+            x[name] = value
         return x
+
+    def _child_values(self, name: str, variable: _Conditional, x: dict, u: np.ndarray,
+                      column: int | None, n_points: int) -> np.ndarray:
+        """Values of a conditional variable given its parents' values in ``x``."""
+        values = variable.params({p: x[p] for p in variable.parents})
+        if not isinstance(values, dict):
+            raise InputError(f"variable '{name}': params must return a dict of distribution "
+                             f"parameters, got {type(values).__name__}")
+        if variable.kind == "deterministic":
+            dist = make_distribution(variable.kind, name=name, **values)
+            return dist.x_from_u(np.zeros(n_points))
+        return conditional_x_from_u(variable.kind, values, u[:, column], name)
 
     def x_to_u(self, x: dict) -> np.ndarray:
         """Standard normal coordinates from physical values (inverse of `u_to_x`).

@@ -30,6 +30,7 @@ from scipy.stats import norm
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
+import assess.reliability.subset as subset
 from assess.reliability import StandardNormalProblem, run_method
 from assess.reliability.subset import subset_simulation
 from tests import reference_problems as ref
@@ -131,7 +132,11 @@ def subset_study(repeats: int) -> None:
                 ("N=1700 p0=0.1", {"n_per_level": 1700, "p0": 0.1}),
                 ("N=1250 p0=0.2 (default)", {"n_per_level": 1250, "p0": 0.2}),
                 ("N=1000 p0=0.3", {"n_per_level": 1000, "p0": 0.3}),
-                ("N=1000 p0=0.1 MMA", {"n_per_level": 1000, "p0": 0.1, "sampler": "mma"})]
+                ("N=1000 p0=0.1 MMA", {"n_per_level": 1000, "p0": 0.1, "sampler": "mma"}),
+                # issue 14, about 10 000 evaluations at pf 1e-6; a* = target acceptance of aCS
+                ("N=1800 p0=0.1", {"n_per_level": 1800, "p0": 0.1}),
+                ("N=1800 p0=0.1 a*=0.55", {"n_per_level": 1800, "p0": 0.1, "a*": 0.55}),
+                ("N=1250 p0=0.2 a*=0.30", {"n_per_level": 1250, "p0": 0.2, "a*": 0.30})]
     header = (f"{'case':22s} {'setting':24s} {'bias':>6s} {'obs CoV':>7s} {'rep CoV':>7s} "
               f"{'rep/obs':>7s} {'+/-':>5s} {'Au-Beck/obs':>11s} {'evals':>7s} "
               f"{'CoV@10k':>7s}")
@@ -141,9 +146,13 @@ def subset_study(repeats: int) -> None:
         for pf in (1e-4, 1e-6):
             beta = float(norm.isf(pf))
             for label, options in settings:
-                if options.get("sampler") == "mma" and pf > 1e-5:
+                if (options.get("sampler") == "mma" or options.get("n_per_level") == 1800
+                        or "a*" in options) and pf > 1e-5:
                     continue
                 pfs, covs, au_beck, calls = [], [], [], []
+                options = dict(options)
+                acceptance = options.pop("a*", subset.TARGET_ACCEPTANCE)
+                default_acceptance, subset.TARGET_ACCEPTANCE = subset.TARGET_ACCEPTANCE, acceptance
                 for seed in range(repeats):
                     case = ref.linear_standard_normal(dim, beta)
                     result = subset_simulation(case.problem, seed=10_000 + seed, **options)
@@ -151,6 +160,7 @@ def subset_study(repeats: int) -> None:
                     covs.append(result.cov)
                     au_beck.append(result.details["cov_au_beck"])
                     calls.append(result.n_calls)
+                subset.TARGET_ACCEPTANCE = default_acceptance
                 pfs = np.array(pfs)
                 observed = float(pfs.std(ddof=1) / pfs.mean())
                 ratio = float(np.mean(covs)) / observed

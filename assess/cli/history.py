@@ -8,6 +8,7 @@ from typing import Annotated
 import typer
 from rich.table import Table
 
+from assess.beta_text import format_beta
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.members import new_run, run_with_status
 from assess.cli.options import (
@@ -22,7 +23,6 @@ from assess.cli.options import (
     TuneOption,
 )
 from assess.errors import InputError
-from assess.reliability.result import format_beta
 from assess.site.settings import DEFAULT_SEED
 
 

@@ -8,6 +8,7 @@ from typing import Annotated
 import typer
 from rich.table import Table
 
+from assess.beta_text import format_beta
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.options import (
     DrawsOption,
@@ -24,7 +25,6 @@ from assess.cli.options import (
     load_checked_site,
     make_settings,
 )
-from assess.reliability.result import format_beta
 from assess.site.settings import DEFAULT_SEED
 
 METHOD_NAMES = ("subset_simulation", "auto", "form", "sorm", "importance_sampling",

@@ -13,20 +13,23 @@ import json
 import os
 from importlib import resources
 from pathlib import Path
-from typing import Annotated, Optional
+from typing import TYPE_CHECKING, Annotated, Optional
 
 import typer
 from rich.table import Table
 
 from assess.cli.app import app, err_console, guard, out_console
 from assess.errors import InputError
-from inspection_io.importing import ImportReport, import_file, import_site
-from inspection_io.ledger import LEDGER_NAME, FileRecord, Ledger
-from inspection_io.ledger_check import check_ledger
-from inspection_io.locking import site_lock
-from inspection_io.readers import KINDS
-from inspection_io.site import load_site
-from inspection_io.summary import KIND_QUANTITIES, summarise, summary_to_dict
+
+if TYPE_CHECKING:
+    from inspection_io.importing import ImportReport
+    from inspection_io.ledger import FileRecord, Ledger
+
+# The readers and the ledger load pandas; they are imported inside the commands, so that
+# ``assess --help`` starts quickly. The record kinds for the help text are listed here
+# (tests/test_cli_startup.py checks them against `inspection_io.readers.KINDS`).
+RECORD_KINDS = ("cores", "tensile", "cover", "carbonation", "chloride", "halfcell",
+                "section_loss")
 
 site_app = typer.Typer(
     name="site",
@@ -37,7 +40,6 @@ site_app = typer.Typer(
 app.add_typer(site_app, name="site")
 
 FIRST_CAMPAIGN_FOLDER = "first-survey"
-SUMMARY_ORDER = ("cores",) + tuple(KIND_QUANTITIES)
 
 SiteFolder = Annotated[Path, typer.Argument(help="The site folder (holding site.toml).")]
 JsonFlag = Annotated[bool, typer.Option("--json", help="Print only JSON on stdout.")]
@@ -54,6 +56,8 @@ def _print_json(value) -> None:
 
 
 def _existing_ledger(folder: Path) -> Ledger | None:
+    from inspection_io.ledger import LEDGER_NAME, Ledger
+
     if not folder.is_dir():
         raise InputError("site folder not found", file=folder)
     path = folder / LEDGER_NAME
@@ -105,7 +109,7 @@ def import_(
         "--campaign", help="Campaign name for FILE (default: from campaign.toml beside it).")]
     = None,
     kind: Annotated[Optional[str], typer.Option(
-        "--kind", help=f"Kind of record in FILE: {', '.join(KINDS)} (default: from the "
+        "--kind", help=f"Kind of record in FILE: {', '.join(RECORD_KINDS)} (default: from the "
                        "headers).")] = None,
     date: Annotated[Optional[str], typer.Option(
         "--date", help="Date YYYY-MM-DD of a new campaign that has no campaign.toml.")] = None,
@@ -116,6 +120,9 @@ def import_(
     A corrected file is refused while the old one is in force: withdraw the old one
     first (assess site withdraw), then import the corrected one.
     """
+    from inspection_io.importing import import_file, import_site
+    from inspection_io.locking import site_lock
+
     if file is None:
         given = [name for name, value in (("--campaign", campaign), ("--kind", kind),
                                           ("--date", date)) if value is not None]
@@ -192,6 +199,9 @@ def summary(
     json_output: JsonFlag = False,
 ):
     """Per-zone summary of the files in force: cores, cover, carbonation, chloride, ..."""
+    from inspection_io.site import load_site
+    from inspection_io.summary import KIND_QUANTITIES, summarise, summary_to_dict
+
     as_of_date = _date_option(as_of, "--as-of")
     load_site(folder)
     ledger = _existing_ledger(folder)
@@ -201,7 +211,7 @@ def summary(
         observations = ledger.observations(as_of=as_of_date)
     options = {"include_flagged": set(include_flagged) if include_flagged else None}
     tables = {}
-    for kind in SUMMARY_ORDER:
+    for kind in ("cores",) + tuple(KIND_QUANTITIES):
         selected = observations[observations["kind"] == kind]
         if len(selected):
             tables[kind] = summarise(kind, selected, **options)
@@ -264,6 +274,8 @@ def withdraw(
     them out from now on, and 'assess site summary --as-of' an earlier day still shows
     them. Import the corrected file afterwards.
     """
+    from inspection_io.locking import site_lock
+
     ledger = _existing_ledger(folder)
     if ledger is None:
         raise InputError("nothing imported yet: there is no file to withdraw", file=folder)
@@ -325,6 +337,8 @@ def check(
     Runs SQLite's integrity check, verifies the hash chain over every import, withdrawal
     and result, the append-only triggers and the ledger's own rules. Changes nothing.
     """
+    from inspection_io.ledger_check import check_ledger
+
     if not folder.is_dir():
         raise InputError("site folder not found", file=folder)
     report = check_ledger(folder, anchor=anchor)

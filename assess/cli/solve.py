@@ -9,22 +9,19 @@ import json
 import math
 from enum import Enum
 from pathlib import Path
-from typing import Annotated
+from typing import TYPE_CHECKING, Annotated
 
 import typer
 from rich.table import Table
 
 from assess.cli.app import app, err_console, guard, out_console, plain, print_caution
 from assess.errors import InputError
-from assess.problem_file import (
-    METHODS,
-    SAMPLES_OPTION,
-    LoadedProblem,
-    load_problem,
-    result_block,
-)
+from assess.method_names import METHOD_NAMES
 
-Approach = Enum("Approach", {name: name for name in METHODS}, type=str)
+if TYPE_CHECKING:
+    from assess.problem_file import LoadedProblem
+
+Approach = Enum("Approach", {name: name for name in METHOD_NAMES}, type=str)
 Approach.__doc__ = "Approaches selectable on the command line (the engine's methods)."
 
 
@@ -50,6 +47,7 @@ def solve(
 ):
     """Solve the failure modes in PROBLEM_FILE: probability of failure, reliability index,
     design point and which uncertainty drives the risk."""
+    from assess.problem_file import SAMPLES_OPTION, load_problem, result_block
     from assess.reliability.dispatch import run_method
 
     if seed is not None and seed < 0:
@@ -97,7 +95,7 @@ def _number(value, digits: int = 4) -> str:
     return f"{value:.{digits}g}"
 
 
-def _answer_table(block: dict, loaded: LoadedProblem) -> Table:
+def _answer_table(block: dict, loaded: "LoadedProblem") -> Table:
     case = block["case"]
     title = case.get("title") or Path(case.get("file", "")).name
     answer = block["answer"]
@@ -147,7 +145,7 @@ def _modes_table(block: dict) -> Table | None:
     return table
 
 
-def _design_point_table(block: dict, loaded: LoadedProblem) -> Table | None:
+def _design_point_table(block: dict, loaded: "LoadedProblem") -> Table | None:
     x = block.get("design_point") or {}
     if not x:
         return None

@@ -5,6 +5,7 @@ from __future__ import annotations
 import inspect
 
 from assess.errors import InputError
+from assess.method_names import METHOD_NAMES
 from assess.reliability.auto import auto
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.form import form
@@ -38,6 +39,9 @@ METHODS = {
     "polynomial_chaos": polynomial_chaos,
 }
 """Reliability methods by name; the keys are the valid ``method`` values of `run_method`."""
+
+if tuple(METHODS) != METHOD_NAMES:  # the light list the command line reads must follow
+    raise ImportError("assess.method_names.METHOD_NAMES does not match METHODS")
 
 CHECKED_DEFAULTS = {"check": True, "design_points": 4}
 """Options `run_method` gives FORM, SORM and importance sampling unless the caller sets

@@ -4,10 +4,12 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import numpy as np
-from scipy import stats
+from assess.beta_text import format_beta  # noqa: F401 (its home before; still imported from here)
+
+if TYPE_CHECKING:  # the command line imports this module for format_beta: no numpy there
+    import numpy as np
 
 
 def beta_from_pf(pf: float) -> float:
@@ -16,12 +18,16 @@ def beta_from_pf(pf: float) -> float:
     Uses the inverse survival function so that tiny pf keep full precision
     (never ``ppf(1 - pf)``). pf = 0 gives +inf, pf = 1 gives -inf.
     """
-    return float(stats.norm.isf(pf))
+    from scipy import special  # on first use: the command line imports this module
+
+    return float(-special.ndtri(pf))  # = scipy.stats.norm.isf(pf)
 
 
 def pf_from_beta(beta: float) -> float:
     """Probability of failure from a reliability index, pf = Phi(-beta) [-]."""
-    return float(stats.norm.sf(beta))
+    from scipy import special
+
+    return float(special.ndtr(-beta))  # = scipy.stats.norm.sf(beta)
 
 
 @dataclasses.dataclass(frozen=True)
@@ -92,13 +98,3 @@ class ReliabilityResult:
                for f in dataclasses.fields(self)}
         out["log10_pf"] = to_json_native(self.log10_pf)
         return out
-
-
-def format_beta(beta, *, no_failure: str = "> 8", minus_infinity: str = "-inf") -> str:
-    """Beta for tables: two decimals; ``no_failure`` for +inf (no failed sample), "-" for
-    NaN or None, ``minus_infinity`` for -inf (pf = 1)."""
-    if beta is None or math.isnan(beta):
-        return "-"
-    if math.isinf(beta):
-        return no_failure if beta > 0 else minus_infinity
-    return f"{beta:.2f}"

@@ -28,7 +28,9 @@ from assess.reliability.interval import (
     sample_until_decided,
 )
 from assess.site.member_models import build_member_model
+from assess.site.paths import has_ledger
 from assess.site.record import LedgerRow
+from assess.site.result_cache import cached_result, member_payload
 from assess.site.settings import DEFAULT_SEED
 from assess.targets import Target, mode_target, system_target, target_beta
 
@@ -234,6 +236,7 @@ def assess_members(
     progress: Callable[[str], None] | None = None,
     known_before: dict | None = None,
     max_calls: int | None = None,
+    cache: bool = True,
 ) -> Assessment:
     """Beta before and after updating for every member, mode and member system.
 
@@ -263,12 +266,18 @@ def assess_members(
         pooled (`assess.reliability.interval.sample_until_decided`) until decided or the
         next repetition would exceed the budget. None: one run (the verdict may stay
         "undecided"). Members still undecided are named in the notes.
+    cache : bool, default True
+        Read and store every result in the site's reliability cache
+        (`assess.site.result_cache`: a hash of the member's model, knowledge, modes,
+        method, options, seed and code), so a run with nothing new samples nothing.
+        Only for an imported site (one with a ledger).
     """
     options = dict(options or {})
     period = float(site.target.reference_period)
     target = target_beta(site.target.consequence_class, period, site.target.cost_of_safety)
     chosen = list(members) if members is not None else list(site.members)
     use = getattr(getattr(site, "priors", None), "imposed_use", None) or "commercial"
+    cache_folder = site.folder if cache and has_ledger(site.folder) else None
     results: list[MemberResult] = []
     notes: list[str] = []
     for member_id in chosen:
@@ -287,6 +296,32 @@ def assess_members(
             )
             for state, knowledge in (("before", update.before), ("after", update.after))
         }
+        keys = {
+            state: member_payload(
+                site,
+                member,
+                knowledge[member.zone],
+                local=(getattr(update, f"{state}_local", None) or {}).get(member.zone),
+                reference_period_years=period,
+                car_park_use=use,
+            )
+            for state, knowledge in (("before", update.before), ("after", update.after))
+        }
+
+        def run(state, group, method, run_seed, options):
+            payload = {
+                **keys[state],
+                "modes": group,
+                "method": method,
+                "seed": run_seed,
+                "options": options,
+            }
+            return cached_result(
+                cache_folder,
+                payload,
+                lambda: run_method(models[state].problem(group), method, seed=run_seed, **options),
+            )
+
         notes.extend(n for n in models["after"].notes if n not in notes)
         modes = list(models["after"].modes)
         groups = [[m] for m in modes] + ([modes] if len(modes) > 1 else [])
@@ -296,23 +331,21 @@ def assess_members(
             run_seed = _analysis_seed(seed, member_id, label)
             before = (known_before or {}).get((member_id, label))
             if before is None:
-                before = run_method(
-                    models["before"].problem(group), method, seed=run_seed, **options
-                )
+                before = run("before", group, method, run_seed, options)
             if update.after is update.before:  # no test data: the same model
                 after = before
             else:
-                after = run_method(models["after"].problem(group), method, seed=run_seed, **options)
+                after = run("after", group, method, run_seed, options)
             level = CONFIDENCE
             if max_calls is not None and not np.isnan(after.beta):
-                problem_after = models["after"].problem(group)
 
-                def rerun(k, _problem=problem_after, _member=member_id, _label=label):
-                    return run_method(
-                        _problem,
+                def rerun(k, _group=group, _member=member_id, _label=label, _run=run):
+                    return _run(
+                        "after",
+                        _group,
                         method,
-                        seed=_analysis_seed(seed, _member, f"{_label}#{k}"),
-                        **options,
+                        _analysis_seed(seed, _member, f"{_label}#{k}"),
+                        options,
                     )
 
                 after, _, level = sample_until_decided(after, rerun, goal.beta, max_calls)
@@ -321,7 +354,7 @@ def assess_members(
             outcome = {"before": before, "after": after}
             form_after = None
             if importance and label != "system":
-                form_after = run_method(models["after"].problem(group), "form")
+                form_after = run("after", group, "form", None, {})
             results.append(
                 MemberResult(
                     member=member_id,

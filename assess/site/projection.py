@@ -973,8 +973,14 @@ def project_site(
     progress: Callable[[str], None] | None = None,
     pitting: bool = False,
     parameter_draws: int = PARAMETER_DRAWS,
+    cache: bool = True,
 ) -> list:
-    """`project_member` for every member (or those given); curves of all modes and systems."""
+    """`project_member` for every member (or those given); curves of all modes and systems.
+
+    With ``cache`` (an imported site), each member's curves are stored under a hash of its
+    model, knowledge, corrosion inputs, settings and code (`assess.site.result_cache`) and
+    read back when nothing changed.
+    """
     from assess.site.corrosion import zone_corrosion_inputs
 
     if corrosion is None:
@@ -987,21 +993,50 @@ def project_site(
             f"{', '.join(site.members)}",
             column="--member",
         )
+    from assess.site.paths import has_ledger
+    from assess.site.result_cache import cached_value, member_payload
+
+    folder = site.folder if cache and has_ledger(site.folder) else None
     curves = []
     for member_id in chosen:
-        curves.extend(
-            project_member(
+        member = site.members[member_id]
+        payload = {
+            **member_payload(
                 site,
-                member_id,
-                update,
-                corrosion=corrosion,
-                horizon_years=horizon_years,
-                step_years=step_years,
-                n_samples=n_samples,
-                seed=seed,
-                check_years=check_years,
-                pitting=pitting,
-                parameter_draws=parameter_draws,
+                member,
+                update.after[member.zone],
+                local=(getattr(update, "after_local", None) or {}).get(member.zone),
+            ),
+            "corrosion": corrosion.get(member.zone),
+            "projection": [
+                horizon_years,
+                step_years,
+                n_samples,
+                seed,
+                list(check_years),
+                pitting,
+                parameter_draws,
+            ],
+        }
+        curves.extend(
+            cached_value(
+                folder,
+                "life",
+                payload,
+                partial(
+                    project_member,
+                    site,
+                    member_id,
+                    update,
+                    corrosion=corrosion,
+                    horizon_years=horizon_years,
+                    step_years=step_years,
+                    n_samples=n_samples,
+                    seed=seed,
+                    check_years=check_years,
+                    pitting=pitting,
+                    parameter_draws=parameter_draws,
+                ),
             )
         )
         if progress:

@@ -60,7 +60,7 @@ def add_uncertain_quantity(model: ProbabilisticModel, name: str, population: Nor
 
         def location_params(values, _q=precision, _p=population, _rho=rho, _s=z_std_cond):
             score = _q.u_from_x(values[q_name])
-            return {"mean": _p.z_mean + _p.z_std * _rho * score, "std": np.full_like(score, _s)}
+            return {"mean": _p.z_mean + _p.z_std * _rho * score, "std": _s}
 
         model.add_conditional(z_name, "normal", [q_name], location_params)
 
