@@ -392,6 +392,9 @@ class LifeCurve:
         Cross-checks by subset simulation at given years.
     reference : str
         Always `ANNUAL_NOTE`.
+    anchor : dict
+        How the curve was tied to the members' "after" result at the assessment
+        date (`assess.site.life.anchor_to_members`); empty when it was not.
     """
 
     member: str
@@ -417,6 +420,7 @@ class LifeCurve:
     warnings: list
     checks: list = dataclasses.field(default_factory=list)
     reference: str = ANNUAL_NOTE
+    anchor: dict = dataclasses.field(default_factory=dict)
 
     @property
     def beta_now(self) -> float:
@@ -456,6 +460,7 @@ class LifeCurve:
             "centres": self.centres,
             "warnings": list(self.warnings),
             "checks": self.checks,
+            "anchor": self.anchor,
         }
 
 

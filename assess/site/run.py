@@ -213,7 +213,12 @@ def _life(run: SiteRun):
     update = run.step("materials")
     corrosion = run.step("corrosion")
     return compute_site_life(
-        run.site, update, corrosion.inputs, settings=run.settings, members=run.members
+        run.site,
+        update,
+        corrosion.inputs,
+        settings=run.settings,
+        members=run.members,
+        assessment=run.result("members"),
     )
 
 
@@ -225,7 +230,13 @@ def _worth(run: SiteRun):
     setup = read_decision_setup(path)
     update = run.step("materials")
     return compute_site_worth(
-        run.site, update, setup, member=run.worth_member, settings=run.settings, decision_file=path
+        run.site,
+        update,
+        setup,
+        member=run.worth_member,
+        settings=run.settings,
+        decision_file=path,
+        life=run.result("life"),
     )
 
 
