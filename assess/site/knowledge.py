@@ -139,6 +139,25 @@ def knowledge_rows(site, update) -> list[dict]:
     return rows
 
 
+_WARNED_CONCRETE: set = set()
+"""(site folder, class, production) whose concrete-table warning was already given."""
+
+
+def _concrete_prior_once(site):
+    """`concrete_prior` of the site's class; its table warning (interpolated or nearest
+    class) is given once per site and process, not by every step that needs the prior."""
+    materials = site.materials
+    key = (str(getattr(site, "folder", "")), materials.concrete_class, materials.production)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        prior = concrete_prior(materials.concrete_class, materials.production)
+    if key not in _WARNED_CONCRETE:
+        for item in caught:
+            _WARNED_CONCRETE.add(key)
+            warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
+    return prior
+
+
 def weak_normal_gamma(
     mean: float, predictive_std: float, n: float, nu: float, source: str
 ) -> NormalGamma:
@@ -237,7 +256,7 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
         _warn_if_characteristic(overrides.concrete_mean, "concrete_strength", "concrete_mean")
         concrete = concrete_override(overrides.concrete_mean, overrides.concrete_cov)
     else:
-        concrete = concrete_prior(site.materials.concrete_class, site.materials.production)
+        concrete = _concrete_prior_once(site)
     if overrides is not None and overrides.steel_mean is not None:
         _warn_if_characteristic(overrides.steel_mean, "steel_yield", "steel_mean")
         steel = weak_normal_gamma(

@@ -188,8 +188,11 @@ def _materials(run: SiteRun):
 
 def _members(run: SiteRun):
     from assess.site.before_after import assess_members
+    from assess.site.design_check import design_check_warnings
 
     update = run.step("materials")
+    for message in design_check_warnings(run.site):
+        warnings.warn(message, UserWarning, stacklevel=2)
     return assess_members(
         run.site,
         update,
