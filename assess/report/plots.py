@@ -10,9 +10,10 @@ Every axis label carries its unit in brackets ([-] for the reliability index
 beta, [years] for time). Members get a colour of Paul Tol's colour-blind-safe
 "muted" scheme (Tol 2021, "Colour schemes", SRON/EPS/TN/09-002) and a marker of
 their own (`member_style`: no two members share both); the target reliability is
-a dashed black line in every plot. Legends of member plots sit outside the axes,
-so they never cover a curve, the target or its label; the beta axis is limited to
-the range that matters (`beta_limits`).
+a dashed orange line (Tol "vibrant" #EE7733, in no member colour) in every plot.
+Legends of member plots sit outside the axes, so they never cover a curve, the
+target or its label; the beta axis is limited to the range that matters
+(`beta_limits`).
 """
 
 from __future__ import annotations
@@ -38,7 +39,7 @@ MEMBER_COLOURS = ("#332288", "#88CCEE", "#44AA99", "#117733", "#999933", "#DDCC7
 #: Member markers; with 9 colours and 9 markers, 81 members get distinct pairs.
 MEMBER_MARKERS = ("o", "s", "D", "^", "v", "P", "X", "h", "<")
 #: Colour of the target reliability line.
-TARGET_COLOUR = "#000000"
+TARGET_COLOUR = "#EE7733"
 #: The beta axis shows at most this far above the target (higher values are drawn at the
 #: top edge and named) [-].
 BETA_ABOVE_TARGET = 3.0
@@ -82,6 +83,22 @@ def _target_hline(ax, beta_target: float, period: str = "") -> None:
     words = f" ({period})" if period else ""
     ax.axhline(beta_target, color=TARGET_COLOUR, linestyle="--", linewidth=1.4,
                label=f"Target \u03b2{words} = {beta_target:.2f}")
+
+
+def _clear_corner(ax) -> None:
+    """Hide a beta tick label that the first or last date/time tick label would overlap
+    (they meet at the lower corners of the axes)."""
+    fig = ax.figure
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    x_boxes = [t.get_window_extent(renderer) for t in ax.get_xticklabels()
+               if t.get_visible() and t.get_text()]
+    for label in ax.get_yticklabels():
+        if not (label.get_visible() and label.get_text()):
+            continue
+        box = label.get_window_extent(renderer)
+        if any(box.overlaps(other) for other in x_boxes):
+            label.set_visible(False)
 
 
 def _legend_outside(ax) -> None:
@@ -365,6 +382,7 @@ def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any,
     ax.set_xlabel(_axis_label(time_label, time_unit))
     ax.set_ylabel(BETA_LABEL)
     _legend_outside(ax)
+    _clear_corner(ax)
     return fig
 
 
@@ -520,6 +538,7 @@ def plot_beta_history(dates: Any, history: Mapping[str, Any], beta_target: Any, 
     ax.set_ylabel(BETA_LABEL)
     ax.set_ylim(*beta_limits(np.concatenate(shown) if shown else [], target))
     _legend_outside(ax)
+    _clear_corner(ax)
     return fig
 
 
