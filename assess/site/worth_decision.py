@@ -625,11 +625,15 @@ def time_dependent_annual_pf(
     years = np.arange(int(horizon_years), dtype=float)
     yearly = np.repeat(pf_now[:, :, None], years.size, axis=2)
     if curve is None:
-        return yearly, (
-            "the annual failure probability is held constant over the horizon (no "
-            "remaining-life curve in this run); corrosion after the assessment date is "
-            "not counted"
-        ), False
+        return (
+            yearly,
+            (
+                "the annual failure probability is held constant over the horizon (no "
+                "remaining-life curve in this run); corrosion after the assessment date is "
+                "not counted"
+            ),
+            False,
+        )
     life_pf = np.interp(
         years,
         np.asarray(curve.years_from_assessment, dtype=float),
@@ -651,17 +655,25 @@ def time_dependent_annual_pf(
         yearly[:, a, :] = np.clip(pf_now[:, a, None] * factor[None, :], 0.0, 1.0)
         used.append(ALTERNATIVE_NAMES[kind])
     if not used:
-        return yearly, (
-            "the remaining-life curve has no failed sample at the assessment date; the "
-            "annual failure probability is held constant over the horizon"
-        ), False
+        return (
+            yearly,
+            (
+                "the remaining-life curve has no failed sample at the assessment date; the "
+                "annual failure probability is held constant over the horizon"
+            ),
+            False,
+        )
     total = float(life_pf.sum())
-    return yearly, (
-        f"the annual failure probability follows the member's remaining-life curve year "
-        f"by year ({', '.join(used)}; repair and replace stay constant): summed over the "
-        f"{int(horizon_years)} years it is {total:.3g} for 'keep as is', the same as the "
-        f"remaining-life section"
-    ), True
+    return (
+        yearly,
+        (
+            f"the annual failure probability follows the member's remaining-life curve year "
+            f"by year ({', '.join(used)}; repair and replace stay constant): summed over the "
+            f"{int(horizon_years)} years it is {total:.3g} for 'keep as is', the same as the "
+            f"remaining-life section"
+        ),
+        True,
+    )
 
 
 def failure_increments(yearly: np.ndarray) -> np.ndarray:

@@ -445,10 +445,10 @@ def recommendation_text(problem: DecisionProblem, results: Sequence[WorthResult]
                      f"{money(focus.evsi)} against its cost of "
                      f"{money(focus.programme_cost)}. Decide on present knowledge.")
     if math.isfinite(focus.probability_adequate):
-        criterion = (f"reliability index >= {focus.target_beta:g}"
+        criterion = (f"reliability index over the horizon >= {focus.target_beta:.2f}"
                      if focus.target_beta is not None else "the given criterion")
         lines.append(f"Probability that {focus.description} shows the structure adequate "
-                     f"({criterion}): {focus.probability_adequate:.0%}.")
+                     f"({criterion}): {focus.probability_adequate:.1%}.")
     lines.append(f"No test of any kind can be worth more than the value of perfect information, "
                  f"{money(first.evpi)}.")
     for result in results:
