@@ -73,8 +73,13 @@ def test_other_reference_period_is_not_tied_and_is_said():
     np.testing.assert_array_equal(curve.beta, before)
 
 
-def test_zero_pf_is_not_tied_and_is_said():
+def test_zero_pf_is_not_tied():
+    # members found no failed sample (beta = +inf): both show "> 8", nothing to tie, no note
     curve = _curve()
-    notes = anchor_to_members([curve], _assessment(math.inf))
+    assert anchor_to_members([curve], _assessment(math.inf)) == []
+    assert not curve.anchor
+    # the curve found none at t = 0 but the members did: not tied, and said
+    curve = _curve(p0=0.0)
+    notes = anchor_to_members([curve], _assessment(4.0))
     assert notes and "could not be tied" in notes[0]
     assert not curve.anchor

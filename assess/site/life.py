@@ -143,7 +143,9 @@ def anchor_to_members(curves: list, assessment) -> list[str]:
         pf_members = float(result.after.pf)
         cov_members = float(result.after.cov)
         pf0 = float(curve.pf[0])
-        if not (pf_members > 0.0 and pf0 > 0.0 and math.isfinite(pf_members)):
+        if pf_members <= 0.0:
+            continue  # no failed sample in the members' estimate: both are shown as "> 8"
+        if not (pf0 > 0.0 and math.isfinite(pf_members)):
             notes.append(
                 f"{curve.member} ({curve.mode}): the curve could not be tied to the members' "
                 f"beta after at the assessment date (a zero pf estimate); its own value is shown"

@@ -344,11 +344,19 @@ def _failure(run: SiteRun, name: str, exc: Exception, seconds: float) -> StepRec
     return record
 
 
+def _from_this_project(filename: str) -> bool:
+    """True when a warning was raised (or attributed) in `assess` or `inspection_io`."""
+    parts = Path(str(filename)).parts
+    return "assess" in parts or "inspection_io" in parts
+
+
 def _keep_warnings(run: SiteRun, record: StepRecord, caught) -> None:
     """Keep the distinct warnings of a step and show them the usual way, once each."""
     for item in caught:
         if not issubclass(item.category, UserWarning):
             continue  # library chatter (deprecations, numerical notices) is not for the report
+        if not _from_this_project(item.filename):
+            continue  # e.g. PyTensor's BLAS notice: about the machine, not the structure
         text = str(item.message)
         if text not in record.warnings:
             record.warnings.append(text)
