@@ -128,7 +128,10 @@ def anchor_to_members(curves: list, assessment) -> list[str]:
 
     notes: list[str] = []
     if assessment is None:
-        return notes
+        return [
+            "the members step did not run with this one: the curves' beta at the assessment "
+            "date is their own estimate, not the members' beta after"
+        ]
     if not math.isclose(float(assessment.reference_period_years), 1.0):
         return [
             f"the members section uses a {assessment.reference_period_years:g}-year "
