@@ -1,8 +1,8 @@
 """One number at the assessment date: the life curve starts at the members' beta after.
 
-The curve is rescaled as a ratio estimator, pf(t) = pf_members * pf_curve(t) /
-pf_curve(0) (common practice for estimates that share random numbers; the growth
-pf(t)/pf(0) is kept exactly). Checks are closed forms on invented curves.
+The curve is shifted in beta, beta(t) = beta_curve(t) + (beta_members - beta_curve(0))
+(our rule; the change beta(t) - beta(0) of the curve is kept exactly). Checks are
+closed forms on invented curves.
 """
 
 import math
@@ -38,31 +38,42 @@ def _assessment(beta_after, period=1.0, member="B1", mode="system", cov=0.04):
     return types.SimpleNamespace(reference_period_years=period, results=[result])
 
 
-def test_curve_starts_at_the_members_beta_after_and_keeps_its_growth():
+def test_curve_starts_at_the_members_beta_after_and_keeps_its_change():
     curve = _curve()
-    growth = curve.pf / curve.pf[0]
+    change = curve.beta - curve.beta[0]
     notes = anchor_to_members([curve], _assessment(4.0))
-    assert notes == []
     assert curve.beta[0] == 4.0                                # the same number, exactly
-    np.testing.assert_allclose(curve.pf / curve.pf[0], growth, rtol=1e-12)
-    assert curve.pf[0] == pytest.approx(stats.norm.sf(4.0), rel=1e-12)
+    np.testing.assert_allclose(curve.beta - curve.beta[0], change, atol=1e-12)
+    np.testing.assert_allclose(curve.pf, stats.norm.sf(curve.beta), rtol=1e-12)
     assert curve.anchor["beta_members_after"] == 4.0
     assert curve.anchor["beta_curve_own"] == pytest.approx(stats.norm.isf(1e-5))
-    # remaining life from the new curve: pf(t) = Phi(-4) 1.2^t reaches Phi(-4.2)? it starts
-    # below the target (4.0 < 4.2), so the member is already below
+    # 4.0 is 0.26 below the curve's own 4.26: under the note threshold of 0.5
+    assert notes == []
+    # it starts below the target 4.2, so the member is already below
     assert curve.remaining_life.status == "already below target"
 
 
-def test_remaining_life_follows_the_rescaled_curve_closed_form():
+def test_remaining_life_follows_the_shifted_curve_closed_form():
     curve = _curve()
     anchor_to_members([curve], _assessment(4.6))
-    # closed form: Phi(-4.6) 1.2^t = Phi(-4.2)  ->  t = ln(Phi(-4.2)/Phi(-4.6)) / ln 1.2
-    t_star = math.log(stats.norm.sf(4.2) / stats.norm.sf(4.6)) / math.log(1.2)
+    # closed form: isf(1e-5 1.2^t) + (4.6 - isf(1e-5)) = 4.2
+    #   ->  1e-5 1.2^t = sf(isf(1e-5) - 0.4)  ->  t = ln(sf(isf(1e-5) - 0.4) / 1e-5) / ln 1.2
+    t_star = math.log(stats.norm.sf(stats.norm.isf(1e-5) - 0.4) / 1e-5) / math.log(1.2)
     # linear interpolation of beta between whole years: within one year of the exact crossing
     assert abs(curve.remaining_life.years - t_star) < 1.0
     # band at t = 0 from the members' CoV (delta method)
     se = 0.04 * stats.norm.sf(4.6) / stats.norm.pdf(4.6)
     assert curve.beta_upper[0] - 4.6 == pytest.approx(2 * se, rel=1e-6)
+
+
+def test_far_tail_shift_stays_bounded_and_is_said():
+    # pf(0) = 1e-20 far in the tail (beta 9.26), the members say beta 8.5: a ratio of pf
+    # would multiply later years by ~2000; the shift moves them by 0.76 in beta only
+    curve = _curve(p0=1e-20, growth=3.0, years=5)
+    later = curve.beta[1:].copy()
+    notes = anchor_to_members([curve], _assessment(8.5))
+    np.testing.assert_allclose(curve.beta[1:], later + (8.5 - stats.norm.isf(1e-20)))
+    assert notes and "differ by 0.76" in notes[0]
 
 
 def test_other_reference_period_is_not_tied_and_is_said():

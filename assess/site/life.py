@@ -23,7 +23,7 @@ EXPLANATION = (
     "target. The band is +/- 2 standard errors of the sampling estimate only. "
     "At the assessment date the curve takes the members' beta after updating (the "
     "same number as the members section) when that section uses a 1-year reference "
-    "period; later years keep the curve's own growth pf(t)/pf(0)."
+    "period; later years keep the curve's own change in beta."
 )
 
 
@@ -95,38 +95,44 @@ class SiteLife:
         ]
 
 
+#: A difference in beta at the assessment date between the members' estimate and the
+#: curve's own above which the report says so [-].
+ANCHOR_NOTE_SHIFT = 0.5
+
+
 def anchor_to_members(curves: list, assessment) -> list[str]:
     """Tie each curve at the assessment date to the members' "after" result (one number).
 
     The members step (`assess.site.before_after`) and the life curves
     (`assess.site.projection`, importance sampling with common random numbers) both
-    estimate the annual pf of a member at the assessment date, with different
-    samples. So that the report shows ONE number, each curve is rescaled:
+    estimate the annual beta of a member at the assessment date, with different
+    samples. So that the report shows ONE number, each curve is shifted in beta:
 
-        pf(t) = pf_members * pf_curve(t) / pf_curve(0)
+        beta(t) = beta_curve(t) + (beta_members - beta_curve(0))
 
-    a ratio estimator: the curve contributes only the growth pf(t)/pf(0), which its
-    common random numbers estimate well, and pf(0) is the members' estimate. The
-    coefficient of variation of year t > 0 is taken as sqrt(CoV_members^2 +
-    CoV_curve(t)^2) (the positive correlation of the two curve estimates is ignored,
-    which overstates it); at t = 0 it is the members' CoV. Done only where the
-    members use a 1-year reference period and both estimates are positive.
+    The curve contributes only its change beta(t) - beta(0), which its common random
+    numbers estimate well; beta(0) is the members' estimate. A shift in beta (rather
+    than a ratio of pf) stays bounded when pf(0) lies far in the tail and is poorly
+    resolved. The band keeps its width, shifted alike; at t = 0 it is the members'
+    band (+/- 2 standard errors, delta method). pf(t) = Phi(-beta(t)). Done only where
+    the members use a 1-year reference period and both betas are finite; a shift
+    above `ANCHOR_NOTE_SHIFT` is reported.
 
     Parameters
     ----------
     curves : list of LifeCurve
-        Changed in place (pf, cov, beta, band, remaining life, ``anchor``).
+        Changed in place (pf, beta, band, remaining life, ``anchor``).
     assessment : Assessment
-        From `assess.site.before_after.assess_members`, same run.
+        From `assess.site.before_after.assess_members` (same run) or
+        `members_from_ledger`.
 
     Returns
     -------
     list of str
-        Notes on curves that could not be tied (for the report).
+        Notes for the report.
     """
     from assess.site.projection import beta_band, remaining_life
 
-    notes: list[str] = []
     if assessment is None:
         return [
             "the members step did not run with this one: the curves' beta at the assessment "
@@ -138,31 +144,34 @@ def anchor_to_members(curves: list, assessment) -> list[str]:
             "reference period, the remaining-life curves a 1-year one: their betas at the "
             "assessment date are different quantities"
         ]
+    notes: list[str] = []
     results = {(r.member, r.mode): r for r in assessment.results}
     for curve in curves:
         result = results.get((curve.member, curve.mode))
         if result is None:
             continue
-        pf_members = float(result.after.pf)
-        cov_members = float(result.after.cov)
-        pf0 = float(curve.pf[0])
-        if pf_members <= 0.0:
+        beta_members = float(result.after.beta)
+        own = float(curve.beta[0])
+        if not math.isfinite(beta_members):
             continue  # no failed sample in the members' estimate: both are shown as "> 8"
-        if not (pf0 > 0.0 and math.isfinite(pf_members)):
+        if not math.isfinite(own):
             notes.append(
                 f"{curve.member} ({curve.mode}): the curve could not be tied to the members' "
-                f"beta after at the assessment date (a zero pf estimate); its own value is shown"
+                f"beta after at the assessment date (no failed sample); its own value is shown"
             )
             continue
-        ratio = np.asarray(curve.pf, dtype=float) / pf0
-        curve_cov = np.asarray(curve.cov, dtype=float)
-        cov_m = cov_members if math.isfinite(cov_members) else 0.0
-        cov = np.sqrt(cov_m**2 + np.where(np.isfinite(curve_cov), curve_cov, 0.0) ** 2)
-        cov[0] = cov_members
-        curve.pf = np.clip(pf_members * ratio, 0.0, 1.0)
-        curve.cov = cov
-        curve.beta, curve.beta_lower, curve.beta_upper = beta_band(curve.pf, np.nan_to_num(cov))
-        curve.beta[0] = float(result.after.beta)
+        shift = beta_members - own
+        with np.errstate(invalid="ignore"):
+            curve.beta = np.asarray(curve.beta, dtype=float) + shift
+            curve.beta_lower = np.asarray(curve.beta_lower, dtype=float) + shift
+            curve.beta_upper = np.asarray(curve.beta_upper, dtype=float) + shift
+        curve.beta[0] = beta_members
+        cov0 = float(result.after.cov)
+        _, low0, high0 = beta_band([float(result.after.pf)], [cov0 if math.isfinite(cov0) else 0.0])
+        curve.beta_lower[0], curve.beta_upper[0] = float(low0[0]), float(high0[0])
+        curve.pf = stats.norm.sf(curve.beta)
+        curve.cov = np.asarray(curve.cov, dtype=float).copy()
+        curve.cov[0] = cov0
         curve.remaining_life = remaining_life(
             curve.years_from_assessment,
             curve.beta,
@@ -171,14 +180,73 @@ def anchor_to_members(curves: list, assessment) -> list[str]:
             curve.target.beta,
         )
         curve.anchor = {
-            "beta_members_after": float(result.after.beta),
-            "beta_curve_own": float(stats.norm.isf(pf0)),
-            "pf_members_after": pf_members,
-            "pf_curve_own": pf0,
+            "beta_members_after": beta_members,
+            "beta_curve_own": own,
+            "shift": shift,
             "method_members": str(result.after.method),
-            "rule": "pf(t) = pf_members_after * pf_curve(t) / pf_curve(0)",
+            "rule": "beta(t) = beta_curve(t) + (beta_members_after - beta_curve(0))",
         }
+        if abs(shift) > ANCHOR_NOTE_SHIFT:
+            notes.append(
+                f"{curve.member} ({curve.mode}): at the assessment date the members' beta "
+                f"after ({beta_members:.2f}) and the remaining-life curve's own estimate "
+                f"({own:.2f}) differ by {abs(shift):.2f}; the curve is shifted to the members' "
+                f"value. More samples in both would narrow the difference."
+            )
     return notes
+
+
+def members_from_ledger(site, update, seed: int):
+    """The latest members' before/after rows on the same data, read back from the ledger.
+
+    So that ``assess life`` after ``assess members`` ties its curves to the same numbers
+    as the main job does: rows of kind ``"reliability"`` with the same posterior hash,
+    site-file hash and seed; the latest row per member and mode. None when there is none.
+
+    Returns
+    -------
+    SimpleNamespace or None
+        ``reference_period_years`` and ``results`` (member, mode, after: beta, pf, cov,
+        method), the parts `anchor_to_members` reads.
+    """
+    import types
+
+    from assess.site.paths import has_ledger, ledger_path
+    from assess.site.record import site_file_hash
+    from inspection_io.ledger import Ledger
+
+    if not has_ledger(site.folder):
+        return None
+    file_hash = site_file_hash(site)
+    wanted = {getattr(update, "data_hash", "") or ""}
+    if not getattr(update, "has_data", True):
+        wanted.add("")  # design information only: rows may carry no posterior hash
+    latest: dict = {}
+    with Ledger(ledger_path(site.folder)) as ledger:
+        for row in ledger.results(kind="reliability"):
+            settings = row.settings or {}
+            if (
+                (settings.get("posterior_hash") or "") not in wanted
+                or settings.get("site_file_sha256") != file_hash
+                or row.seed is None
+                or (settings.get("run") or {}).get("seed") != seed
+            ):
+                continue
+            latest[(row.member, row.mode)] = row.payload
+    if not latest:
+        return None
+    results = []
+    for (member, mode), payload in latest.items():
+        after = types.SimpleNamespace(
+            beta=float("inf") if payload.get("beta_after") is None else payload["beta_after"],
+            pf=payload.get("pf_after") or 0.0,
+            cov=float("nan") if payload.get("cov_after") is None else payload["cov_after"],
+            method=payload.get("method", ""),
+        )
+        results.append(types.SimpleNamespace(member=member, mode=mode, after=after))
+    return types.SimpleNamespace(
+        reference_period_years=float(site.target.reference_period), results=results
+    )
 
 
 def compute_site_life(
@@ -234,4 +302,10 @@ def compute_site_life(
     return life
 
 
-__all__ = ["EXPLANATION", "SiteLife", "anchor_to_members", "compute_site_life"]
+__all__ = [
+    "EXPLANATION",
+    "SiteLife",
+    "anchor_to_members",
+    "compute_site_life",
+    "members_from_ledger",
+]

@@ -211,17 +211,20 @@ def _corrosion(run: SiteRun):
 
 
 def _life(run: SiteRun):
-    from assess.site.life import compute_site_life
+    from assess.site.life import compute_site_life, members_from_ledger
 
     update = run.step("materials")
     corrosion = run.step("corrosion")
+    assessment = run.result("members")
+    if assessment is None:  # e.g. `assess life` after `assess members`: the same numbers
+        assessment = members_from_ledger(run.site, update, run.settings.seed)
     return compute_site_life(
         run.site,
         update,
         corrosion.inputs,
         settings=run.settings,
         members=run.members,
-        assessment=run.result("members"),
+        assessment=assessment,
     )
 
 
