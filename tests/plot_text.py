@@ -7,13 +7,28 @@ import itertools
 from matplotlib.text import Text
 
 
+def _undrawn_tick_labels(fig) -> set:
+    """Tick labels matplotlib keeps but does not draw (their tick is outside the view)."""
+    hidden = set()
+    for ax in fig.axes:
+        for axis in (ax.xaxis, ax.yaxis):
+            drawn = {id(label) for tick in axis._update_ticks()
+                     for label in (tick.label1, tick.label2)}
+            for tick in axis.get_major_ticks() + axis.get_minor_ticks():
+                for label in (tick.label1, tick.label2):
+                    if id(label) not in drawn:
+                        hidden.add(id(label))
+    return hidden
+
+
 def text_boxes(fig) -> list:
-    """(text, Bbox in display pixels) of every visible, non-empty text of a drawn figure."""
+    """(text, Bbox in display pixels) of every text a drawn figure really shows."""
     fig.canvas.draw()
     renderer = fig.canvas.get_renderer()
+    hidden = _undrawn_tick_labels(fig)
     boxes = []
     for artist in fig.findobj(Text):
-        if not artist.get_visible() or not artist.get_text().strip():
+        if id(artist) in hidden or not artist.get_visible() or not artist.get_text().strip():
             continue
         box = artist.get_window_extent(renderer)
         if box.width > 0 and box.height > 0:

@@ -154,7 +154,7 @@ def test_first_page_table_and_member_plots_have_no_overlapping_text(tmp_path):
     import json
 
     from assess.report.document import Tag
-    from tests.plot_text import overlapping_texts
+    from tests.plot_text import outside_figure, overlapping_texts
 
     members = [f"M{k:02d}" for k in range(18)]
     verdicts = ["meets target", "below target", "undecided"]
@@ -180,7 +180,7 @@ def test_first_page_table_and_member_plots_have_no_overlapping_text(tmp_path):
                                        {m: [4.8 - 0.05 * k, 4.6, 4.4] for k, m in
                                         enumerate(members)}, TARGET, period="1-year")]
     for fig in figures:  # text boxes inside the figures, measured as drawn
-        assert overlapping_texts(fig) == []
+        assert overlapping_texts(fig) == [] and outside_figure(fig) == []
         sec.add_figure(fig, caption="Member plot")
     html_path, _ = write_report(tmp_path, tmp_path, doc, {})
     probe = tmp_path / "probe.html"

@@ -215,7 +215,7 @@ def test_member_styles_are_distinct_pairs_and_colour_blind_safe():
 
 
 def test_life_and_history_give_each_member_its_own_colour_and_marker():
-    from tests.plot_text import overlapping_texts
+    from tests.plot_text import outside_figure, overlapping_texts
 
     t = np.arange(51.0)
     curves = {m: 5.5 - 0.02 * (k + 1) * t for k, m in enumerate(MEMBERS_18[:12])}
@@ -224,7 +224,7 @@ def test_life_and_history_give_each_member_its_own_colour_and_marker():
     styles = [(matplotlib.colors.to_hex(ln.get_color()), ln.get_marker())
               for ln in ax.get_lines()[:12]]
     assert len(set(styles)) == 12
-    assert overlapping_texts(fig) == []
+    assert overlapping_texts(fig) == [] and outside_figure(fig) == []
     dates = ["2018-04-01", "2022-05-10", "2026-11-02"]
     history = {m: [4.8 - 0.05 * k, 4.6 - 0.05 * k, 4.4 - 0.05 * k]
                for k, m in enumerate(MEMBERS_18[:12])}
@@ -233,7 +233,7 @@ def test_life_and_history_give_each_member_its_own_colour_and_marker():
     styles = [(matplotlib.colors.to_hex(ln.get_color()), ln.get_marker())
               for ln in ax.get_lines()[:12]]
     assert len(set(styles)) == 12
-    assert overlapping_texts(fig) == []
+    assert overlapping_texts(fig) == [] and outside_figure(fig) == []
     # the legend is outside the axes: it cannot cover the target line or its label
     legend_box = ax.get_legend().get_window_extent(fig.canvas.get_renderer())
     axes_box = ax.get_window_extent(fig.canvas.get_renderer())

@@ -103,8 +103,9 @@ def _clear_corner(ax) -> None:
 
 def _legend_outside(ax) -> None:
     """Legend to the right of the axes: it cannot cover curves, the target or labels."""
+    entries = len(ax.get_legend_handles_labels()[1])
     ax.legend(frameon=False, fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0),
-              borderaxespad=0.0)
+              borderaxespad=0.0, ncols=1 if entries <= 12 else 2)
 
 
 def _as_1d(values: Any, name: str) -> np.ndarray:
