@@ -66,3 +66,15 @@ def demo_update(demo_site, quick_settings):
         warnings.simplefilter("ignore")
         update = update_site(site, settings=quick_settings)
     return site, update
+
+
+@pytest.fixture(scope="session")
+def demo_job(demo_site, quick_settings):
+    """The main job with its report on the shared demo site, run once per session:
+    (run, html_path, json_path, numbers of the JSON)."""
+    import json
+
+    from assess.report.job import run_and_report
+
+    run, html_path, json_path = run_and_report(demo_site, quick_settings)
+    return run, html_path, json_path, json.loads(json_path.read_text())

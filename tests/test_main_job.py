@@ -6,7 +6,6 @@ FORM on the same member model as an independent estimate of the same beta.
 """
 
 import base64
-import json
 import re
 import shutil
 import subprocess
@@ -15,14 +14,12 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from assess.report.job import run_and_report
 from inspection_io.ledger import Ledger
 
 
 @pytest.fixture(scope="module")
-def job(demo_site, quick_settings):
-    run, html_path, json_path = run_and_report(demo_site, quick_settings)
-    return run, html_path, json_path, json.loads(json_path.read_text())
+def job(demo_job):
+    return demo_job  # run once per session (tests/conftest.py), shared with the report tests
 
 
 def test_every_step_is_done_and_recorded_once(job, demo_site):

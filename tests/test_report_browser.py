@@ -110,3 +110,86 @@ def test_dom_carries_caution_and_figures(written_report, tmp_path):
     assert dom.count(CAUTION) == 2
     assert len(re.findall(r"<img\b", dom)) == n_figures
     assert "Figure 3: Reliability index over time" in dom
+
+
+# -- the first page and member plots: no text box overlaps another, measured in the browser
+_MEASURE = """
+<script>
+(function () {
+  var boxes = [];
+  var walker = document.createTreeWalker(document.querySelector("main"), NodeFilter.SHOW_TEXT);
+  var node, id = 0;
+  while ((node = walker.nextNode())) {
+    if (!node.textContent.trim()) continue;
+    var range = document.createRange();
+    range.selectNodeContents(node);
+    var rects = range.getClientRects();
+    for (var i = 0; i < rects.length; i++) {
+      var r = rects[i];
+      if (r.width > 0 && r.height > 0) boxes.push({id: id, t: node.textContent.trim().slice(0, 40),
+                                                    x0: r.left, y0: r.top, x1: r.right, y1: r.bottom});
+    }
+    id++;
+  }
+  var overlaps = [];
+  for (var a = 0; a < boxes.length; a++) {
+    for (var b = a + 1; b < boxes.length; b++) {
+      var p = boxes[a], q = boxes[b];
+      if (p.id === q.id) continue;
+      var dx = Math.min(p.x1, q.x1) - Math.max(p.x0, q.x0);
+      var dy = Math.min(p.y1, q.y1) - Math.max(p.y0, q.y0);
+      if (dx > 1 && dy > 1) overlaps.push(p.t + " | " + q.t);
+    }
+  }
+  var out = document.createElement("pre");
+  out.id = "measured";
+  out.textContent = JSON.stringify({boxes: boxes.length, overlaps: overlaps});
+  document.body.appendChild(out);
+})();
+</script>
+"""
+
+
+def test_first_page_table_and_member_plots_have_no_overlapping_text(tmp_path):
+    import json
+
+    from assess.report.document import Tag
+    from tests.plot_text import outside_figure, overlapping_texts
+
+    members = [f"M{k:02d}" for k in range(18)]
+    verdicts = ["meets target", "below target", "undecided"]
+    rows = [{"Member": m, "Verdict": Tag(verdicts[k % 3], ("good", "bad", "unsure")[k % 3]),
+             "Beta after tests, 1-year [-]": f"{3.5 + 0.1 * k:.2f}",
+             "Range of beta after [-]": f"{3.4 + 0.1 * k:.2f} to {3.6 + 0.1 * k:.2f}",
+             "Remaining life (annual beta against annual target)": "more than 50 yr",
+             "Recommended action": "Meets the target; keep as is and re-inspect at the usual "
+                                   "interval.",
+             "Further testing": "not analysed (done for member M01)"}
+            for k, m in enumerate(members)]
+    doc = ReportDocument("Invented site: first page")
+    sec = doc.add_section("Findings at a glance")
+    sec.add_table(rows, caption="Every member", marked=[k % 3 == 1 for k in range(18)])
+    before = np.linspace(3.0, 9.5, 18)
+    figures = [plots.plot_beta_before_after(members, before, before + 0.2, TARGET,
+                                            modes=["flexure"] * 18),
+               plots.plot_beta_over_time(np.arange(51.0), {m: 5.5 - 0.01 * (k + 1) *
+                                                           np.arange(51.0)
+                                                           for k, m in enumerate(members)},
+                                         TARGET, period="1-year"),
+               plots.plot_beta_history(["2018-04-01", "2022-05-10", "2026-11-02"],
+                                       {m: [4.8 - 0.05 * k, 4.6, 4.4] for k, m in
+                                        enumerate(members)}, TARGET, period="1-year")]
+    for fig in figures:  # text boxes inside the figures, measured as drawn
+        assert overlapping_texts(fig) == [] and outside_figure(fig) == []
+        sec.add_figure(fig, caption="Member plot")
+    html_path, _ = write_report(tmp_path, tmp_path, doc, {})
+    probe = tmp_path / "probe.html"
+    probe.write_text(html_path.read_text(encoding="utf-8").replace("</body>", _MEASURE + "</body>"),
+                     encoding="utf-8")
+    run = _chromium(probe.resolve().as_uri(), tmp_path / "profile", "--dump-dom",
+                    f"--window-size={WIDTH},{HEIGHT}")
+    match = re.search(r'<pre id="measured">(.*?)</pre>', run.stdout, re.S)
+    assert match, run.stderr[-2000:]
+    measured = json.loads(match.group(1).replace("&quot;", '"').replace("&amp;", "&"))
+    assert measured["boxes"] > 100           # every cell's text was measured
+    assert measured["overlaps"] == []

@@ -150,11 +150,11 @@ def test_preposterior_panels_and_share_below_target():
     for ax, (name, mean, sd) in zip(fig.axes, [("6 more cores", 4.4, 0.3),
                                                 ("Cover survey", 4.1, 0.5)]):
         assert [ln.get_xdata()[0] for ln in ax.get_lines()] == [TARGET, 4.0]
-        share = float(ax.get_title(loc="left").rsplit("=", 1)[1])
+        share = float(ax.get_title(loc="left").rsplit("=", 1)[1].strip().rstrip("%")) / 100
         expected = stats.norm.cdf(TARGET, mean, sd)  # scipy reference
         # Binomial standard error of a share from n outcomes; 3 of them plus the
-        # 0.005 rounding of the two-decimal title.
-        assert abs(share - expected) <= 3 * np.sqrt(expected * (1 - expected) / n) + 0.005
+        # 0.0005 rounding of the one-decimal percentage in the title.
+        assert abs(share - expected) <= 3 * np.sqrt(expected * (1 - expected) / n) + 0.0005
         assert ax.get_title(loc="left").startswith(name)
         assert_units(ax)
     assert "[-]" in fig.axes[-1].get_xlabel()
@@ -168,7 +168,7 @@ def test_preposterior_overlay_and_infinite_outcomes():
     assert len(ax.get_lines()) == 1  # target only
     assert len(ax.patches) == 2  # one step outline per programme
     legend = [t.get_text() for t in ax.get_legend().get_texts()]
-    assert any(t.startswith("A: P(") and t.endswith("0.50") for t in legend)
+    assert any(t.startswith("A: P(") and t.endswith("50.0%") for t in legend)
 
 
 def test_beta_history_dates_in_order_and_gaps():
@@ -201,3 +201,70 @@ def test_plots_do_not_register_with_pyplot():
         plots.plot_preposterior_beta({"A": np.linspace(3, 5, 50)}, TARGET)
         plots.plot_beta_history(["2020-01-01", "2024-01-01"], {"A": [4.0, 4.1]}, TARGET)
     assert set(plt.get_fignums()) == before
+
+
+# -- readability: distinct member styles, axis ranges, no overlapping text ----------------
+MEMBERS_18 = [f"M{k:02d}-{k % 4 + 1}" for k in range(18)]
+
+
+def test_member_styles_are_distinct_pairs_and_colour_blind_safe():
+    pairs = [plots.member_style(k) for k in range(81)]
+    assert len(set(pairs)) == 81
+    # Tol (2021) "muted": nine colours, none of them pure red or pure green
+    assert len(set(plots.MEMBER_COLOURS)) == 9
+
+
+def test_life_and_history_give_each_member_its_own_colour_and_marker():
+    from tests.plot_text import outside_figure, overlapping_texts
+
+    t = np.arange(51.0)
+    curves = {m: 5.5 - 0.02 * (k + 1) * t for k, m in enumerate(MEMBERS_18[:12])}
+    fig = plots.plot_beta_over_time(t, curves, TARGET, period="1-year")
+    (ax,) = fig.axes
+    styles = [(matplotlib.colors.to_hex(ln.get_color()), ln.get_marker())
+              for ln in ax.get_lines()[:12]]
+    assert len(set(styles)) == 12
+    assert overlapping_texts(fig) == [] and outside_figure(fig) == []
+    dates = ["2018-04-01", "2022-05-10", "2026-11-02"]
+    history = {m: [4.8 - 0.05 * k, 4.6 - 0.05 * k, 4.4 - 0.05 * k]
+               for k, m in enumerate(MEMBERS_18[:12])}
+    fig = plots.plot_beta_history(dates, history, TARGET, period="1-year")
+    (ax,) = fig.axes
+    styles = [(matplotlib.colors.to_hex(ln.get_color()), ln.get_marker())
+              for ln in ax.get_lines()[:12]]
+    assert len(set(styles)) == 12
+    assert overlapping_texts(fig) == [] and outside_figure(fig) == []
+    # the legend is outside the axes: it cannot cover the target line or its label
+    legend_box = ax.get_legend().get_window_extent(fig.canvas.get_renderer())
+    axes_box = ax.get_window_extent(fig.canvas.get_renderer())
+    assert legend_box.x0 >= axes_box.x1
+
+
+def test_eighteen_members_labels_do_not_overlap_and_beta_axis_is_readable():
+    from tests.plot_text import outside_figure, overlapping_texts
+
+    n = len(MEMBERS_18)
+    before = np.linspace(3.0, 9.5, n)
+    after = before + 0.2
+    after[3] = np.inf
+    fig = plots.plot_beta_before_after(MEMBERS_18, before, after, TARGET,
+                                       modes=["flexure"] * n)
+    (ax,) = fig.axes
+    assert overlapping_texts(fig) == []
+    assert outside_figure(fig) == []
+    low, high = ax.get_ylim()
+    # at most BETA_ABOVE_TARGET above the target (+ margins), not up to 10
+    assert high <= TARGET + plots.BETA_ABOVE_TARGET + 0.3 + 0.5 + 1e-9
+    assert low <= 3.0
+    # values beyond the top are named on the plot
+    assert any(t.get_text() == "9.7" for t in ax.texts)
+
+
+def test_value_of_information_plot_names_the_reference_period():
+    rng = np.random.default_rng(2)
+    fig = plots.plot_preposterior_beta({"6 cores": rng.normal(3.4, 0.3, 500)}, 3.54,
+                                       current_beta=1.22, period="15-year")
+    legend = [t.get_text() for t in fig.axes[0].get_legend().get_texts()]
+    assert "Target \u03b2 (15-year) = 3.54" in legend
+    assert "Current \u03b2 (15-year) = 1.22" in legend
+    assert "15-year" in fig.axes[-1].get_xlabel()

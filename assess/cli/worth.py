@@ -31,7 +31,7 @@ def _money(currency: str, value: float) -> str:
 
 
 def _share(value: float) -> str:
-    return "-" if value is None or not math.isfinite(value) else f"{value:.0%}"
+    return "-" if value is None or not math.isfinite(value) else f"{value:.1%}"
 
 
 @app.command("worth")

@@ -11,12 +11,18 @@ import math
 
 import assess
 from assess.reliability.result import format_beta
-from assess.report.document import ReportDocument
+from assess.report.document import ReportDocument, Tag
 from assess.report.figures import (
     before_after_figure,
     life_figure,
     prior_posterior_figures,
     worth_figure,
+)
+from assess.report.summary import (
+    VERDICT_TONES,
+    add_first_page,
+    beta_text,
+    probability_text,
 )
 from assess.site.knowledge import LABELS, knowledge_rows
 from assess.site.run import DONE, SKIPPED
@@ -46,6 +52,52 @@ def _fmt_interval(interval) -> str:
     return f"{_fmt_beta(low)}-{_fmt_beta(high)}"
 
 
+VARIABLE_WORDS = {
+    "fc": "concrete strength", "fy": "steel yield strength", "cover": "concrete cover",
+    "area_ratio": "residual bar area", "imposed": "vehicle load", "self_weight": "self-weight",
+    "superimposed_dead": "superimposed dead load",
+    "theta_E_moment": "load-effect model, moment", "theta_E_shear": "load-effect model, shear",
+    "theta_E_reaction": "load-effect model, column reaction",
+    "theta_flexure": "bending resistance model", "theta_shear": "shear resistance model",
+    "theta_punching": "punching resistance model", "initiation_time": "corrosion start",
+    "corrosion_rate": "corrosion rate", "pitting_factor": "pitting factor",
+}
+"""Plain words for the basic variables of the member models (report text only)."""
+
+SUMMARY_COLUMNS = {
+    "zone": "Zone", "quantity": "Quantity", "unit": "Unit", "n_total": "Results in file",
+    "n_flagged": "Flagged", "n_excluded": "Left out", "n": "Results used", "mean": "Mean",
+    "std": "Standard deviation", "cov": "Coefficient of variation [-]", "min": "Smallest",
+    "max": "Largest", "k_n_v_unknown": "EN 1990 Annex D factor k_n, scatter unknown [-]",
+    "characteristic_v_unknown": "Characteristic strength, scatter unknown [MPa]",
+    "k_n_v_known": "EN 1990 Annex D factor k_n, scatter known [-]",
+    "characteristic_v_known": "Characteristic strength, scatter known [MPa]",
+    "v_known": "Coefficient of variation taken as known [-]",
+}
+"""Plain-words names of the per-zone summary columns (`inspection_io.summary`)."""
+
+QUANTITY_WORDS = {
+    "yield_strength": "yield strength", "tensile_strength": "tensile strength",
+    "elongation": "elongation", "cover": "cover", "carbonation_depth": "carbonation depth",
+    "chloride": "chloride content", "potential": "half-cell potential",
+    "residual_area_ratio": "residual bar area ratio", "max_pit_depth": "deepest pit",
+}
+
+
+def _summary_table(kind: str, table):
+    """A per-zone summary with plain column names; no CoV for a signed quantity (mean <= 0)."""
+    frame = table.copy()
+    if "cov" in frame and "mean" in frame:
+        frame["cov"] = frame["cov"].where(frame["mean"] > 0)
+    if "quantity" in frame:
+        frame["quantity"] = frame["quantity"].map(lambda q: QUANTITY_WORDS.get(q, q))
+    names = dict(SUMMARY_COLUMNS)
+    if kind == "cores":
+        names.update({"mean": "Mean [MPa]", "std": "Standard deviation [MPa]",
+                      "min": "Smallest [MPa]", "max": "Largest [MPa]"})
+    return frame.rename(columns={c: names.get(c, c.replace("_", " ")) for c in frame.columns})
+
+
 def build_report(run) -> tuple[ReportDocument, dict]:
     """The report document and the dictionary of all its numbers, from a `SiteRun`.
 
@@ -64,16 +116,15 @@ def build_report(run) -> tuple[ReportDocument, dict]:
                  f"assessed {site.site.assessment_date.isoformat()}",
         metadata={"tool version": assess.__version__, "seed": settings["seed"],
                   "mode": "quick" if settings["quick"] else "full"})
-    for warning in run.warnings:
-        doc.add_warning(warning)
     update = run.result("materials")
     has_data = update is not None and update.has_data
-    if not has_data:
-        doc.add_warning(NO_TEST_DATA)
     numbers: dict = {"site": _site_numbers(site), "settings": settings,
                      "warnings": list(run.warnings), "test_data_used": bool(has_data),
                      "steps": {name: r.to_dict() for name, r in run.records.items()}}
 
+    life = run.result("life")
+    notes = ([] if has_data else [NO_TEST_DATA]) + (list(life.notes) if life is not None else [])
+    numbers["first_page"] = add_first_page(doc, run, notes)
     _section_structure(doc, site, target)
     numbers["data"] = _section_data(doc, run)
     sections = (("materials", "knowledge", _section_knowledge),
@@ -107,7 +158,8 @@ def _section_steps(doc, run) -> list:
     rows = [{"step": r.title, "outcome": r.status, "time [s]": round(r.seconds, 1),
              "reason": r.reason.splitlines()[0] if r.reason else ""}
             for r in run.records.values()]
-    sec.add_table(rows, caption="Steps of the run, in order")
+    sec.add_table([{"Step": r["step"], "Outcome": r["outcome"], "Time [s]": r["time [s]"],
+                    "Reason": r["reason"]} for r in rows], caption="Steps of the run, in order")
     return rows
 
 
@@ -130,20 +182,23 @@ def _section_structure(doc, site, target) -> None:
         f"{target.reference_period_years:g} year(s).")
     sec.add_key_values({"Consequence class": site.target.consequence_class,
                         "Relative cost of safety measures": site.target.cost_of_safety,
-                        "Target reliability index": f"{target.beta:.2f}",
+                        "Target reliability index [-]": f"{target.beta:.2f} "
+                                                        f"({target.reference_period_years:g}-year "
+                                                        f"reference period)",
                         "Reference period [years]": target.reference_period_years,
                         "Source of the target": target.source,
                         "Concrete as specified": f"{site.materials.concrete_class} "
                                                  f"({site.materials.production})",
                         "Reinforcement as specified": site.materials.steel_grade},
                        caption="Settings that decide the target")
-    sec.add_table([{"member": m.member_id, "zone": m.zone, "kind": m.kind,
-                    "span [m]": m.span if m.span else f"{m.span_x} x {m.span_y}",
-                    "depth [mm]": m.depth, "cover [mm]": m.cover,
-                    "bars": f"{m.bar_diameter:g} mm" + (f" @ {m.bar_spacing:g}" if m.bar_spacing
-                                                       else f", {m.steel_area:g} mm2")}
+    sec.add_table([{"Member": m.member_id, "Zone": m.zone, "Kind": m.kind,
+                    "Span [m]": m.span if m.span else f"{m.span_x} x {m.span_y}",
+                    "Depth [mm]": m.depth, "Cover [mm]": m.cover,
+                    "Bars": f"{m.bar_diameter:g} mm" + (f" at {m.bar_spacing:g} mm"
+                                                        if m.bar_spacing
+                                                        else f", {m.steel_area:g} mm2")}
                    for m in site.members.values()], caption="Members assessed")
-    sec.add_table([{"zone": z.zone_id, "exposure": z.exposure, "description": z.description}
+    sec.add_table([{"Zone": z.zone_id, "Exposure": z.exposure, "Description": z.description}
                    for z in site.zones.values()], caption="Zones")
 
 
@@ -156,7 +211,7 @@ def _section_data(doc, run) -> dict:
     for kind, table in run.data_summaries.items():
         if table is None or len(table) == 0:
             continue
-        sec.add_table(table, caption=KIND_TITLES.get(kind, kind))
+        sec.add_table(_summary_table(kind, table), caption=KIND_TITLES.get(kind, kind))
         out[kind] = table.to_dict("records") if hasattr(table, "to_dict") else table
     if run.flagged:
         sec.add_notice([f"{f['file']} row {f['row']}: {f['item']} flagged ({f['flags']})"
@@ -180,9 +235,16 @@ def _section_knowledge(doc, run) -> dict:
              "prior mean": r["prior_mean"], "prior std": r["prior_std"],
              "posterior mean": r["posterior_mean"], "posterior std": r["posterior_std"]}
             for r in knowledge_rows(run.site, update)]
-    sec.add_table(rows, caption="Predictive mean and standard deviation, design prior and after tests",
-                  formats={"prior mean": ".4g", "prior std": ".3g", "posterior mean": ".4g",
-                           "posterior std": ".3g"})
+    shown = [{"Zone": r["zone"], "Quantity": r["quantity"], "Unit": r["unit"],
+              "Tests used": r["tests"], "Mean, design information": r["prior mean"],
+              "Standard deviation, design information": r["prior std"],
+              "Mean after tests": r["posterior mean"],
+              "Standard deviation after tests": r["posterior std"]} for r in rows]
+    sec.add_table(shown, caption="Predictive mean and standard deviation, design prior and "
+                                 "after tests (units in the Unit column)",
+                  formats={"Mean, design information": ".4g",
+                           "Standard deviation, design information": ".3g",
+                           "Mean after tests": ".4g", "Standard deviation after tests": ".3g"})
     gate = update.gate.to_dict() if update.gate else None
     if gate:
         sec.add_key_values({"max R-hat": gate["max_rhat"], "min bulk ESS": gate["min_ess_bulk"],
@@ -213,25 +275,34 @@ def _section_members(doc, run) -> list:
         f"Beta before uses the design information only; beta after uses the site's evidence. "
         f"Both use the same loads, model uncertainties and random numbers. Method: "
         f"{a.method.replace('_', ' ')}; CoV is the coefficient of variation of the pf estimate. "
-        f"A member system fails when any of its modes fails. The interval is the range of "
-        f"beta from the sampling error of the estimate alone (95 %, shared over the repeated "
-        f"looks when it is sampled again; JSON: interval_level); the verdict is 'undecided' "
-        f"when it straddles the target after sampling again up to "
+        f"A member system fails when any of its modes fails. The range of beta after is "
+        f"the range from the sampling error of the estimate alone (95 %, shared over the "
+        f"repeated looks when it is sampled again; JSON: interval_level); the verdict is "
+        f"'undecided' when it straddles the target after sampling again up to "
         f"{a.max_calls if a.max_calls is not None else 'no further'} limit-state calls; a "
         f"change within the noise of both estimates reads 'no significant change'.")
+    period = f"{a.reference_period_years:g}-year"
     rows = []
     for r in a.results:
-        rows.append({"member": r.member, "mode": r.mode, "beta before": _fmt_beta(r.before.beta),
-                     "beta after": _fmt_beta(r.after.beta),
-                     "interval after": _fmt_interval(r.interval_after),
-                     "change": r.change,
-                     "CoV after": r.after.cov if math.isfinite(r.after.cov) else None,
-                     "target": r.target, "verdict": r.verdict,
-                     "main drivers": ", ".join(f"{n} ({v:.2f})" for n, v in r.drivers())})
+        rows.append({"Member": r.member,
+                     "Failure mode": "member (all modes)" if r.mode == "system" else r.mode,
+                     f"Beta before tests, {period} [-]": beta_text(r.before.beta),
+                     f"Beta after tests, {period} [-]": beta_text(r.after.beta),
+                     "Range of beta after (sampling error) [-]": _fmt_interval(r.interval_after),
+                     "Change": r.change,
+                     "Coefficient of variation of the pf estimate after [-]":
+                         r.after.cov if math.isfinite(r.after.cov) else None,
+                     f"Target beta, {period} [-]": beta_text(r.target),
+                     "Verdict": Tag(r.verdict, VERDICT_TONES.get(r.verdict, "none")),
+                     "Main drivers (share of alpha squared) [-]": ", ".join(
+                         f"{VARIABLE_WORDS.get(n, n.replace('_', ' '))} ({v:.2f})"
+                         for n, v in r.drivers())})
     sec.add_table(rows, caption=f"Reliability index per member and mode, "
-                                f"{a.reference_period_years:g}-year reference period",
-                  formats={"CoV after": ".2f", "target": ".2f"})
-    sec.add_figure(before_after_figure(a), caption="Beta before and after updating, with the target")
+                                f"{period} reference period",
+                  formats={"Coefficient of variation of the pf estimate after [-]": ".2f"},
+                  marked=[r.verdict == "below target" for r in a.results])
+    sec.add_figure(before_after_figure(a), caption=f"Beta before and after updating, with the "
+                                                   f"target ({period} reference period)")
     if a.notes:
         sec.add_notice(a.notes, title="Modes not covered and assumptions")
     return [r.to_dict() for r in a.results]
@@ -241,22 +312,54 @@ def _section_life(doc, run) -> object:
     life = run.result("life")
     sec = doc.add_section("How long the members last")
     sec.add_paragraph(life.explanation)
-    rows = life.table_rows()
+    rows = [{"Member": r["member"],
+             "Governing failure mode": "member (all modes)" if r["governing mode"] == "system"
+             else r["governing mode"],
+             "Beta at the assessment date, 1-year [-]": beta_text(r["beta now"]),
+             f"Beta after {life.horizon_years:g} years, 1-year [-]": beta_text(r["beta at horizon"]),
+             "Target beta, 1-year [-]": beta_text(life.target.beta),
+             "Remaining life": r["remaining life"]}
+            for r in life.table_rows()]
     if rows:
-        sec.add_table(rows, caption="Remaining life per member (first year beta falls below the target)")
-        sec.add_figure(life_figure(life), caption="Beta per year against the target; shaded: "
-                       "the parameter band (5-95 % over the posterior parameters); dashed: the "
-                       "sampling band of the estimate")
+        sec.add_table(rows, caption="Remaining life per member (first year the annual beta falls "
+                                    "below the annual target)",
+                      marked=[c.remaining_life.status == "already below target"
+                              for c in life.main])
+        sec.add_figure(life_figure(life), caption="Annual beta per year against the annual "
+                       "target (1-year reference period); shaded: the parameter band (5-95 % "
+                       "over the posterior parameters); dashed: the sampling band of the estimate")
     return life.to_dict()
 
 
 def _section_worth(doc, run) -> object:
     worth = run.result("worth")
+    decision = worth.decision
+    horizon = decision.horizon_years
     sec = doc.add_section("Is more testing worth it")
-    rows = worth.table_rows()
+    sec.add_paragraph(
+        f"Member {decision.member}, over a {horizon}-year horizon. 'Keep as is' is costed "
+        + ("with the annual failure probability of the member's remaining-life curve, year by "
+           "year (the same beta(t) as the remaining-life section)"
+           if decision.uses_life_curve else
+           "with a constant annual failure probability (no remaining-life curve in this run)")
+        + f". The annual target {decision.target.beta:.2f} (1-year reference period) is "
+        f"{decision.horizon_target_beta:.2f} over the {horizon}-year horizon; the betas of "
+        f"this section are {horizon}-year values.")
+    currency = decision.problem.currency
+    adequate = f"Probability the tests show beta over {horizon} years >= target"
+    rows = [{"Test programme": r.description,
+             f"Cost [{currency}]": r.programme_cost,
+             f"Value of information [{currency}]": r.evsi,
+             f"Monte Carlo standard error [{currency}]": r.evsi_standard_error,
+             f"Net value [{currency}]": r.net_value,
+             adequate: probability_text(r.probability_adequate)}
+            for r in worth.ranking.results]
     if rows:
-        sec.add_table(rows, caption="Candidate test programmes ranked by net value")
-        sec.add_figure(worth_figure(worth), caption="Posterior beta each programme could lead to")
+        sec.add_table(rows, caption="Candidate test programmes ranked by net value",
+                      formats={k: ",.0f" for k in rows[0] if k.endswith(f"[{currency}]")})
+        sec.add_figure(worth_figure(worth),
+                       caption=f"Beta over the {horizon}-year horizon each programme could "
+                               f"lead to, against the {horizon}-year target")
     if worth.recommendation:
         sec.add_paragraph(worth.recommendation)
     return worth.to_dict()
@@ -280,10 +383,11 @@ def _section_history(doc, run) -> list:
         for entry, beta in zip(history, values):
             row[f"{entry.campaign} ({entry.date.isoformat()})"] = _fmt_beta(beta)
         rows.append(row)
-    sec.add_table(rows, caption="Beta after updating per campaign")
+    period = f"{history[-1].assessment.reference_period_years:g}-year"
+    sec.add_table(rows, caption=f"Beta after updating per campaign ({period} reference period)")
     target = history[-1].assessment.target.beta
-    sec.add_figure(plot_beta_history([h.date for h in history], series, target),
-                   caption="Beta per member at each campaign, with the target")
+    sec.add_figure(plot_beta_history([h.date for h in history], series, target, period=period),
+                   caption=f"Beta per member at each campaign, with the target ({period})")
     return [row for h in history for row in h.rows()]
 
 
@@ -309,6 +413,7 @@ def _section_sources(doc, run, target) -> dict:
     sources["posterior into reliability"] = (
         "posterior draws fitted by a gamma precision and normal standardised location with a "
         "Gaussian copula; physical values keep their analytic conditional distribution")
-    sec.add_table([{"item": k, "model and source": v} for k, v in sources.items()],
+    sec.add_table([{"Item": VARIABLE_WORDS.get(k, k.replace("_", " ")), "Model and source": v}
+                   for k, v in sources.items()],
                   caption="Every model and default value with its published source")
     return sources

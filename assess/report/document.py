@@ -43,6 +43,37 @@ PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 Formatter = Union[str, Callable[[Any], str]]
 
 
+#: Colour-blind-safe tones of verdict tags (Okabe & Ito 2008, "Color universal design",
+#: https://jfly.uni-koeln.de/color/): blue, vermillion, orange, grey. A tag always
+#: carries its word and a symbol beside the colour.
+TONES = {"good": ("#0072B2", "\u2714"), "bad": ("#D55E00", "\u2716"),
+         "unsure": ("#E69F00", "?"), "none": ("#999999", "\u2013")}
+
+
+@dataclasses.dataclass(frozen=True)
+class Tag:
+    """A word shown with a coloured mark and a symbol in a table cell (e.g. a verdict).
+
+    Attributes
+    ----------
+    text : str
+        The word(s) shown; the colour is never the only carrier of the meaning.
+    tone : {"good", "bad", "unsure", "none"}
+        Colour and symbol (`TONES`).
+    """
+
+    text: str
+    tone: str = "none"
+
+    def __post_init__(self):
+        if self.tone not in TONES:
+            raise InputError(f"tag tone must be one of {', '.join(TONES)}, got {self.tone!r}",
+                             column="tone")
+
+    def __str__(self) -> str:
+        return self.text
+
+
 def format_value(value: Any, fmt: Formatter | None = None) -> str:
     """Plain text for one value in a table cell or key-value block.
 
@@ -134,26 +165,46 @@ class _KeyValues:
         return f"<table class=\"kv\">{caption}<tbody>{rows}</tbody></table>"
 
 
+def _tag_html(text: str, tone: str) -> str:
+    colour, symbol = TONES[tone]
+    return (f"<span class=\"tag tone-{tone}\" style=\"border-color:{colour}\">"
+            f"<span class=\"mark\" style=\"background:{colour}\" aria-hidden=\"true\">"
+            f"{_esc(symbol)}</span> {_esc(text)}</span>")
+
+
 @dataclasses.dataclass(frozen=True)
 class _Table:
     columns: tuple[str, ...]
-    cells: tuple[tuple[tuple[str, bool], ...], ...]  # (text, is_number) per cell
+    cells: tuple[tuple[tuple[str, bool, str | None], ...], ...]  # (text, is_number, tone)
     caption: str | None
+    marked: tuple[bool, ...] = ()
+    mark_note: str = ""
 
     def render(self, counters: _Counters) -> str:
         counters.table += 1
         label = f"Table {counters.table}"
         caption = f"{label}: {self.caption}" if self.caption else label
-        numeric = [bool(self.cells) and all(is_num or t == MISSING_TEXT for t, is_num in
+        if any(self.marked) and self.mark_note:
+            caption += f" (rows marked \u25b6: {self.mark_note})"
+        numeric = [bool(self.cells) and all(is_num or t == MISSING_TEXT for t, is_num, _ in
                                             (row[j] for row in self.cells))
                    for j in range(len(self.columns))]
         head = "".join(f"<th scope=\"col\" class=\"num\">{_esc(c)}</th>" if is_num
                        else f"<th scope=\"col\">{_esc(c)}</th>"
                        for c, is_num in zip(self.columns, numeric))
+
+        def cell(t, is_num, tone, first, marked):
+            text = _tag_html(t, tone) if tone else _esc(t)
+            if first and marked:
+                text = "<span class=\"row-mark\">\u25b6</span> " + text
+            return f"<td class=\"num\">{text}</td>" if is_num else f"<td>{text}</td>"
+
+        marks = self.marked or (False,) * len(self.cells)
         body = "".join(
-            "<tr>" + "".join(f"<td class=\"num\">{_esc(t)}</td>" if is_num else f"<td>{_esc(t)}</td>"
-                             for t, is_num in row) + "</tr>"
-            for row in self.cells)
+            ("<tr class=\"marked\">" if marked else "<tr>")
+            + "".join(cell(t, is_num, tone, j == 0, marked)
+                      for j, (t, is_num, tone) in enumerate(row)) + "</tr>"
+            for row, marked in zip(self.cells, marks))
         return (f"<div class=\"table-wrap\"><table class=\"data\"><caption>{_esc(caption)}</caption>"
                 f"<thead><tr>{head}</tr></thead><tbody>{body}</tbody></table></div>")
 
@@ -234,7 +285,8 @@ class Section:
     def add_table(self, rows: Any, *, columns: Sequence[str] | None = None,
                   caption: str | None = None,
                   formats: Mapping[str, Formatter] | None = None,
-                  index: bool | None = None) -> Section:
+                  index: bool | None = None, marked: Sequence[bool] | None = None,
+                  mark_note: str = "below target") -> Section:
         """Add a numbered table from a list of dicts or a pandas DataFrame.
 
         Parameters
@@ -253,15 +305,27 @@ class Section:
         index : bool, optional
             For a DataFrame, show its index as the first column(s). Default:
             only when the index is not a plain 0..n-1 range.
+        marked : sequence of bool, optional
+            One per row: rows to mark (a tinted background and a \u25b6 sign in
+            the first cell, never colour alone), e.g. members below target.
+        mark_note : str, default "below target"
+            What a marked row means, added to the caption when a row is marked.
+
+        A `Tag` value is shown as its word with a coloured mark and a symbol.
         """
         records, default_columns = _records(rows, index)
         columns = tuple(str(c) for c in (columns if columns is not None else default_columns))
         formats = formats or {}
         cells = tuple(
             tuple((format_value(rec.get(c), formats.get(c)),
-                   _is_number(rec.get(c))) for c in columns)
+                   _is_number(rec.get(c)),
+                   rec.get(c).tone if isinstance(rec.get(c), Tag) else None) for c in columns)
             for rec in records)
-        self.blocks.append(_Table(columns, cells, caption))
+        flags = tuple(bool(m) for m in marked) if marked is not None else ()
+        if flags and len(flags) != len(cells):
+            raise InputError(f"marked needs one entry per row ({len(cells)}), got {len(flags)}",
+                             column="marked")
+        self.blocks.append(_Table(columns, cells, caption, flags, str(mark_note)))
         return self
 
     def add_figure(self, figure: Any, *, caption: str, dpi: int = 110,
@@ -391,6 +455,12 @@ table.data th { text-align: left; background: var(--soft); border-top: 1.5px sol
 table.data td { padding: 4px 10px; border-bottom: 1px solid #e4e7ea; }
 table.data tbody tr:last-child td { border-bottom: 1.5px solid var(--ink); }
 table.data td.num, table.data th.num { text-align: right; font-variant-numeric: tabular-nums; }
+table.data tr.marked td { background: #fbe9df; }
+table.data tr.marked td:first-child { box-shadow: inset 4px 0 0 #D55E00; font-weight: 600; }
+.row-mark { color: #D55E00; }
+.tag { display: inline-block; white-space: nowrap; border: 1.5px solid; border-radius: 3px; padding: 0 6px 0 0; font-weight: 600; }
+.tag .mark { display: inline-block; min-width: 1.4em; text-align: center; color: #fff; margin-right: 2px; }
+table.data td:first-child { white-space: nowrap; }
 figure { margin: 16px 0 22px; text-align: center; }
 figure img { display: block; margin: 0 auto; height: auto; }
 figcaption { font-size: 14px; color: var(--muted); margin-top: 6px; }
@@ -513,4 +583,5 @@ class ReportDocument:
         return "\n".join(parts) + "\n"
 
 
-__all__ = ["ReportDocument", "Section", "format_value", "MISSING_TEXT", "PNG_SIGNATURE"]
+__all__ = ["ReportDocument", "Section", "Tag", "TONES", "format_value", "MISSING_TEXT",
+           "PNG_SIGNATURE"]

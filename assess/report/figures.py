@@ -34,7 +34,7 @@ def prior_posterior_figures(update) -> dict:
 
 def before_after_figure(assessment):
     """Beta before and after per member and mode against the target."""
-    rows = [r for r in assessment.results]
+    rows = [r for r in assessment.results]  # every member and mode
     return plot_beta_before_after([r.member for r in rows], [r.before.beta for r in rows],
                                   [r.after.beta for r in rows], assessment.target.beta,
                                   modes=[r.mode for r in rows])
@@ -58,11 +58,11 @@ def life_figure(life):
             bands={c.member: (_finite(c.parameter_lower), _finite(c.parameter_upper))
                    for c in life.main},
             sampling_bands=sampling, band_label="parameter band (5-95 %)",
-            time_label="Years after the assessment (annual beta)")
+            time_label="Years after the assessment (annual beta)", period="1-year")
     return plot_beta_over_time(
         life.main[0].years_from_assessment, {c.member: c.beta for c in life.main},
         life.target.beta, bands=sampling, band_label="sampling band (+/- 2 standard errors)",
-        time_label="Years after the assessment (annual beta)")
+        time_label="Years after the assessment (annual beta)", period="1-year")
 
 
 def worth_figure(worth):
@@ -70,4 +70,5 @@ def worth_figure(worth):
     results = worth.ranking.results
     return plot_preposterior_beta({r.programme: r.posterior_beta for r in results},
                                   worth.decision.horizon_target_beta,
-                                  current_beta=results[0].prior_beta)
+                                  current_beta=results[0].prior_beta,
+                                  period=f"{worth.decision.horizon_years}-year")

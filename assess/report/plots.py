@@ -7,8 +7,13 @@ display is needed. Embed them with `ReportDocument` sections' ``add_figure`` or
 save them with ``fig.savefig``.
 
 Every axis label carries its unit in brackets ([-] for the reliability index
-beta, [years] for time). The colours are a neutral blue-grey palette of this
-package; the target reliability is a dashed brick-red line in every plot.
+beta, [years] for time). Members get a colour of Paul Tol's colour-blind-safe
+"muted" scheme (Tol 2021, "Colour schemes", SRON/EPS/TN/09-002) and a marker of
+their own (`member_style`: no two members share both); the target reliability is
+a dashed orange line (Tol "vibrant" #EE7733, in no member colour) in every plot.
+Legends of member plots sit outside the axes, so they never cover a curve, the
+target or its label; the beta axis is limited to the range that matters
+(`beta_limits`).
 """
 
 from __future__ import annotations
@@ -28,8 +33,34 @@ from assess.life.crossing import target_crossing_time
 
 #: Line and marker colours, in order of use (blues and greys of our own choosing).
 PALETTE = ("#2b4c6f", "#8a8a8a", "#5d8fbf", "#3d3d3d", "#9fbcd6", "#b3b3b3", "#1f6e8c", "#646464")
+#: Member colours: Paul Tol's colour-blind-safe "muted" scheme (Tol 2021, SRON/EPS/TN/09-002).
+MEMBER_COLOURS = ("#332288", "#88CCEE", "#44AA99", "#117733", "#999933", "#DDCC77",
+                  "#CC6677", "#882255", "#AA4499")
+#: Member markers; with 9 colours and 9 markers, 81 members get distinct pairs.
+MEMBER_MARKERS = ("o", "s", "D", "^", "v", "P", "X", "h", "<")
 #: Colour of the target reliability line.
-TARGET_COLOUR = "#a8452f"
+TARGET_COLOUR = "#EE7733"
+#: The beta axis shows at most this far above the target (higher values are drawn at the
+#: top edge and named) [-].
+BETA_ABOVE_TARGET = 3.0
+
+
+def member_style(k: int) -> tuple[str, str]:
+    """(colour, marker) of the k-th member; distinct pairs for k < 81."""
+    n = len(MEMBER_COLOURS)
+    colour = MEMBER_COLOURS[k % n]
+    marker = MEMBER_MARKERS[(k % n + k // n) % len(MEMBER_MARKERS)]
+    return colour, marker
+
+
+def beta_limits(values: Any, target: float) -> tuple[float, float]:
+    """Readable limits of a beta axis: the finite values and the target, at most
+    `BETA_ABOVE_TARGET` above the target, with a margin of 0.3 [-]."""
+    arr = np.asarray(values, dtype=float).ravel()
+    finite = arr[np.isfinite(arr)]
+    high = min(float(finite.max()) if finite.size else target, target + BETA_ABOVE_TARGET)
+    low = float(finite.min()) if finite.size else target
+    return min(low, target) - 0.3, max(high, target) + 0.3
 BETA_LABEL = "Reliability index \u03b2 [-]"
 _FIG_WIDTH = 7.5  # [in]
 
@@ -48,9 +79,33 @@ def _new_figure(nrows: int = 1, height: float = 4.2, sharex: bool = False):
     return fig, axes
 
 
-def _target_hline(ax, beta_target: float) -> None:
+def _target_hline(ax, beta_target: float, period: str = "") -> None:
+    words = f" ({period})" if period else ""
     ax.axhline(beta_target, color=TARGET_COLOUR, linestyle="--", linewidth=1.4,
-               label=f"Target \u03b2 = {beta_target:.2f}")
+               label=f"Target \u03b2{words} = {beta_target:.2f}")
+
+
+def _clear_corner(ax) -> None:
+    """Hide a beta tick label that the first or last date/time tick label would overlap
+    (they meet at the lower corners of the axes)."""
+    fig = ax.figure
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    x_boxes = [t.get_window_extent(renderer) for t in ax.get_xticklabels()
+               if t.get_visible() and t.get_text()]
+    for label in ax.get_yticklabels():
+        if not (label.get_visible() and label.get_text()):
+            continue
+        box = label.get_window_extent(renderer)
+        if any(box.overlaps(other) for other in x_boxes):
+            label.set_visible(False)
+
+
+def _legend_outside(ax) -> None:
+    """Legend to the right of the axes: it cannot cover curves, the target or labels."""
+    entries = len(ax.get_legend_handles_labels()[1])
+    ax.legend(frameon=False, fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0),
+              borderaxespad=0.0, ncols=1 if entries <= 12 else 2)
 
 
 def _as_1d(values: Any, name: str) -> np.ndarray:
@@ -212,10 +267,15 @@ def plot_beta_before_after(members: Sequence[str], beta_before: Any, beta_after:
                          column="beta_target")
     x = np.arange(n, dtype=float)
     finite = np.concatenate([before[np.isfinite(before)], after[np.isfinite(after)], target])
-    cap = float(finite.max()) + 0.8
-    top = cap + 0.5 if np.any(np.isposinf(before) | np.isposinf(after)) else None
+    low, high = beta_limits(finite, float(target.min()))
+    high = max(high, float(target.max()) + 0.3)
+    cap = high - 0.2  # values above (and +inf) are drawn here and named
+    beyond = (before > cap) | (after > cap)
+    top = high + 0.5 if np.any(beyond) else high
 
-    fig, (ax,) = _new_figure(height=4.4)
+    fig, (ax,) = _new_figure(height=4.4 + (0.8 if n > 6 else 0.0))
+    if n > 10:
+        fig.set_figwidth(max(_FIG_WIDTH, 0.42 * n + 1.5))
     ax.vlines(x, np.minimum(np.clip(before, None, cap), np.clip(after, None, cap)),
               np.maximum(np.clip(before, None, cap), np.clip(after, None, cap)),
               color="#c4c9cf", linewidth=2.5, zorder=1)
@@ -227,7 +287,10 @@ def plot_beta_before_after(members: Sequence[str], beta_before: Any, beta_after:
     for xi, b, a in zip(x, before, after):
         if np.isposinf(b) or np.isposinf(a):
             ax.annotate("\u03b2 = \u221e", (xi, cap), textcoords="offset points",
-                        xytext=(0, 8), ha="center", fontsize=9, color=PALETTE[3])
+                        xytext=(0, 8), ha="center", fontsize=8, color=PALETTE[3])
+        elif b > cap or a > cap:
+            ax.annotate(f"{max(b, a):.1f}", (xi, cap), textcoords="offset points",
+                        xytext=(0, 8), ha="center", fontsize=8, color=PALETTE[3])
     if target.size == 1:
         _target_hline(ax, float(target[0]))
     else:
@@ -236,14 +299,15 @@ def plot_beta_before_after(members: Sequence[str], beta_before: Any, beta_after:
         ax.plot(segments_x, segments_y, color=TARGET_COLOUR, linestyle="--", linewidth=1.6,
                 label="Target \u03b2")
     ax.set_xticks(x)
-    ax.set_xticklabels(labels, rotation=30 if n > 6 else 0, ha="right" if n > 6 else "center",
-                       fontsize=9)
+    if n > 6:
+        ax.set_xticklabels([lab.replace("\n", " ") for lab in labels], rotation=90, fontsize=8)
+    else:
+        ax.set_xticklabels(labels, fontsize=9)
     ax.set_xlim(-0.6, n - 0.4)
-    if top is not None:
-        ax.set_ylim(top=top)
+    ax.set_ylim(low, top)
     ax.set_xlabel("Member and failure mode")
     ax.set_ylabel(BETA_LABEL)
-    ax.legend(frameon=False, fontsize=9, loc="best")
+    _legend_outside(ax)
     return fig
 
 
@@ -256,7 +320,7 @@ def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any,
                         time_label: str = "Time from assessment", time_unit: str = "years",
                         mark_crossings: bool = True,
                         sampling_bands: Mapping[str, tuple[Any, Any]] | None = None,
-                        band_label: str | None = None) -> Figure:
+                        band_label: str | None = None, period: str = "") -> Figure:
     """Reliability index against time per member, with the target line.
 
     Parameters
@@ -293,12 +357,13 @@ def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any,
         raise InputError("curves is empty: give beta(t) for at least one member.", column="curves")
     fig, (ax,) = _new_figure()
     crossings_t, crossings_b = [], []
+    shown: list = []
     for k, (name, values) in enumerate(curves.items()):
         beta = _as_1d(values, f"curves[{name!r}]")
         if beta.size != t.size:
             raise InputError(f"curve {name!r} has {beta.size} values but times has {t.size}.",
                              column=f"curves[{name!r}]")
-        colour = PALETTE[k % len(PALETTE)]
+        colour, marker = member_style(k)
         if bands and name in bands:
             lower = _as_1d(bands[name][0], f"bands[{name!r}][0]")
             upper = _as_1d(bands[name][1], f"bands[{name!r}][1]")
@@ -310,25 +375,30 @@ def plot_beta_over_time(times: Any, curves: Mapping[str, Any], beta_target: Any,
             for edge in sampling_bands[name]:
                 ax.plot(t, _as_1d(edge, f"sampling_bands[{name!r}]"), color=colour,
                         linewidth=0.8, linestyle="--")
-        ax.plot(t, beta, color=colour, linewidth=1.8, label=str(name))
+        every = max(1, t.size // 8)
+        ax.plot(t, beta, color=colour, linewidth=1.8, label=str(name), marker=marker,
+                markersize=5, markevery=(k % every, every))
+        shown.append(beta)
         if mark_crossings:
             tc = target_crossing_time(t, beta, target)
             if math.isfinite(tc):
                 crossings_t.append(tc)
                 crossings_b.append(target)
-    _target_hline(ax, target)
+    _target_hline(ax, target, period)
     if bands and band_label:
         ax.fill_between([], [], [], color="grey", alpha=0.15, linewidth=0, label=band_label)
     if sampling_bands:
         ax.plot([], [], color="grey", linewidth=0.8, linestyle="--",
                 label="sampling band (+/- 2 standard errors)")
     if crossings_t:
-        ax.plot(crossings_t, crossings_b, linestyle="none", marker="v", markersize=8,
-                color=TARGET_COLOUR, label="Falls below target")
+        ax.plot(crossings_t, crossings_b, linestyle="none", marker="|", markersize=14,
+                markeredgewidth=2.0, color=TARGET_COLOUR, label="Falls below target")
     ax.set_xlim(t[0], t[-1])
+    ax.set_ylim(*beta_limits(np.concatenate(shown), target))
     ax.set_xlabel(_axis_label(time_label, time_unit))
     ax.set_ylabel(BETA_LABEL)
-    ax.legend(frameon=False, fontsize=9, loc="best")
+    _legend_outside(ax)
+    _clear_corner(ax)
     return fig
 
 
@@ -348,7 +418,7 @@ def share_below_target(betas: Any, beta_target: float) -> float:
 
 def plot_preposterior_beta(programmes: Mapping[str, Any], beta_target: Any, *,
                            overlay: bool = False, bins: int = 40,
-                           current_beta: float | None = None) -> Figure:
+                           current_beta: float | None = None, period: str = "") -> Figure:
     """Distribution of the reliability index that each test programme could lead to.
 
     Parameters
@@ -365,6 +435,9 @@ def plot_preposterior_beta(programmes: Mapping[str, Any], beta_target: Any, *,
         Histogram bins over the common range [-].
     current_beta : float, optional
         Reliability index with today's information [-], drawn as a dotted line.
+    period : str, optional
+        Reference period of the betas and the target, e.g. ``"15-year"``, written
+        in the labels.
 
     Returns
     -------
@@ -396,21 +469,23 @@ def plot_preposterior_beta(programmes: Mapping[str, Any], beta_target: Any, *,
         ax = axes[0] if overlay else axes[k]
         colour = PALETTE[k % len(PALETTE)] if overlay else PALETTE[0]
         share = share_below_target(arr, target)
-        text = f"{name}: P(\u03b2 < target) = {share:.2f}"
+        text = f"{name}: P(\u03b2 < target) = {share:.1%}"
         ax.hist(arr[np.isfinite(arr)], bins=edges, density=True,
                 histtype="step" if overlay else "stepfilled", color=colour,
                 alpha=1.0 if overlay else 0.55, linewidth=1.6, label=text if overlay else None)
         if not overlay:
             ax.set_title(text, fontsize=10, loc="left")
     for ax in (axes[:1] if overlay else axes):
+        words = f" ({period})" if period else ""
         ax.axvline(target, color=TARGET_COLOUR, linestyle="--", linewidth=1.4,
-                   label=f"Target \u03b2 = {target:.2f}")
+                   label=f"Target \u03b2{words} = {target:.2f}")
         if current_beta is not None and math.isfinite(float(current_beta)):
             ax.axvline(float(current_beta), color=PALETTE[3], linestyle=":", linewidth=1.4,
-                       label=f"Current \u03b2 = {float(current_beta):.2f}")
+                       label=f"Current \u03b2{words} = {float(current_beta):.2f}")
         ax.set_ylabel("Probability density [-]", fontsize=9 if not overlay else None)
-    axes[0].legend(frameon=False, fontsize=9, loc="upper right")
-    axes[-1].set_xlabel("Reliability index after testing \u03b2 [-]")
+    _legend_outside(axes[0])
+    words = f", {period}" if period else ""
+    axes[-1].set_xlabel(f"Reliability index after testing \u03b2{words} [-]")
     return fig
 
 
@@ -432,7 +507,8 @@ def _dates(dates: Any) -> np.ndarray:
     return out
 
 
-def plot_beta_history(dates: Any, history: Mapping[str, Any], beta_target: Any) -> Figure:
+def plot_beta_history(dates: Any, history: Mapping[str, Any], beta_target: Any, *,
+                      period: str = "") -> Figure:
     """Reliability index per member at each inspection campaign, with the target line.
 
     Parameters
@@ -456,16 +532,18 @@ def plot_beta_history(dates: Any, history: Mapping[str, Any], beta_target: Any) 
                          column="history")
     order = np.argsort(when, kind="stable")
     fig, (ax,) = _new_figure()
-    markers = ("o", "s", "D", "^", "v", "P", "X", "h")
+    shown = []
     for k, (name, values) in enumerate(history.items()):
         beta = _as_1d(values, f"history[{name!r}]")
         if beta.size != when.size:
             raise InputError(f"member {name!r} has {beta.size} values but there are "
                              f"{when.size} campaign dates.", column=f"history[{name!r}]")
         keep = order[np.isfinite(beta[order])]
-        ax.plot(when[keep], beta[keep], marker=markers[k % len(markers)], markersize=6,
-                linewidth=1.5, color=PALETTE[k % len(PALETTE)], label=str(name))
-    _target_hline(ax, target)
+        colour, marker = member_style(k)
+        ax.plot(when[keep], beta[keep], marker=marker, markersize=6,
+                linewidth=1.5, color=colour, label=str(name))
+        shown.append(beta[keep])
+    _target_hline(ax, target, period)
     locator = AutoDateLocator(minticks=3, maxticks=8)
     ax.xaxis.set_major_locator(locator)
     ax.xaxis.set_major_formatter(DateFormatter("%Y-%m"))
@@ -474,12 +552,15 @@ def plot_beta_history(dates: Any, history: Mapping[str, Any], beta_target: Any) 
     ax.set_xlim(when.min() - pad, when.max() + pad)
     ax.set_xlabel("Inspection campaign date [yyyy-mm]")
     ax.set_ylabel(BETA_LABEL)
-    ax.legend(frameon=False, fontsize=9, loc="best")
+    ax.set_ylim(*beta_limits(np.concatenate(shown) if shown else [], target))
+    _legend_outside(ax)
+    _clear_corner(ax)
     return fig
 
 
 __all__ = [
-    "PALETTE", "TARGET_COLOUR", "plot_prior_posterior", "plot_beta_before_after",
+    "MEMBER_COLOURS", "MEMBER_MARKERS", "PALETTE", "TARGET_COLOUR", "beta_limits",
+    "member_style", "plot_prior_posterior", "plot_beta_before_after",
     "plot_beta_over_time", "plot_preposterior_beta",
     "share_below_target", "plot_beta_history",
 ]

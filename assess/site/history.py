@@ -31,6 +31,7 @@ class CampaignAssessment:
     data_until: dt.date
     counts: dict
     assessment: Any
+    knowledge: Any = None
 
     def rows(self) -> list[dict]:
         """One row per member and mode: campaign, date, betas, verdict."""
@@ -109,7 +110,9 @@ def reassess_history(
                 importance=False,
                 known_before=known_before,
             )
-        history.append(CampaignAssessment(name, date, until, update.counts(), assessment))
+        history.append(
+            CampaignAssessment(name, date, until, update.counts(), assessment, update.after)
+        )
         if progress:
             progress(name)
     return history

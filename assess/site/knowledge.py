@@ -142,6 +142,25 @@ def knowledge_rows(site, update) -> list[dict]:
     return rows
 
 
+_WARNED_CONCRETE: set = set()
+"""(site folder, class, production) whose concrete-table warning was already given."""
+
+
+def _concrete_prior_once(site):
+    """`concrete_prior` of the site's class; its table warning (interpolated or nearest
+    class) is given once per site and process, not by every step that needs the prior."""
+    materials = site.materials
+    key = (str(getattr(site, "folder", "")), materials.concrete_class, materials.production)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        prior = concrete_prior(materials.concrete_class, materials.production)
+    if key not in _WARNED_CONCRETE:
+        for item in caught:
+            _WARNED_CONCRETE.add(key)
+            warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
+    return prior
+
+
 def weak_normal_gamma(
     mean: float, predictive_std: float, n: float, nu: float, source: str
 ) -> NormalGamma:
@@ -357,7 +376,7 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
         concrete = concrete_override(overrides.concrete_mean, overrides.concrete_cov)
     else:
         concrete = insitu_strength_prior(
-            concrete_prior(site.materials.concrete_class, site.materials.production),
+            _concrete_prior_once(site),
             age_days(site.site.year_built, site.site.assessment_date),
         )
     if overrides is not None and overrides.steel_mean is not None:

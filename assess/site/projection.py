@@ -597,6 +597,9 @@ class LifeCurve:
         Cross-checks by subset simulation at given years.
     reference : str
         Always `ANNUAL_NOTE`.
+    anchor : dict
+        How the curve was tied to the members' "after" result at the assessment
+        date (`assess.site.life.anchor_to_members`); empty when it was not.
     """
 
     member: str
@@ -625,6 +628,7 @@ class LifeCurve:
     parameter_lower: np.ndarray | None = None
     parameter_upper: np.ndarray | None = None
     parameter_draws: int = 0
+    anchor: dict = dataclasses.field(default_factory=dict)
 
     @property
     def beta_now(self) -> float:
@@ -681,6 +685,7 @@ class LifeCurve:
             "centres": self.centres,
             "warnings": list(self.warnings),
             "checks": self.checks,
+            "anchor": self.anchor,
         }
 
 

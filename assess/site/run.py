@@ -188,8 +188,11 @@ def _materials(run: SiteRun):
 
 def _members(run: SiteRun):
     from assess.site.before_after import assess_members
+    from assess.site.design_check import design_check_warnings
 
     update = run.step("materials")
+    for message in design_check_warnings(run.site):
+        warnings.warn(message, UserWarning, stacklevel=2)
     return assess_members(
         run.site,
         update,
@@ -209,12 +212,20 @@ def _corrosion(run: SiteRun):
 
 
 def _life(run: SiteRun):
-    from assess.site.life import compute_site_life
+    from assess.site.life import compute_site_life, members_from_ledger
 
     update = run.step("materials")
     corrosion = run.step("corrosion")
+    assessment = run.result("members")
+    if assessment is None:  # e.g. `assess life` after `assess members`: the same numbers
+        assessment = members_from_ledger(run.site, update, run.settings.seed)
     return compute_site_life(
-        run.site, update, corrosion.inputs, settings=run.settings, members=run.members
+        run.site,
+        update,
+        corrosion.inputs,
+        settings=run.settings,
+        members=run.members,
+        assessment=assessment,
     )
 
 
@@ -226,7 +237,13 @@ def _worth(run: SiteRun):
     setup = read_decision_setup(path)
     update = run.step("materials")
     return compute_site_worth(
-        run.site, update, setup, member=run.worth_member, settings=run.settings, decision_file=path
+        run.site,
+        update,
+        setup,
+        member=run.worth_member,
+        settings=run.settings,
+        decision_file=path,
+        life=run.result("life"),
     )
 
 
@@ -331,11 +348,19 @@ def _failure(run: SiteRun, name: str, exc: Exception, seconds: float) -> StepRec
     return record
 
 
+def _from_this_project(filename: str) -> bool:
+    """True when a warning was raised (or attributed) in `assess` or `inspection_io`."""
+    parts = Path(str(filename)).parts
+    return "assess" in parts or "inspection_io" in parts
+
+
 def _keep_warnings(run: SiteRun, record: StepRecord, caught) -> None:
     """Keep the distinct warnings of a step and show them the usual way, once each."""
     for item in caught:
         if not issubclass(item.category, UserWarning):
             continue  # library chatter (deprecations, numerical notices) is not for the report
+        if not _from_this_project(item.filename):
+            continue  # e.g. PyTensor's BLAS notice: about the machine, not the structure
         text = str(item.message)
         if text not in record.warnings:
             record.warnings.append(text)

@@ -94,6 +94,13 @@ class SiteWorth:
                 }
                 for a in problem.alternatives
             ],
+            "annual_pf_follows_life_curve": decision.uses_life_curve,
+            "keep_annual_pf_by_year": (
+                None
+                if decision.annual_pf_by_year is None
+                else decision.annual_pf_by_year[:, problem.keep_index, :].mean(axis=0).tolist()
+            ),
+            "keep_horizon_pf": float(problem.horizon_pf[:, problem.keep_index].mean()),
             "prior_decision": first.prior_decision,
             "evpi": first.evpi,
             "evpi_standard_error": first.evpi_standard_error,
@@ -145,6 +152,7 @@ def compute_site_worth(
     settings: RunSettings | None = None,
     decision_file="",
     progress=None,
+    life=None,
 ) -> SiteWorth:
     """Build the member's decision problem and rank the setup's test programmes.
 
@@ -158,6 +166,10 @@ def compute_site_worth(
         Default the decision file's member, else the member with the lowest beta.
     settings : RunSettings, optional
         Seed and the number of simulated outcomes per programme.
+    life : SiteLife, optional
+        Remaining-life curves of the same run: the member's annual pf then follows
+        its governing curve year by year (`worth_decision.time_dependent_annual_pf`),
+        so the value of information and the remaining life rest on one beta(t).
     """
     from assess.site.worth_decision import build_site_decision
     from assess.worth import rank_programmes
@@ -176,6 +188,7 @@ def compute_site_worth(
             n_draws=THETA_DRAWS,
             n_design=DESIGN_POINTS,
             seed=settings.seed,
+            life_curves=None if life is None else {c.member: c for c in life.main},
         )
         if progress:
             progress("Preposterior analysis of the test programmes")

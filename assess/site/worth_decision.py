@@ -550,6 +550,11 @@ class SiteDecision:
         Limit-state evaluations spent on the design [-].
     notes : list of str
         Assumptions and warnings in plain words.
+    annual_pf_by_year : ndarray of shape (N, A, T)
+        Annual pf of each draw, alternative and year of the horizon (before the
+        survival of earlier years is applied) [-].
+    uses_life_curve : bool
+        True when the annual pf follows the member's remaining-life curve.
     """
 
     member: str
@@ -566,6 +571,8 @@ class SiteDecision:
     member_columns: list
     form_calls: int
     notes: list
+    annual_pf_by_year: np.ndarray | None = None
+    uses_life_curve: bool = False
 
     def member_theta(self, rows=None) -> np.ndarray:
         """Member-zone columns of theta (all rows, or the given ones)."""
@@ -600,6 +607,118 @@ def _alternative_description(spec: AlternativeSpec) -> str:
     return f"{spec.description}; {effect}" if spec.description else effect
 
 
+#: Alternatives whose bars keep corroding: their annual pf grows like the life curve's.
+DETERIORATING = ("keep", "strengthen", "restrict_load")
+
+
+def time_dependent_annual_pf(
+    pf_now: np.ndarray, kinds: Sequence[str], curve, horizon_years: int
+) -> tuple[np.ndarray, str, bool]:
+    """Annual pf of every draw, alternative and year of the horizon, from the life curve.
+
+    The surrogate gives the annual pf of each draw theta_k at the assessment date,
+    p_k; the remaining-life curve gives the member's annual pf of year t, P(t)
+    (`assess.site.projection`: the annual maximum load against the resistance of
+    year t, integrated over the posterior). For year t = 0, 1, ..., T - 1 of the
+    horizon:
+
+    - keep as is: p_k(t) = p_k P(t) / mean_k(p_k), so that the mean over the draws
+      of each year's annual pf IS the life curve's P(t) (one source for both
+      sections), while the spread over theta that gives tests their value is kept;
+    - strengthen, restrict load (the bars go on corroding): p_k(t) = p_k P(t) / P(0),
+      the life curve's relative growth applied to the alternative's own level;
+    - repair, replace: constant, p_k(t) = p_k.
+
+    Years beyond the life curve's horizon keep its last value. Without a curve (or
+    with P(0) = 0 where a ratio is needed) the annual pf is held constant.
+
+    Parameters
+    ----------
+    pf_now : ndarray of shape (N, A)
+        Annual pf per draw and alternative at the assessment date [-].
+    kinds : sequence of str
+        Kind of each alternative (`assess.worth.decision_file.AlternativeSpec.kind`).
+    curve : LifeCurve or None
+        ``years_from_assessment`` [yr] and ``pf`` [-] of the member's governing curve.
+    horizon_years : int
+        Years T of the decision horizon [yr].
+
+    Returns
+    -------
+    yearly : ndarray of shape (N, A, T) [-]
+    note : str
+        One sentence on what was done, for the report.
+    follows_curve : bool
+        True when at least one alternative follows the life curve.
+    """
+    pf_now = np.asarray(pf_now, dtype=float)
+    years = np.arange(int(horizon_years), dtype=float)
+    yearly = np.repeat(pf_now[:, :, None], years.size, axis=2)
+    if curve is None:
+        return (
+            yearly,
+            (
+                "the annual failure probability is held constant over the horizon (no "
+                "remaining-life curve in this run); corrosion after the assessment date is "
+                "not counted"
+            ),
+            False,
+        )
+    life_pf = np.interp(
+        years,
+        np.asarray(curve.years_from_assessment, dtype=float),
+        np.asarray(curve.pf, dtype=float),
+    )
+    used = []
+    for a, kind in enumerate(kinds):
+        if kind not in DETERIORATING:
+            continue
+        if kind == "keep":
+            level = float(pf_now[:, a].mean())
+            if level <= 0.0:
+                continue
+            factor = life_pf / level
+        else:
+            if life_pf[0] <= 0.0:
+                continue
+            factor = life_pf / life_pf[0]
+        yearly[:, a, :] = np.clip(pf_now[:, a, None] * factor[None, :], 0.0, 1.0)
+        used.append(ALTERNATIVE_NAMES[kind])
+    if not used:
+        return (
+            yearly,
+            (
+                "the remaining-life curve has no failed sample at the assessment date; the "
+                "annual failure probability is held constant over the horizon"
+            ),
+            False,
+        )
+    total = float(life_pf.sum())
+    return (
+        yearly,
+        (
+            f"the annual failure probability follows the member's remaining-life curve year "
+            f"by year ({', '.join(used)}; repair and replace stay constant): summed over the "
+            f"{int(horizon_years)} years it is {total:.3g} for 'keep as is', the same as the "
+            f"remaining-life section"
+        ),
+        True,
+    )
+
+
+def failure_increments(yearly: np.ndarray) -> np.ndarray:
+    """Failure probability of each year: annual pf of year t times survival of years < t [-].
+
+    P(fail in year t) = p(t) prod_{s<t} (1 - p(s)) for independent years given theta;
+    with a constant p this is p (1 - p)^t and the sum over T years is 1 - (1 - p)^T
+    (EN 1990 Annex C conversion). ``yearly`` has the years on its last axis.
+    """
+    yearly = np.asarray(yearly, dtype=float)
+    survival = np.cumprod(1.0 - yearly, axis=-1)
+    before = np.concatenate([np.ones_like(survival[..., :1]), survival[..., :-1]], axis=-1)
+    return yearly * before
+
+
 def build_site_decision(
     site,
     update,
@@ -610,6 +729,7 @@ def build_site_decision(
     n_design: int = 48,
     seed=None,
     progress: Callable[[str], None] | None = None,
+    life_curves: dict | None = None,
 ) -> SiteDecision:
     """Decision problem of one member from the site's updated knowledge.
 
@@ -631,6 +751,11 @@ def build_site_decision(
         Seeds the prior draws of quantities without site data.
     progress : callable, optional
         Called with a short text after each alternative.
+    life_curves : dict, optional
+        Member -> its governing remaining-life curve (`assess.site.projection.LifeCurve`,
+        or anything with ``years_from_assessment`` [yr] and annual ``pf`` [-]); the
+        member's annual pf then follows that curve year by year
+        (`time_dependent_annual_pf`). Without it the annual pf is held constant.
 
     Raises
     ------
@@ -739,8 +864,11 @@ def build_site_decision(
         if progress:
             progress(name)
     pf = np.column_stack(annual_pf)
-    years = np.arange(setup.horizon_years)
-    increments = pf[:, :, None] * (1.0 - pf[:, :, None]) ** years[None, None, :]
+    kinds = [spec.kind for spec in setup.alternatives]
+    curve = (life_curves or {}).get(member_id)
+    yearly, life_note, follows = time_dependent_annual_pf(pf, kinds, curve, setup.horizon_years)
+    notes.append(life_note)
+    increments = failure_increments(yearly)
 
     def cover_median(z):  # median cover of zone z [mm] (population on ln c)
         return float(np.exp(np.median(theta[:, names.index(parameter_name("cover", "mu", z))])))
@@ -757,9 +885,11 @@ def build_site_decision(
             "counted, and the grid points are taken as independent"
         )
     notes.append(
-        f"years are taken as independent given the material populations: horizon "
-        f"pf = 1 - (1 - annual pf)^{setup.horizon_years}; the annual target "
-        f"{annual_target.beta:g} becomes {horizon_target:.2f} over the horizon"
+        f"years are taken as independent given the material populations: the failure "
+        f"probability of year t is the annual pf of year t times the probability of "
+        f"surviving the years before; the annual target {annual_target.beta:.2f} "
+        f"(1-year reference period) becomes {horizon_target:.2f} over the "
+        f"{setup.horizon_years}-year horizon (EN 1990 Annex C conversion)"
     )
     problem = DecisionProblem(
         alternatives=alternatives,
@@ -786,6 +916,8 @@ def build_site_decision(
         member_columns=member_columns,
         form_calls=reliability.n_calls,
         notes=notes,
+        annual_pf_by_year=yearly,
+        uses_life_curve=follows,
     )
 
 
@@ -798,11 +930,13 @@ __all__ = [
     "active_probability_from_area_ratio",
     "add_fixed_quantity",
     "build_site_decision",
+    "failure_increments",
     "farthest_point_design",
     "make_programme",
     "parameter_name",
     "population_draws",
     "system_beta_after",
+    "time_dependent_annual_pf",
     "weakest_member",
     "zone_columns",
 ]

@@ -20,7 +20,9 @@ from assess.worth.decision import Alternative, DecisionProblem, discount_factors
 from assess.worth.preposterior import (
                                       LowEffectiveSampleSizeWarning,
                                       ProgrammeRanking,
+                                      WorthAboveBoundWarning,
                                       WorthResult,
+                                      check_evsi_below_evpi,
                                       posterior_weights,
                                       rank_programmes,
                                       recommendation_text,
@@ -39,7 +41,8 @@ from assess.worth.programmes import (
 __all__ = [
     "Alternative", "BreakoutSurvey", "CoreSampling", "CustomProgramme", "DecisionProblem",
     "DirectMeasurement", "HalfCellSurvey", "LowEffectiveSampleSizeWarning", "Programme",
-    "ProgrammeRanking", "TwoActionLinearLoss", "WorthResult", "discount_factors",
+    "ProgrammeRanking", "TwoActionLinearLoss", "WorthAboveBoundWarning", "WorthResult",
+    "check_evsi_below_evpi", "discount_factors",
     "expected_cost", "posterior_sd", "posterior_weights", "preposterior_sd",
     "rank_programmes", "recommendation_text", "summarise_readings", "unit_normal_loss",
     "value_of_information",

@@ -35,6 +35,41 @@ class LowEffectiveSampleSizeWarning(UserWarning):
     """Re-weighting left too few effective draws for some simulated outcomes."""
 
 
+class WorthAboveBoundWarning(UserWarning):
+    """The EVSI estimate exceeds the EVPI estimate: sampling noise broke EVSI <= EVPI."""
+
+
+def check_evsi_below_evpi(name: str, evsi: float, evsi_se: float, evpi: float,
+                          evpi_se: float, currency: str = "") -> str | None:
+    """Check the law EVSI <= EVPI on the estimates; warn and return the message when broken.
+
+    EVSI <= EVPI holds for the exact expectations (Raiffa & Schlaifer 1961, from
+    memory); the estimates carry Monte Carlo error (J outcomes for the EVSI, N
+    draws for the EVPI), so an estimate may break it. The warning gives both
+    estimates with their standard errors and says whether the excess is within
+    3 combined standard errors (noise) or beyond (a fault in the set-up).
+
+    Returns
+    -------
+    str or None
+        The message, or None when EVSI <= EVPI.
+    """
+    if not (evsi > evpi):
+        return None
+    combined = math.hypot(evsi_se, evpi_se)
+    unit = f" {currency}" if currency else ""
+    within = evsi - evpi <= 3.0 * combined
+    message = (f"programme '{name}': the value of information estimate {evsi:,.0f}{unit} "
+               f"(standard error {evsi_se:,.0f}) exceeds the value of perfect information "
+               f"{evpi:,.0f}{unit} (standard error {evpi_se:,.0f}), which it can never exceed; "
+               + ("the excess is within 3 combined standard errors, i.e. sampling noise: "
+                  "use more simulated outcomes." if within else
+                  "the excess is beyond 3 combined standard errors: check the programme's "
+                  "measurement model and the decision set-up."))
+    warnings.warn(message, WorthAboveBoundWarning, stacklevel=3)
+    return message
+
+
 @dataclasses.dataclass(frozen=True, eq=False)
 class WorthResult:
     """Value of information of one test programme.
@@ -320,6 +355,10 @@ def value_of_information(problem: DecisionProblem, programme: Programme, *,
                    f"of information is then uncertain. Use more current-posterior draws.")
         warnings.warn(message, LowEffectiveSampleSizeWarning, stacklevel=2)
         notes.append(message)
+    bound = check_evsi_below_evpi(programme.name, evsi, evsi_se, evpi, evpi_se,
+                                  problem.currency)
+    if bound:
+        notes.append(bound)
     names = problem.names
     counts = np.bincount(best, minlength=n_alt) / n_outcomes
     return WorthResult(
@@ -406,10 +445,10 @@ def recommendation_text(problem: DecisionProblem, results: Sequence[WorthResult]
                      f"{money(focus.evsi)} against its cost of "
                      f"{money(focus.programme_cost)}. Decide on present knowledge.")
     if math.isfinite(focus.probability_adequate):
-        criterion = (f"reliability index >= {focus.target_beta:g}"
+        criterion = (f"reliability index over the horizon >= {focus.target_beta:.2f}"
                      if focus.target_beta is not None else "the given criterion")
         lines.append(f"Probability that {focus.description} shows the structure adequate "
-                     f"({criterion}): {focus.probability_adequate:.0%}.")
+                     f"({criterion}): {focus.probability_adequate:.1%}.")
     lines.append(f"No test of any kind can be worth more than the value of perfect information, "
                  f"{money(first.evpi)}.")
     for result in results:
