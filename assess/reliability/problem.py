@@ -63,6 +63,7 @@ class StandardNormalProblem:
         self.n_nan = 0
         self.n_inf = 0
         self._first_nonfinite: str | None = None
+        self._mode_scales: np.ndarray | None = None
 
     def g_modes(self, u: np.ndarray) -> np.ndarray:
         """Limit-state values of every mode, shape (n, m) [units of g].
@@ -117,8 +118,30 @@ class StandardNormalProblem:
                 f"{point or 'u=' + np.array2string(u_row[0], precision=4)}")
 
     def g(self, u: np.ndarray) -> np.ndarray:
-        """Series-system limit state: minimum over modes, shape (n,) [units of g]."""
-        return self.g_modes(u).min(axis=1)
+        """Series-system limit state: minimum over modes, shape (n,).
+
+        One mode: g itself [units of g]. Several modes: each mode divided by its
+        margin at the median point u = 0 (`mode_scales`) before the minimum, so that
+        modes in different units (kNm, kN) are compared on one footing by the
+        intermediate thresholds of subset simulation; dividing by a positive number
+        leaves each failure domain, and so the system pf, unchanged [-].
+        """
+        values = self.g_modes(u)
+        if values.shape[1] == 1:
+            return values[:, 0]
+        return (values / self.mode_scales(values.shape[1])).min(axis=1)
+
+    def mode_scales(self, m: int) -> np.ndarray:
+        """|g_i(u = 0)| of each mode, 1 where not finite or zero (not counted in n_calls)."""
+        if getattr(self, "_mode_scales", None) is None or self._mode_scales.size != m:
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+                at_median = np.asarray(self._g_u(np.zeros((1, self.dim))), dtype=float)
+            at_median = np.abs(np.reshape(at_median, (-1,)))
+            if at_median.size != m:
+                at_median = np.ones(m)
+            usable = np.isfinite(at_median) & (at_median > 0)
+            self._mode_scales = np.where(usable, at_median, 1.0)
+        return self._mode_scales
 
     def counters(self) -> tuple[int, int, int]:
         """(n_calls, n_nan, n_inf) now, to pass to `nonfinite_warnings` after a run."""
