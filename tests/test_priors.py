@@ -127,8 +127,10 @@ def test_predictive_needs_enough_information():
 def test_concrete_class_lookup_edge_cases():
     assert parse_concrete_class("C25/30") == 25 and parse_concrete_class("c 35") == 35
     assert concrete_prior("C25/30").m == 3.65
-    with pytest.warns(UserWarning, match="interpolating"):
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # interpolation is a stated step, not a warning
         mid = concrete_prior("C30")
+    assert "interpolated between C25 and C35" in mid.source
     assert mid.m == pytest.approx(3.75) and mid.s == pytest.approx(0.105)
     with pytest.warns(UserWarning, match="unconservative"):
         low = concrete_prior("C12")

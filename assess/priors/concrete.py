@@ -85,7 +85,9 @@ def concrete_prior(concrete_class, production: str = "ready-mixed", *,
     -----
     Classes between two table rows are interpolated linearly in the class number
     for m' and s', taking the smaller n' and nu' of the two rows (less prior
-    weight); classes outside the table take the nearest row. Both cases warn.
+    weight), and the source says so (a stated step, not a warning: C30, the
+    template's class, lies between two rows); classes outside the table take the
+    nearest row and warn, since that can overestimate the strength.
     The JCSS table does not state whether its classes are cylinder or cube
     classes; give the class in the same convention as your
     production records, and override the table where they disagree.
@@ -114,9 +116,6 @@ def concrete_prior(concrete_class, production: str = "ready-mixed", *,
     upper = min(c for c in classes if c > number)
     w = (number - lower) / (upper - lower)
     lo, hi = rows[lower], rows[upper]
-    warnings.warn(
-        f"concrete class C{number} ({key}) is not in the JCSS prior table; interpolating "
-        f"between C{lower} and C{upper}.", stacklevel=2)
     return NormalGamma.from_jcss(
         (1 - w) * lo[0] + w * hi[0], min(lo[1], hi[1]), (1 - w) * lo[2] + w * hi[2],
         min(lo[3], hi[3]),
