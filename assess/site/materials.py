@@ -29,6 +29,7 @@ from assess.site.record import LedgerRow
 from assess.site.settings import RunSettings
 from assess.updating.cache import cached_posterior, content_hash
 from assess.updating.gate import GateReport
+from assess.updating.measurement_error import quantity_measurement_sd
 from inspection_io.ledger import Ledger
 from inspection_io.screening import usable_mask
 
@@ -144,6 +145,7 @@ def _payload(site, data: dict, before: dict, settings: RunSettings, include_flag
             "fit": dataclasses.asdict(settings.fit("materials")),
             "seed": settings.seed,
             "concrete_tau_scale": CONCRETE_TAU_SCALE,
+            "measurement_sd": {q: quantity_measurement_sd(q) for q in QUANTITIES},
         },
         "priors": {
             z: {q: dataclasses.asdict(ng) for q, ng in qs.items()} for z, qs in before.items()
@@ -176,7 +178,9 @@ def _build_joint_model(site, data, before):
             groups = frame["zone"].map(index).to_numpy()
             if spec.pooling == "none":
                 # each zone its own prior (cover priors differ by zone)
-                _zone_priors_model(pm, name, values, groups, zones, before)
+                _zone_priors_model(
+                    pm, name, values, groups, zones, before, quantity_measurement_sd(name)
+                )
             else:
                 hierarchical_normal_model(
                     values,
@@ -186,12 +190,18 @@ def _build_joint_model(site, data, before):
                     pooling=spec.pooling,
                     name=name,
                     tau_scale=CONCRETE_TAU_SCALE,
+                    measurement_sd=quantity_measurement_sd(name),
                 )
     return joint
 
 
-def _zone_priors_model(pm, name, values, groups, zones, before):
-    """Unpooled normal-gamma model with a zone-specific prior (shared structure)."""
+def _zone_priors_model(pm, name, values, groups, zones, before, measurement_sd=0.0):
+    """Unpooled normal-gamma model with a zone-specific prior (shared structure).
+
+    A reading is the true local value plus an error of sd ``measurement_sd``
+    (`assess.updating.measurement_error`), so ``sigma`` excludes it."""
+    from assess.updating.models import with_error
+
     centers = np.array([before[z][name].center for z in zones])
     z_std = np.array([before[z][name].z_std for z in zones])
     shape = np.array([before[z][name].shape for z in zones])
@@ -201,7 +211,9 @@ def _zone_priors_model(pm, name, values, groups, zones, before):
         sigma = pm.Deterministic("sigma", 1.0 / pm.math.sqrt(precision), dims="group")
         zloc = pm.Normal("zloc", mu=0.0, sigma=z_std, dims="group")
         mu = pm.Deterministic("mu", centers + zloc * sigma, dims="group")
-        pm.Normal("y", mu=mu[groups], sigma=sigma[groups], observed=values)
+        pm.Normal(
+            "y", mu=mu[groups], sigma=with_error(pm, sigma[groups], measurement_sd), observed=values
+        )
 
 
 @dataclasses.dataclass(frozen=True)

@@ -67,6 +67,7 @@ from assess.reliability.form import form
 from assess.site.knowledge import QUANTITIES
 from assess.site.member_models import MemberModel, build_member_model
 from assess.targets import Target, convert_reference_period, target_beta
+from assess.updating.measurement_error import MEASUREMENT_ERRORS
 from assess.updating.to_model import add_uncertain_quantity
 from assess.worth.decision import Alternative, DecisionProblem, discount_factors
 from assess.worth.decision_file import AlternativeSpec, DecisionSetup, ProgrammeSpec
@@ -408,8 +409,8 @@ class CoverSurvey(NormalSampleProgramme):
     """Cover-meter survey: n readings of cover in one zone.
 
     Reading i: c_i = mu_c + sigma_c eps_i + e_i, eps_i ~ N(0, 1), e_i ~ N(0,
-    measurement_sd^2) (cover-meter error, typically 1-5 mm, BS 1881-204, from
-    memory). The same normal sample model as `CoreSampling`; outcome (mean
+    measurement_sd^2) (cover-meter error; default the value the site update
+    uses, ``MEASUREMENT_ERRORS["cover"]``, BS 1881-204, from memory). The same normal sample model as `CoreSampling`; outcome (mean
     cover, sum of squared deviations) [mm, mm^2].
     """
 
@@ -418,7 +419,7 @@ class CoverSurvey(NormalSampleProgramme):
     n_readings: int
     mean_column: Any
     sd_column: Any
-    measurement_sd: float = 0.0
+    measurement_sd: float = MEASUREMENT_ERRORS["cover"].sd
     description: str = ""
 
     COUNT_FIELD = "n_readings"

@@ -56,7 +56,8 @@ from assess.deterioration.defaults import (
 )
 from assess.errors import InputError
 from assess.updating.gate import GateReport, require_convergence
-from assess.updating.models import sample_posterior
+from assess.updating.measurement_error import MEASUREMENT_ERRORS
+from assess.updating.models import sample_posterior, with_error
 
 SURFACE_CHLORIDE_PRIOR = {
     "exposed deck": {"median": 2.0, "log_sd": 0.6},
@@ -114,7 +115,13 @@ class ChloridePriors:
         Standard deviation of ln C0 [-]; 0 fixes C0 at the median.
     measurement_sd_scale : float, default 0.2
         Scale of the half-normal prior of the log measurement error [-]
-        (0.2 is about 20 % scatter of a laboratory chloride value).
+        (0.2 is about 20 % scatter of a laboratory chloride value). This sigma
+        is the scatter of the true contents about the model (spatial and model
+        error); the reading error below is added to it.
+    reading_error_log : float, default ``MEASUREMENT_ERRORS["chloride"].sd`` (0.10)
+        Standard deviation of the analysis error of one value on ln C [-]
+        (`assess.updating.measurement_error`); the likelihood sd is
+        sqrt(sigma^2 + reading_error_log^2).
     delta_x_mm : float, default 0
         Convection-zone depth dx, fixed [mm]; increments shallower than dx are
         read as C_S.
@@ -133,6 +140,7 @@ class ChloridePriors:
     measurement_sd_scale: float = 0.2
     delta_x_mm: float = 0.0
     source: str = ""
+    reading_error_log: float = MEASUREMENT_ERRORS["chloride"].sd
 
     def __post_init__(self):
         caller = "ChloridePriors"
@@ -144,6 +152,10 @@ class ChloridePriors:
             raise InputError(f"The 'initial_chloride_log_sd' parameter of {caller} must be a "
                              f"number >= 0. Got {self.initial_chloride_log_sd!r} instead.",
                              column="initial_chloride_log_sd")
+        if not (np.isfinite(self.reading_error_log) and self.reading_error_log >= 0):
+            raise InputError(f"The 'reading_error_log' parameter of {caller} must be a number "
+                             f">= 0. Got {self.reading_error_log!r} instead.",
+                             column="reading_error_log")
         if not (np.isfinite(self.delta_x_mm) and self.delta_x_mm >= 0):
             raise InputError(f"The 'delta_x_mm' parameter of {caller} must be a number >= 0. "
                              f"Got {self.delta_x_mm!r} instead.", column="delta_x_mm")
@@ -390,7 +402,8 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors):
         c_0 = pm.Deterministic("initial_chloride", pm.math.exp(log_c0))
         predicted = chloride_content_tensor(x, t, c_s[idx], pm.math.exp(log_d_data)[idx],
                                             age_data, a, c_0, priors.delta_x_mm)
-        pm.Normal("log_chloride", mu=pm.math.log(predicted), sigma=sigma, observed=np.log(c))
+        pm.Normal("log_chloride", mu=pm.math.log(predicted),
+                  sigma=with_error(pm, sigma, priors.reading_error_log), observed=np.log(c))
     return model
 
 
