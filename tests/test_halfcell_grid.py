@@ -13,11 +13,8 @@ correlation rho(h) = exp(-h / L) (common practice for potential fields); the pow
 from __future__ import annotations
 
 import json
-import math
 
-import numpy as np
 import pytest
-from scipy import integrate, stats
 
 from inspection_io.errors import InputError
 from inspection_io.readers import read_campaign_file

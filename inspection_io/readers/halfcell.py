@@ -41,9 +41,9 @@ def _build(row: Row) -> list[dict]:
     if "x" in row.context.headers:
         for name in ("x", "y"):
             if row[name] is None:
-                raise row.error(f"empty grid coordinate: once the file has 'x' and 'y' "
-                                f"columns every reading needs both (position on the surveyed "
-                                f"surface [m])", column=name)
+                raise row.error("empty grid coordinate: once the file has 'x' and 'y' "
+                                "columns every reading needs both (position on the surveyed "
+                                "surface [m])", column=name)
         extra["x_m"], extra["y_m"] = float(row["x"]), float(row["y"])
     return [row.observation("potential", row["potential"], "mV CSE", extra)]
 
