@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
+import warnings
 from pathlib import Path
 from typing import Any
 
@@ -28,6 +29,7 @@ from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
 from assess.site.settings import RunSettings
 from assess.updating.cache import cached_posterior, content_hash
+from assess.updating.family_check import TAIL_SIDES, check_family, family_warning
 from assess.updating.gate import GateReport
 from assess.updating.measurement_error import quantity_measurement_sd
 from inspection_io.ledger import Ledger
@@ -64,6 +66,9 @@ class SiteUpdate:
     before_local, after_local : dict
         zone -> `assess.site.locations.LocalKnowledge`: populations of one face or
         one member's face where the data give them (empty: pooled per zone).
+    family_checks : dict
+        "zone/quantity/side" -> the run-time check of the fitted family against the
+        raw draws (`assess.updating.family_check`).
     """
 
     before: dict
@@ -78,6 +83,7 @@ class SiteUpdate:
     seed: int = 0
     before_local: dict = dataclasses.field(default_factory=dict)
     after_local: dict = dataclasses.field(default_factory=dict)
+    family_checks: dict = dataclasses.field(default_factory=dict)
 
     @property
     def has_data(self) -> bool:
@@ -297,6 +303,7 @@ def update_site(
     )
     idata, gate = cached.fit.idata, cached.fit.gate
     after = {z: dict(qs) for z, qs in before.items()}
+    family_checks: list = []
     for name in QUANTITIES:
         if data[name].empty:
             continue
@@ -308,6 +315,13 @@ def update_site(
                 source=f"posterior of {name} in zone {zone} from site tests "
                 f"(MCMC, {data_hash[:12]})",
             )
+            family_checks += [
+                (zone, name, check_family(after[zone][name], mu, sigma, side=side))
+                for side in TAIL_SIDES.get(name, ("lower",))
+            ]
+    text = family_warning([c for c in family_checks if not c[2].passed])
+    if text:
+        warnings.warn(text, UserWarning, stacklevel=2)
     return SiteUpdate(
         before,
         after,
@@ -319,4 +333,5 @@ def update_site(
         idata,
         until_date,
         settings.seed,
+        family_checks={f"{z}/{q}/{c.side}": c.to_dict() for z, q, c in family_checks},
     )
