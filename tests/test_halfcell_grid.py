@@ -214,3 +214,25 @@ def test_half_cell_effect_recovers_the_prior_by_reweighting():
     assert effect["median_shift_years"] == pytest.approx(
         effect["with_half_cell_years"]["median"] - without)
     assert effect["readings"] == 25 and 1.0 < effect["effective_readings"] < 25.0
+
+
+def test_report_shows_the_half_cell_effect_table():
+    """The life section lists, per zone, t_i with and without the readings (numbers given
+    here, not computed: the table only shows them)."""
+    import types
+
+    from assess.report.assemble import _half_cell_effect_table
+    from assess.report.document import ReportDocument
+
+    effect = {"readings": 25, "effective_readings": 6.2, "calibrated": False,
+              "with_half_cell_years": {"p05": 18.0, "median": 24.0, "p95": 31.0},
+              "without_half_cell_years": {"p05": 13.0, "median": 27.5, "p95": 46.0}}
+    life = types.SimpleNamespace(corrosion={
+        "L3": types.SimpleNamespace(half_cell_effect=effect),
+        "L1": types.SimpleNamespace(half_cell_effect=None)})
+    doc = ReportDocument("t")
+    _half_cell_effect_table(doc.add_section("life"), life)
+    html = doc.to_html()
+    assert "with and without the half-cell" in html
+    assert "27.5" in html and "13-46" in html and "no (defaults)" in html
+    assert "L1" not in html.split("with and without the half-cell")[1]
