@@ -148,3 +148,23 @@ def test_the_update_and_the_programmes_use_the_same_values():
     with pytest.warns(UserWarning, match="differs from the measurement error"):
         setup = parse_decision_setup(data)
     assert setup.programmes[0].measurement_sd == 0.12
+
+
+def test_an_error_is_carried_to_the_scale_of_the_model():
+    # delta method: sd(ln(x + e)) ~ sd_e / x for a linear error on a log-scale model
+    covers = np.array([30.0, 35.0, 40.0])
+    assert quantity_measurement_sd("cover", log=True, values=covers) == pytest.approx(3.0 / 35.0)
+    assert quantity_measurement_sd("cover", log=False, values=covers) == 3.0
+    assert quantity_measurement_sd("concrete", log=True, values=covers) == 0.05
+
+
+def test_a_planned_half_cell_survey_counts_its_effective_readings():
+    """The value-of-information survey uses the weighting of the update: n_eff of the count
+    on the default grid (closed form of n_eff checked in tests/test_halfcell_grid.py)."""
+    from assess.site.worth_decision import effective_half_cell_count
+    from assess.updating.spatial import effective_number, grid_coordinates
+
+    for count in (1, 10, 40, 200):
+        expected = max(1, round(effective_number(*grid_coordinates(count))))
+        assert effective_half_cell_count(count) == expected
+    assert effective_half_cell_count(40) < 40 / 2  # 40 readings at 0.5 m: far fewer

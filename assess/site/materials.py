@@ -181,12 +181,11 @@ def _build_joint_model(site, data, before):
             if frame.empty:
                 continue
             values = np.log(frame["value"].to_numpy()) if spec.log else frame["value"].to_numpy()
+            error = quantity_measurement_sd(name, spec.log, frame["value"].to_numpy())
             groups = frame["zone"].map(index).to_numpy()
             if spec.pooling == "none":
                 # each zone its own prior (cover priors differ by zone)
-                _zone_priors_model(
-                    pm, name, values, groups, zones, before, quantity_measurement_sd(name)
-                )
+                _zone_priors_model(pm, name, values, groups, zones, before, error)
             else:
                 hierarchical_normal_model(
                     values,
@@ -196,7 +195,7 @@ def _build_joint_model(site, data, before):
                     pooling=spec.pooling,
                     name=name,
                     tau_scale=CONCRETE_TAU_SCALE,
-                    measurement_sd=quantity_measurement_sd(name),
+                    measurement_sd=error,
                 )
     return joint
 

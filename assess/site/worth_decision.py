@@ -440,6 +440,18 @@ def active_probability_from_area_ratio(
     return probability
 
 
+def effective_half_cell_count(count: int) -> int:
+    """Readings of a planned half-cell survey counted as independent ones [-].
+
+    The survey's ``count`` readings on a square grid at the default spacing carry the
+    information of n_eff independent ones (`assess.updating.spatial`, the weighting
+    the corrosion update gives a survey), rounded, at least 1.
+    """
+    from assess.updating.spatial import effective_number, grid_coordinates
+
+    return max(1, round(effective_number(*grid_coordinates(int(count)))))
+
+
 def make_programme(spec: ProgrammeSpec, zone: str, parameter_names: Sequence[str]) -> Programme:
     """Engine programme of a decision-file entry, its columns resolved in ``parameter_names``."""
 
@@ -481,7 +493,7 @@ def make_programme(spec: ProgrammeSpec, zone: str, parameter_names: Sequence[str
         return HalfCellSurvey(
             spec.name,
             spec.cost,
-            spec.count,
+            effective_half_cell_count(spec.count),
             active_probability_from_area_ratio(
                 column("area_ratio", "mu"), column("area_ratio", "sigma"), spec.active_below
             ),

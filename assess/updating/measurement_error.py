@@ -114,10 +114,34 @@ def measurement_sd(kind: str) -> float:
                          f"{sorted(MEASUREMENT_ERRORS)}.", column="kind") from None
 
 
-def quantity_measurement_sd(quantity: str) -> float:
-    """Measurement sd of the readings of a materials population (0 when none is stated)."""
+def quantity_measurement_sd(quantity: str, log: bool | None = None, values=None) -> float:
+    """Measurement sd of the readings of a materials population (0 when none is stated).
+
+    Parameters
+    ----------
+    quantity : str
+        A population of `assess.site.knowledge.QUANTITIES`.
+    log : bool, optional
+        True when the model works on ln of the readings. A linear error (e.g. cover
+        [mm]) is then carried to the log scale as sd / median(values) (first-order,
+        delta method); a log-scale error on a linear model as sd x median(values).
+        None: the error on its own scale.
+    values : array_like, optional
+        The readings, on the physical scale [unit]; needed when the scales differ.
+    """
     kind = QUANTITY_RECORD_KINDS.get(quantity)
-    return 0.0 if kind is None else measurement_sd(kind)
+    if kind is None:
+        return 0.0
+    entry = MEASUREMENT_ERRORS[kind]
+    if log is None or (entry.scale == "log") == bool(log):
+        return float(entry.sd)
+    if values is None or len(values) == 0:
+        raise InputError(f"Converting the {kind} measurement error between scales needs the "
+                         "readings.", column="values")
+    import numpy as np
+
+    typical = float(np.median(np.asarray(values, dtype=float)))
+    return float(entry.sd / typical if log else entry.sd * typical)
 
 
 def measurement_table() -> list[dict]:
