@@ -87,3 +87,19 @@ def test_heavy_tailed_draws_fire_the_warning_on_every_seed():
     assert "differs from the raw posterior draws by more than a factor 1.5" in text
     assert "concrete in zone L1 (lower tail" in text
     assert family_warning([]) is None
+
+
+def test_lognormal_check_passes_on_lognormal_draws_and_fires_on_a_heavy_lower_tail():
+    """Lognormal draws (scipy) fitted by their log mean and sd pass on every seed; draws
+    with 5 % of early initiation times at a quarter of the median do not."""
+    from assess.updating.family_check import check_lognormal_tail
+
+    for seed in range(6):
+        rng = np.random.default_rng(seed)
+        t = stats.lognorm(s=0.3, scale=25.0).rvs(4000, random_state=rng)
+        logs = np.log(t)
+        assert check_lognormal_tail(logs.mean(), logs.std(ddof=1), t).passed
+        assert check_lognormal_tail(logs.mean(), logs.std(ddof=1), t, side="upper").passed
+        early = np.where(rng.random(4000) < 0.05, t / 4.0, t)
+        logs = np.log(early)
+        assert not check_lognormal_tail(logs.mean(), logs.std(ddof=1), early).passed
