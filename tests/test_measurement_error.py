@@ -168,3 +168,20 @@ def test_a_planned_half_cell_survey_counts_its_effective_readings():
         expected = max(1, round(effective_number(*grid_coordinates(count))))
         assert effective_half_cell_count(count) == expected
     assert effective_half_cell_count(40) < 40 / 2  # 40 readings at 0.5 m: far fewer
+
+
+def test_carbonation_reports_the_front_scatter_without_the_reading_error():
+    """front_scatter = sqrt(max(sigma^2 - e^2, 0)): the reading error (1 mm) taken out of
+    the whole scatter of a reading (error and front in quadrature)."""
+    from assess.updating.carbonation import CarbonationPriors, carbonation_model
+
+    priors = CarbonationPriors.from_exposure("sheltered soffit")
+    model = carbonation_model([10.0, 12.0, 0.0], [30.0, 30.0, 40.0], [0, 0, 0], ["A"],
+                              priors=priors)
+    import pytensor
+
+    scatter = pytensor.function([model["measurement_sd"]], model["front_scatter"])
+    e = priors.reading_error_mm
+    for sigma in (0.5, 1.0, 2.5):
+        got = scatter(sigma)
+        assert float(got) == pytest.approx(math.sqrt(max(sigma**2 - e**2, 0.0)), abs=1e-12)

@@ -24,8 +24,6 @@ from assess.updating.gate import require_convergence
 
 KNOWN_SD = 1.5  # [mm] reading sd, known in the conjugate-like check
 PRIORS = CarbonationPriors.from_exposure("sheltered soffit", measurement_sd_mm=KNOWN_SD)
-# a reading scatters by the known scatter and the reading error, in quadrature
-TOTAL_SD = math.hypot(KNOWN_SD, PRIORS.reading_error_mm)
 TRUE_RATE = {"A": 3.5, "B": 0.3}  # [mm/sqrt(yr)]
 
 
@@ -37,7 +35,7 @@ def synthetic_depths(seed=7):
     depth, age, zone = [], [], []
     for z, name in enumerate(("A", "B")):
         t = np.repeat([30.0, 42.0], 6)
-        x = carbonation_depth(t, TRUE_RATE[name]) + TOTAL_SD * rng.standard_normal(t.size)
+        x = carbonation_depth(t, TRUE_RATE[name]) + KNOWN_SD * rng.standard_normal(t.size)
         depth.append(np.maximum(x, 0.0))
         age.append(t)
         zone.append(np.full(t.size, z))
@@ -55,8 +53,7 @@ def fitted():
 def quadrature_posterior_mean(x, t, priors):
     """Posterior mean and sd of k by quadrature (scipy densities, censoring at 0)."""
     prior = stats.lognorm(s=priors.rate_log_sd, scale=priors.rate_median)
-    # the reading error (assess.updating.measurement_error) adds to the known scatter
-    sd = math.hypot(priors.measurement_sd_mm, priors.reading_error_mm)
+    sd = priors.measurement_sd_mm
 
     k_grid = np.linspace(1e-4, 15.0, 30001)
     mu = k_grid[:, None] * np.sqrt(t)
@@ -95,7 +92,7 @@ def test_posterior_mean_matches_quadrature_and_least_squares(fitted):
     k = fitted.zone_draws("A")["carbonation_rate"]
     assert abs(k.mean() - k_hat) < k.std()
     # and its sd is the least-squares standard error sigma / sqrt(sum t), within 10 %.
-    assert k.std() == pytest.approx(TOTAL_SD / math.sqrt(np.sum(t)), rel=0.1)
+    assert k.std() == pytest.approx(KNOWN_SD / math.sqrt(np.sum(t)), rel=0.1)
 
 
 @pytest.mark.slow
@@ -111,11 +108,10 @@ def test_estimated_sd_model_log_density_matches_scipy():
     log_k, sd = np.array([1.2, -1.0]), 2.2
     point = {"log_carbonation_rate": log_k, "measurement_sd_log__": math.log(sd)}
     mu = np.exp(log_k)[zone] * np.sqrt(age)
-    total = math.hypot(sd, priors.reading_error_mm)  # scatter and reading error, in quadrature
     expected = (stats.norm.logpdf(log_k, math.log(priors.rate_median), priors.rate_log_sd).sum()
                 + stats.halfnorm.logpdf(sd, scale=priors.measurement_sd_scale_mm)
-                + np.where(depth > 0, stats.norm.logpdf(depth, mu, total),
-                           stats.norm.logcdf(-mu / total)).sum())
+                + np.where(depth > 0, stats.norm.logpdf(depth, mu, sd),
+                           stats.norm.logcdf(-mu / sd)).sum())
     # abs 1e-6: PyMC's normal log-cdf and scipy's agree to about 1e-8 per censored term.
     assert float(model.compile_logp(jacobian=False)(point)) == pytest.approx(expected, abs=1e-6)
 

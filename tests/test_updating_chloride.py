@@ -110,7 +110,7 @@ def test_model_log_density_matches_scipy_at_a_point():
     predicted = chloride_content(depth, age, np.exp(log_cs)[zone], np.exp(log_d_ref)[zone],
                                  PRIORS.age_ref_years, a, math.exp(log_c0))
     # Priors as specified: ln C_S, ln D_ref (independent of a), ln C0 normal; a Beta;
-    # sigma half-normal; likelihood normal on ln C with sd sqrt(sigma^2 + analysis error^2).
+    # sigma half-normal; likelihood normal on ln C.
     expected = (beta.logpdf(a)
                 + stats.norm.logpdf(log_cs, math.log(PRIORS.surface_chloride_median),
                                     PRIORS.surface_chloride_log_sd).sum()
@@ -119,8 +119,7 @@ def test_model_log_density_matches_scipy_at_a_point():
                 + stats.norm.logpdf(log_c0, math.log(PRIORS.initial_chloride_median),
                                     PRIORS.initial_chloride_log_sd)
                 + stats.halfnorm.logpdf(sd, scale=PRIORS.measurement_sd_scale)
-                + stats.norm.logpdf(np.log(value), np.log(predicted),
-                                    math.hypot(sd, PRIORS.reading_error_log)).sum())
+                + stats.norm.logpdf(np.log(value), np.log(predicted), sd).sum())
     assert float(logp(point)) == pytest.approx(expected, rel=1e-9)
 
 

@@ -33,7 +33,7 @@ from assess.errors import InputError
 from assess.updating.chloride import check_observation_vector, check_zone_index, sampler_seed
 from assess.updating.gate import GateReport, require_convergence
 from assess.updating.measurement_error import MEASUREMENT_ERRORS
-from assess.updating.models import sample_posterior, with_error
+from assess.updating.models import sample_posterior
 
 CARBONATION_RATE_PRIOR = {
     "sheltered soffit": {"median": 4.0, "log_sd": 0.6},
@@ -67,8 +67,11 @@ class CarbonationPriors:
     source : str
     reading_error_mm : float, default ``MEASUREMENT_ERRORS["carbonation"].sd`` (1 mm)
         Standard deviation of the reading error of one depth [mm]
-        (`assess.updating.measurement_error`). sigma is the scatter of the true
-        front about k sqrt(t); a reading scatters by sqrt(sigma^2 + error^2).
+        (`assess.updating.measurement_error`). sigma is the whole scatter of a
+        reading about k sqrt(t); the model reports the scatter of the front
+        without the reading error, ``front_scatter`` = sqrt(max(sigma^2 -
+        error^2, 0)) (see `assess.updating.chloride.ChloridePriors` for why it is
+        not a floor on sigma).
     """
 
     rate_median: float
@@ -147,7 +150,8 @@ def carbonation_model(depth_mm, age_years, zone_index, zones, *, priors):
             sigma = pm.HalfNormal("measurement_sd", sigma=priors.measurement_sd_scale_mm)
         else:
             sigma = priors.measurement_sd_mm
-        sigma = with_error(pm, sigma, priors.reading_error_mm)
+        pm.Deterministic("front_scatter", pm.math.sqrt(pm.math.maximum(
+            pm.math.sqr(sigma) - priors.reading_error_mm**2, 0.0)))
         pm.Censored("carbonation_depth", pm.Normal.dist(mu=k[idx] * np.sqrt(t), sigma=sigma),
                     lower=0.0, upper=None, observed=x)
     return model

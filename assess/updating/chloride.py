@@ -57,7 +57,7 @@ from assess.deterioration.defaults import (
 from assess.errors import InputError
 from assess.updating.gate import GateReport, require_convergence
 from assess.updating.measurement_error import MEASUREMENT_ERRORS
-from assess.updating.models import sample_posterior, with_error
+from assess.updating.models import sample_posterior
 
 SURFACE_CHLORIDE_PRIOR = {
     "exposed deck": {"median": 2.0, "log_sd": 0.6},
@@ -115,13 +115,17 @@ class ChloridePriors:
         Standard deviation of ln C0 [-]; 0 fixes C0 at the median.
     measurement_sd_scale : float, default 0.2
         Scale of the half-normal prior of the log measurement error [-]
-        (0.2 is about 20 % scatter of a laboratory chloride value). This sigma
-        is the scatter of the true contents about the model (spatial and model
-        error); the reading error below is added to it.
+        (0.2 is about 20 % scatter of a laboratory chloride value). sigma is the
+        whole scatter of a value about the model: analysis error and spatial or
+        model scatter.
     reading_error_log : float, default ``MEASUREMENT_ERRORS["chloride"].sd`` (0.10)
         Standard deviation of the analysis error of one value on ln C [-]
-        (`assess.updating.measurement_error`); the likelihood sd is
-        sqrt(sigma^2 + reading_error_log^2).
+        (`assess.updating.measurement_error`). The model reports the scatter
+        without it, ``chloride_scatter`` = sqrt(max(sigma^2 - error^2, 0)). It is
+        not a floor on sigma: where the data scatter no more than the analysis
+        error (the demo's profiles), a floor leaves the scatter's posterior at 0
+        and the sampler fails its gate (tail ESS), and nothing downstream uses
+        the scatter.
     delta_x_mm : float, default 0
         Convection-zone depth dx, fixed [mm]; increments shallower than dx are
         read as C_S.
@@ -402,8 +406,9 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors):
         c_0 = pm.Deterministic("initial_chloride", pm.math.exp(log_c0))
         predicted = chloride_content_tensor(x, t, c_s[idx], pm.math.exp(log_d_data)[idx],
                                             age_data, a, c_0, priors.delta_x_mm)
-        pm.Normal("log_chloride", mu=pm.math.log(predicted),
-                  sigma=with_error(pm, sigma, priors.reading_error_log), observed=np.log(c))
+        pm.Deterministic("chloride_scatter", pm.math.sqrt(pm.math.maximum(
+            sigma**2 - priors.reading_error_log**2, 0.0)))
+        pm.Normal("log_chloride", mu=pm.math.log(predicted), sigma=sigma, observed=np.log(c))
     return model
 
 
