@@ -100,11 +100,12 @@ DIMENSIONS: dict[str, dict[str, Unit]] = {
     "chloride": {"% binder": Unit("% binder"), "% cement": Unit("% cement"),
                  "% concrete": Unit("% concrete", needs_binder=True)},
     "potential": _potentials(),
+    "position": {"m": Unit("m"), "mm": Unit("mm", 1e-3)},
 }
 
 _CANONICAL_LABEL = {"length": "mm", "length_metric": "mm", "length_mm": "mm", "stress": "MPa",
                     "stress_metric_ksi": "MPa", "force": "kN", "percent": "%",
-                    "chloride": "% binder", "potential": "mV CSE"}
+                    "chloride": "% binder", "potential": "mV CSE", "position": "m"}
 
 
 def normalise_unit(text: str) -> str:

@@ -31,6 +31,7 @@ from assess.deterioration.defaults import HALF_CELL_LIKELIHOOD
 from assess.errors import InputError
 from assess.updating.corrosion import (
     BREAKOUT_QUANTILE,
+    HALF_CELL_READING_ERROR_MV,
     RATE_LOG_SD_MIN,
     SPATIAL_LOG_SD,
     CorrosionFit,
@@ -44,6 +45,12 @@ from assess.updating.corrosion import (
     residual_area_ratio_tensor,
 )
 from assess.updating.gate import require_convergence
+from assess.updating.spatial import (
+    CORRELATION_LENGTH_M,
+    DEFAULT_GRID_SPACING_M,
+    effective_number,
+    grid_coordinates,
+)
 
 PRIOR_A = ZoneCorrosionPrior.from_exposure("exposed deck", initiation_median_years=15.0,
                                            initiation_log_sd=0.5)
@@ -102,13 +109,22 @@ def fitted() -> CorrosionFit:
 
 
 def half_cell_log_posterior_scipy(log_ti_grid, readings: HalfCellData, prior):
-    """Reference log posterior of ln t_i (up to a constant) with scipy densities."""
+    """Reference log posterior of ln t_i (up to a constant) with scipy densities.
+
+    One survey without coordinates: its readings sit on a square grid at the default
+    spacing and enter with the weight n_eff / n of the tempered likelihood
+    (assess.updating.spatial); each state's sd is widened by the reading error in
+    quadrature (ASTM C876 precision, assess.updating.measurement_error)."""
     h = HALF_CELL_LIKELIHOOD
     e, t = np.asarray(readings.potential_mv_cse), np.asarray(readings.age_years)
-    f_a = stats.norm.pdf(e, h["active_mean_mv"], h["active_sd_mv"])
-    f_p = stats.norm.pdf(e, h["passive_mean_mv"], h["passive_sd_mv"])
+    f_a = stats.norm.pdf(e, h["active_mean_mv"], math.hypot(h["active_sd_mv"],
+                                                             HALF_CELL_READING_ERROR_MV))
+    f_p = stats.norm.pdf(e, h["passive_mean_mv"], math.hypot(h["passive_sd_mv"],
+                                                              HALF_CELL_READING_ERROR_MV))
     p = stats.norm.cdf((np.log(t) - log_ti_grid[:, None]) / SPATIAL_LOG_SD)
-    log_like = np.log(p * f_a + (1 - p) * f_p).sum(axis=1)
+    weight = effective_number(*grid_coordinates(e.size, DEFAULT_GRID_SPACING_M),
+                              CORRELATION_LENGTH_M) / e.size
+    log_like = weight * np.log(p * f_a + (1 - p) * f_p).sum(axis=1)
     return log_like + stats.norm.logpdf(log_ti_grid, math.log(prior.initiation_median_years),
                                         prior.initiation_log_sd)
 

@@ -160,8 +160,11 @@ def test_reweighted_update_agrees_with_a_full_mcmc_update():
         w, ess = weights[0], float(ess[0])
         pf_given_theta = stats.norm.cdf((LN_LIMIT - theta[:, 0]) / theta[:, 1])
 
+        # the programme's default measurement error is the update's (one source), so the
+        # full update carries the same error term
         model = hierarchical_normal_model(readings, np.zeros(n_cores, int), ["zone"], prior,
-                                          pooling="none")
+                                          pooling="none",
+                                          measurement_sd=programme.measurement_sd)
         idata = sample_posterior(model, seed=100 + j, draws=1000, tune=1000)
         report = require_convergence(idata, ["mu", "sigma"])
         mu, sigma = group_draws(idata, "zone")

@@ -22,6 +22,8 @@ References
 
 from __future__ import annotations
 
+from types import MappingProxyType
+
 import numpy as np
 from scipy import special, stats
 
@@ -40,6 +42,67 @@ ASTM_C876_CLASSES = ("low", "uncertain", "high")
 """Labels returned by `astm_c876_class`, in order of increasing corrosion risk."""
 
 STATES = ("active", "passive")
+
+_RILEM = ("RILEM TC 154-EMC recommendations (Elsener et al., Mater. Struct. 36, 2003), table "
+          "of typical potential ranges vs CSE (from memory); each range read as the central "
+          "90 % of a normal (sd = width / 3.29; our reading)")
+
+HALF_CELL_CONDITIONS = MappingProxyType({
+    "wet, chloride-contaminated": MappingProxyType({
+        "active_mean_mv": -500.0, "active_sd_mv": 60.0,
+        "passive_mean_mv": -50.0, "passive_sd_mv": 90.0,
+        "source": f"{_RILEM}: active -600 to -400 mV (wet, chloride-contaminated), passive "
+                  "-200 to +100 mV (humid, chloride-free)"}),
+    "humid, carbonated": MappingProxyType({
+        "active_mean_mv": -150.0, "active_sd_mv": 150.0,
+        "passive_mean_mv": -50.0, "passive_sd_mv": 90.0,
+        "source": f"{_RILEM}: active -400 to +100 mV (humid, carbonated), passive -200 to "
+                  "+100 mV (humid, chloride-free); the ranges overlap, so readings tell little"}),
+    "dry": MappingProxyType({
+        "active_mean_mv": 100.0, "active_sd_mv": 60.0,
+        "passive_mean_mv": 100.0, "passive_sd_mv": 60.0,
+        "source": f"{_RILEM}: 0 to +200 mV for dry concrete, carbonated or not; potentials "
+                  "cannot tell the states apart, so readings carry no evidence"}),
+})
+"""Likelihood parameters f(E | state) per concrete condition, potentials vs CSE [mV].
+
+Readings taken against another electrode are converted to CSE by the readers
+(SCE -75 mV, Ag/AgCl -119 mV relative to CSE, `inspection_io.units`; common
+practice), so one table per condition serves every electrode. These are
+published ranges, not a calibration on the survey: the report warns while they
+or `HALF_CELL_LIKELIHOOD` are in use."""
+
+EXPOSURE_CONDITION = MappingProxyType({
+    "exposed deck": "wet, chloride-contaminated",
+    "sheltered soffit": "humid, carbonated",
+    "internal": "dry",
+})
+"""Condition of `HALF_CELL_CONDITIONS` that matches each exposure class of the site file
+(judgement)."""
+
+
+def condition_likelihood(condition):
+    """Likelihood parameters (the four ``*_mv`` keys) of a concrete condition [mV vs CSE]."""
+    if condition not in HALF_CELL_CONDITIONS:
+        raise InputError(f"{condition!r} is not a half-cell condition. Valid conditions: "
+                         f"{sorted(HALF_CELL_CONDITIONS)}.", column="half_cell_condition")
+    return {k: v for k, v in HALF_CELL_CONDITIONS[condition].items() if k.endswith("_mv")}
+
+
+def with_reading_error(params, reading_error_mv):
+    """Parameters with the reading error added in quadrature to both state sds [mV].
+
+    The state sds describe the spread of the true potentials in each state; a
+    reading adds its own error (ASTM C876 precision, see
+    `assess.updating.measurement_error`)."""
+    p = dict(HALF_CELL_LIKELIHOOD) if params is None else dict(params)
+    error = float(reading_error_mv)
+    if not (np.isfinite(error) and error >= 0):
+        raise InputError(f"The half-cell reading error must be >= 0 [mV]. Got {reading_error_mv!r}.",
+                         column="reading_error_mv")
+    for state in STATES:
+        p[f"{state}_sd_mv"] = float(np.hypot(p[f"{state}_sd_mv"], error))
+    return p
 
 
 def astm_c876_class(potential_mv_cse):

@@ -265,7 +265,16 @@ def _section_knowledge(doc, run) -> dict:
             import matplotlib.pyplot as plt
 
             plt.close(fig)
-    return {"rows": rows, "gate": gate, "hash": update.data_hash}
+    from assess.updating.measurement_error import measurement_table
+
+    errors = measurement_table()
+    sec.add_table([{"test": e["kind"], "sd of one reading": e["sd"], "unit": e["unit"],
+                    "source": e["source"]} for e in errors],
+                  caption="Measurement error of each test method, taken out of the population "
+                          "spread in the update and used again by the value-of-information "
+                          "programmes")
+    return {"rows": rows, "gate": gate, "hash": update.data_hash, "measurement_errors": errors,
+            "family_checks": getattr(update, "family_checks", {})}
 
 
 def _section_members(doc, run) -> list:
@@ -328,7 +337,32 @@ def _section_life(doc, run) -> object:
         sec.add_figure(life_figure(life), caption="Annual beta per year against the annual "
                        "target (1-year reference period); shaded: the parameter band (5-95 % "
                        "over the posterior parameters); dashed: the sampling band of the estimate")
+    _half_cell_effect_table(sec, life)
     return life.to_dict()
+
+
+def _half_cell_effect_table(sec, life) -> None:
+    """How much the half-cell readings moved each zone's initiation time (if any)."""
+    rows = []
+    for zone, inputs in getattr(life, "corrosion", {}).items():
+        effect = getattr(inputs, "half_cell_effect", None)
+        if not effect:
+            continue
+        rows.append({"zone": zone, "readings": effect["readings"],
+                     "worth independent": effect["effective_readings"],
+                     "t_i median without [yr]": effect["without_half_cell_years"]["median"],
+                     "t_i median with [yr]": effect["with_half_cell_years"]["median"],
+                     "90 % without [yr]": f"{effect['without_half_cell_years']['p05']:.0f}-"
+                                          f"{effect['without_half_cell_years']['p95']:.0f}",
+                     "90 % with [yr]": f"{effect['with_half_cell_years']['p05']:.0f}-"
+                                       f"{effect['with_half_cell_years']['p95']:.0f}",
+                     "site-calibrated": "yes" if effect["calibrated"] else "no (defaults)"})
+    if rows:
+        sec.add_table(rows, caption="Corrosion initiation time with and without the half-cell "
+                                    "readings (neighbouring readings are correlated: each "
+                                    "survey counts as its effective number of readings)",
+                      formats={"worth independent": ".1f", "t_i median without [yr]": ".1f",
+                               "t_i median with [yr]": ".1f"})
 
 
 def _section_worth(doc, run) -> object:

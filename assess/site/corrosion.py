@@ -49,6 +49,7 @@ from __future__ import annotations
 import dataclasses
 import json
 import math
+import warnings
 from typing import Any
 
 import numpy as np
@@ -60,6 +61,7 @@ from assess.site.dates import age_at, construction_date
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.settings import RunSettings
 from assess.updating.cache import cached_posterior
+from assess.updating.family_check import FAMILY_CHECK_FACTOR
 
 INITIATION_NAME = "initiation_time"
 RATE_NAME = "corrosion_rate"
@@ -84,6 +86,9 @@ class CorrosionInputs:
         Where the numbers come from.
     n_draws : int
         Number of MCMC draws fitted (0 for a prior) [-].
+    half_cell_effect : dict or None
+        How much the half-cell readings moved t_i
+        (`assess.updating.corrosion.CorrosionFit.half_cell_effect`).
     """
 
     zone: str
@@ -95,6 +100,7 @@ class CorrosionInputs:
     origin: str
     source: str
     n_draws: int = 0
+    half_cell_effect: dict | None = None
 
     def __post_init__(self):
         for name in ("initiation_log_sd", "rate_log_sd"):
@@ -349,10 +355,13 @@ def corrosion_evidence(site, until_date=None, include_flagged=()) -> CorrosionEv
         )
     frame = frames["half_cell"]
     if len(frame):
+        extras = [json.loads(text) if text else {} for text in frame["extra"]]
         half_cell = HalfCellData(
             age_years=np.array([age_at(site, d) for d in frame["date"]]),
             potential_mv_cse=frame["value"].to_numpy(dtype=float),
             zone_index=frame["zone"].map(index).to_numpy(dtype=int),
+            x_m=np.array([float(e.get("x_m", np.nan)) for e in extras]),
+            y_m=np.array([float(e.get("y_m", np.nan)) for e in extras]),
         )
     return CorrosionEvidence(used, section_loss, half_cell, counts)
 
@@ -410,10 +419,12 @@ def update_corrosion(
     """
     from assess.site.initiation import initiation_prior, update_initiation
     from assess.updating.corrosion import (
+        HALF_CELL_READING_ERROR_MV,
         PARAMETER_NAMES,
         CorrosionFit,
         CorrosionModelSettings,
         fit_corrosion,
+        prepare_half_cell,
     )
 
     settings = settings or RunSettings()
@@ -457,6 +468,18 @@ def update_corrosion(
         "fit": fit,
         "breakout_quantile": model.breakout_quantile,
         "spatial_log_sd": scatter,
+        "half_cell_model": {
+            "correlation_length_m": model.half_cell_correlation_length_m,
+            "grid_spacing_m": model.half_cell_grid_spacing_m,
+            "reading_error_mv": HALF_CELL_READING_ERROR_MV,
+            "params": model.half_cell_params,
+        },
+    }
+    half_cell_options = {
+        "half_cell_params": model.half_cell_params,
+        "half_cell_correlation_length_m": model.half_cell_correlation_length_m,
+        "half_cell_grid_spacing_m": model.half_cell_grid_spacing_m,
+        "half_cell_reading_error_mv": HALF_CELL_READING_ERROR_MV,
     }
 
     def sample():
@@ -468,6 +491,8 @@ def update_corrosion(
             half_cell=evidence.half_cell,
             spatial_log_sd=scatter,
             breakout_quantile=model.breakout_quantile,
+            half_cell_calibrated=model.half_cell_calibrated,
+            **half_cell_options,
             **fit.sampler_options(),
         )
 
@@ -480,6 +505,17 @@ def update_corrosion(
             spatial_log_sd=scatter,
             seed=int(seed),
             breakout_quantile=model.breakout_quantile,
+            half_cell=None
+            if evidence.half_cell is None
+            else prepare_half_cell(
+                evidence.half_cell,
+                list(evidence.zones),
+                params=model.half_cell_params,
+                correlation_length_m=model.half_cell_correlation_length_m,
+                grid_spacing_m=model.half_cell_grid_spacing_m,
+                reading_error_mv=HALF_CELL_READING_ERROR_MV,
+            ),
+            half_cell_calibrated=model.half_cell_calibrated,
         )
 
     cached = cached_posterior(
@@ -492,7 +528,67 @@ def update_corrosion(
         what="corrosion initiation and rate",
         fit="corrosion",
     )
+    warn_half_cell(cached.fit)
     return cached.fit
+
+
+def warn_half_cell(fit) -> None:
+    """Warn while the half-cell likelihood is not site-calibrated; say what it moved.
+
+    One warning per fit with half-cell readings (the run step shows it in the
+    report): the zones, their readings n and effective number n_eff, and the shift of
+    the median initiation time due to the readings
+    (`assess.updating.corrosion.CorrosionFit.half_cell_effect`).
+    """
+    if fit is None or fit.half_cell is None:
+        return
+    moved = []
+    for zone in fit.zones:
+        effect = fit.half_cell_effect(zone)
+        if effect is None:
+            continue
+        trust = "" if effect["reweighting_ess"] >= 100 else " (rough: few draws carry it)"
+        moved.append(
+            f"{zone}: {effect['readings']} readings worth {effect['effective_readings']:.1f} "
+            f"independent ones moved the median from "
+            f"{effect['without_half_cell_years']['median']:.1f} to "
+            f"{effect['with_half_cell_years']['median']:.1f} yr{trust}"
+        )
+    if not moved:
+        return
+    if fit.half_cell_calibrated:
+        head = "Half-cell evidence (site-calibrated likelihood) on the initiation time: "
+    else:
+        head = (
+            "Half-cell potentials entered the corrosion update with default likelihood "
+            "parameters (assess.deterioration.defaults.HALF_CELL_LIKELIHOOD or the RILEM TC "
+            "154-EMC ranges), not calibrated on this site's survey; treat their effect with "
+            "care. Initiation time: "
+        )
+    warnings.warn(head + "; ".join(moved) + ".", UserWarning, stacklevel=2)
+
+
+def _lognormal_checks(inputs, draws) -> list:
+    """Run-time check of the lognormal marginals against the draws (early t_i, high rate)."""
+    from assess.updating.family_check import check_lognormal_tail
+
+    failed = []
+    for label, name, mean, sd, side in (
+        (
+            "initiation time",
+            "initiation_time",
+            inputs.initiation_log_mean,
+            inputs.initiation_log_sd,
+            "lower",
+        ),
+        ("corrosion rate", "corrosion_rate", inputs.rate_log_mean, inputs.rate_log_sd, "upper"),
+    ):
+        check = check_lognormal_tail(mean, sd, draws[name], side=side)
+        if not check.passed:
+            ratios = ", ".join(f"{r:.2f}" for r in check.ratios)
+            levels = ", ".join(f"{p:g}" for p in check.levels)
+            failed.append(f"{label} ({side} tail: fit / draws = {ratios} at p = {levels})")
+    return failed
 
 
 def zone_corrosion_inputs(
@@ -526,6 +622,20 @@ def zone_corrosion_inputs(
                 source=f"posterior of zone {zone_id} from break-outs and half-cell surveys "
                 "(MCMC; lognormal marginals, Gaussian copula)",
             )
+            failed = _lognormal_checks(out[zone_id], draws)
+            if failed:
+                warnings.warn(
+                    f"Zone {zone_id}: the lognormal fitted to the posterior draws of "
+                    + "; ".join(failed)
+                    + " differs from the draws by more than a factor "
+                    f"{FAMILY_CHECK_FACTOR:g} in the tail that drives early corrosion; the "
+                    "projected section loss of this zone may be off.",
+                    UserWarning,
+                    stacklevel=2,
+                )
+            effect = getattr(fit, "half_cell_effect", None)
+            if callable(effect):
+                out[zone_id] = dataclasses.replace(out[zone_id], half_cell_effect=effect(zone_id))
         elif initiation is not None and (
             zone_id in initiation.chloride or zone_id in initiation.carbonation
         ):

@@ -39,6 +39,7 @@ import pandas as pd
 
 from assess.priors.normal_gamma import NormalGamma
 from assess.site.knowledge import _no_member_cover, cover_layer_priors
+from assess.updating.models import with_error
 
 #: Half-normal scale of the spread of member mean covers within a zone and face, on
 #: ln c [-] (judgement: members of one face and zone differ by some 5-10 % in mean
@@ -160,8 +161,13 @@ def cover_layout(site, frame: pd.DataFrame) -> CoverLayout:
     return CoverLayout(zones, cells, main_cell, layers, values, cell_of, layer_of, before_local)
 
 
-def add_cover_model(pm, layout: CoverLayout, name: str = "cover") -> None:
+def add_cover_model(
+    pm, layout: CoverLayout, name: str = "cover", measurement_sd: float = 0.0
+) -> None:
     """Add the cover sub-model (variables ``<name>::...``) to the open PyMC model.
+
+    A reading is the true cover plus the cover meter's error, of sd ``measurement_sd``
+    on ln c [-] (`assess.updating.measurement_error`), so ``sigma`` excludes it.
 
     Deterministics: ``mu`` and ``sigma`` (dims ``group``: the zone-level population of
     the main face, for a new member), ``layer_mu`` (one per layer with readings) and
@@ -195,7 +201,10 @@ def add_cover_model(pm, layout: CoverLayout, name: str = "cover") -> None:
             )
         if layout.values.size:
             pm.Normal(
-                "y", mu=reading_mu, sigma=sigma_k[layout.cell_of_reading], observed=layout.values
+                "y",
+                mu=reading_mu,
+                sigma=with_error(pm, sigma_k[layout.cell_of_reading], float(measurement_sd)),
+                observed=layout.values,
             )
 
 

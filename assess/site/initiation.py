@@ -59,15 +59,16 @@ from assess.reliability.crude import resolve_seed
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.settings import RunSettings
 from assess.updating.cache import cached_posterior
+from assess.updating.measurement_error import MEASUREMENT_ERRORS
 
 CHLORIDE_UNIT = "% binder"
 """Unit of the chloride values the ledger holds (readers convert to it)."""
 
-COVER_READING_SD_MM = 3.0
-"""Standard deviation of a cover-meter reading about the true cover [mm]: the
-middle of the 1-5 mm quoted for cover meters on site (BS 1881-204, from memory;
-the same range as `assess.site.worth_decision.CoverSurvey`). Used to take the reading
-error out of the scatter of a survey."""
+COVER_READING_SD_MM = MEASUREMENT_ERRORS["cover"].sd
+"""Standard deviation of a cover-meter reading about the true cover [mm]: the one
+value of `assess.updating.measurement_error.MEASUREMENT_ERRORS` (BS 1881-204, from
+memory), also used by the materials update and `assess.site.worth_decision.CoverSurvey`.
+Used to take the reading error out of the scatter of a survey."""
 
 
 @dataclasses.dataclass(frozen=True)

@@ -36,7 +36,9 @@ from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
 from assess.site.settings import RunSettings
 from assess.updating.cache import cached_posterior, content_hash
+from assess.updating.family_check import TAIL_SIDES, check_family, family_warning
 from assess.updating.gate import GateReport
+from assess.updating.measurement_error import quantity_measurement_sd
 from inspection_io.ledger import Ledger
 from inspection_io.screening import usable_mask
 
@@ -73,6 +75,9 @@ class SiteUpdate:
         one member's face where the data give them (empty: pooled per zone).
     excluded : list of dict
         Tests left out by the engineer (site file ``[exclude]``) with the reason.
+    family_checks : dict
+        "zone/quantity/side" -> the run-time check of the fitted family against the
+        raw draws (`assess.updating.family_check`).
     """
 
     before: dict
@@ -87,6 +92,7 @@ class SiteUpdate:
     seed: int = 0
     before_local: dict = dataclasses.field(default_factory=dict)
     after_local: dict = dataclasses.field(default_factory=dict)
+    family_checks: dict = dataclasses.field(default_factory=dict)
     excluded: list = dataclasses.field(default_factory=list)
 
     @property
@@ -258,6 +264,7 @@ def _payload(
             "fit": dataclasses.asdict(settings.fit("materials")),
             "seed": settings.seed,
             "concrete_tau_scale": CONCRETE_TAU_SCALE,
+            "measurement_sd": {q: quantity_measurement_sd(q) for q in QUANTITIES},
         },
         "priors": {
             z: {q: dataclasses.asdict(ng) for q, ng in qs.items()} for z, qs in before.items()
@@ -290,15 +297,23 @@ def _build_joint_model(site, data, before, layout=None):
             frame = data[name]
             if name == "cover":
                 if not frame.empty:
-                    add_cover_model(pm, layout or cover_layout(site, frame), name=name)
+                    add_cover_model(
+                        pm,
+                        layout or cover_layout(site, frame),
+                        name=name,
+                        measurement_sd=quantity_measurement_sd(
+                            name, True, frame["value"].to_numpy()
+                        ),
+                    )
                 continue
             if frame.empty:
                 continue
             values = np.log(frame["value"].to_numpy()) if spec.log else frame["value"].to_numpy()
+            error = quantity_measurement_sd(name, spec.log, frame["value"].to_numpy())
             groups = frame["zone"].map(index).to_numpy()
             if spec.pooling == "none":
                 # each zone its own prior (cover priors differ by zone)
-                _zone_priors_model(pm, name, values, groups, zones, before)
+                _zone_priors_model(pm, name, values, groups, zones, before, error)
             else:
                 hierarchical_normal_model(
                     values,
@@ -308,12 +323,18 @@ def _build_joint_model(site, data, before, layout=None):
                     pooling=spec.pooling,
                     name=name,
                     tau_scale=CONCRETE_TAU_SCALE,
+                    measurement_sd=error,
                 )
     return joint
 
 
-def _zone_priors_model(pm, name, values, groups, zones, before):
-    """Unpooled normal-gamma model with a zone-specific prior (shared structure)."""
+def _zone_priors_model(pm, name, values, groups, zones, before, measurement_sd=0.0):
+    """Unpooled normal-gamma model with a zone-specific prior (shared structure).
+
+    A reading is the true local value plus an error of sd ``measurement_sd``
+    (`assess.updating.measurement_error`), so ``sigma`` excludes it."""
+    from assess.updating.models import with_error
+
     centers = np.array([before[z][name].center for z in zones])
     z_std = np.array([before[z][name].z_std for z in zones])
     shape = np.array([before[z][name].shape for z in zones])
@@ -323,7 +344,9 @@ def _zone_priors_model(pm, name, values, groups, zones, before):
         sigma = pm.Deterministic("sigma", 1.0 / pm.math.sqrt(precision), dims="group")
         zloc = pm.Normal("zloc", mu=0.0, sigma=z_std, dims="group")
         mu = pm.Deterministic("mu", centers + zloc * sigma, dims="group")
-        pm.Normal("y", mu=mu[groups], sigma=sigma[groups], observed=values)
+        pm.Normal(
+            "y", mu=mu[groups], sigma=with_error(pm, sigma[groups], measurement_sd), observed=values
+        )
 
 
 @dataclasses.dataclass(frozen=True)
@@ -430,6 +453,7 @@ def update_site(
     )
     idata, gate = cached.fit.idata, cached.fit.gate
     after = {z: dict(qs) for z, qs in before.items()}
+    family_checks: list = []
     for name in QUANTITIES:
         if data[name].empty:
             continue
@@ -441,6 +465,10 @@ def update_site(
                 source=f"posterior of {name} in zone {zone} from site tests "
                 f"(MCMC, {data_hash[:12]})",
             )
+            family_checks += [
+                (zone, name, check_family(after[zone][name], mu, sigma, side=side))
+                for side in TAIL_SIDES.get(name, ("lower",))
+            ]
     after_local = before_local
     if not data["cover"].empty:
         after_local = cover_after_local(
@@ -451,6 +479,9 @@ def update_site(
         )
         for zone in site.zones:  # the zone-level cover is that of its main face
             after[zone]["cover"] = after_local[zone][(None, layout.main_face(zone))]["cover"]
+    text = family_warning([c for c in family_checks if not c[2].passed])
+    if text:
+        warnings.warn(text, UserWarning, stacklevel=2)
     return SiteUpdate(
         before,
         after,
@@ -465,4 +496,5 @@ def update_site(
         before_local=before_local,
         after_local=after_local,
         excluded=excluded,
+        family_checks={f"{z}/{q}/{c.side}": c.to_dict() for z, q, c in family_checks},
     )

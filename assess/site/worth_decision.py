@@ -67,6 +67,7 @@ from assess.reliability.form import form
 from assess.site.knowledge import QUANTITIES
 from assess.site.member_models import MemberModel, build_member_model
 from assess.targets import Target, convert_reference_period, target_beta
+from assess.updating.measurement_error import MEASUREMENT_ERRORS
 from assess.updating.to_model import add_uncertain_quantity
 from assess.worth.decision import Alternative, DecisionProblem, discount_factors
 from assess.worth.decision_file import AlternativeSpec, DecisionSetup, ProgrammeSpec
@@ -428,9 +429,10 @@ class CoverSurvey(NormalSampleProgramme):
     """Cover-meter survey: n readings of cover in one zone.
 
     Reading i on ln c: ln c_i = mu_c + sigma_c eps_i + e_i, eps_i ~ N(0, 1), e_i ~ N(0,
-    measurement_sd^2) (cover-meter error, typically 1-5 mm, BS 1881-204, from
-    memory, carried to ln c by `make_programme`). The same normal sample model as
-    `CoreSampling`; outcome (mean of ln c, sum of squared deviations) [ln mm, -].
+    measurement_sd^2) (cover-meter error; default the value the site update uses,
+    ``MEASUREMENT_ERRORS["cover"]``, BS 1881-204, carried to ln c by `make_programme`).
+    The same normal sample model as `CoreSampling`; outcome (mean of ln c, sum of
+    squared deviations) [ln mm, -].
     """
 
     name: str
@@ -438,7 +440,7 @@ class CoverSurvey(NormalSampleProgramme):
     n_readings: int
     mean_column: Any
     sd_column: Any
-    measurement_sd: float = 0.0
+    measurement_sd: float = MEASUREMENT_ERRORS["cover"].sd
     description: str = ""
 
     COUNT_FIELD = "n_readings"
@@ -457,6 +459,18 @@ def active_probability_from_area_ratio(
         return special.ndtr((threshold - theta[:, mean_column]) / theta[:, sd_column])
 
     return probability
+
+
+def effective_half_cell_count(count: int) -> int:
+    """Readings of a planned half-cell survey counted as independent ones [-].
+
+    The survey's ``count`` readings on a square grid at the default spacing carry the
+    information of n_eff independent ones (`assess.updating.spatial`, the weighting
+    the corrosion update gives a survey), rounded, at least 1.
+    """
+    from assess.updating.spatial import effective_number, grid_coordinates
+
+    return max(1, round(effective_number(*grid_coordinates(int(count)))))
 
 
 def make_programme(
@@ -510,7 +524,7 @@ def make_programme(
         return HalfCellSurvey(
             spec.name,
             spec.cost,
-            spec.count,
+            effective_half_cell_count(spec.count),
             active_probability_from_area_ratio(
                 column("area_ratio", "mu"), column("area_ratio", "sigma"), spec.active_below
             ),

@@ -32,6 +32,7 @@ import numpy as np
 from assess.errors import InputError
 from assess.updating.chloride import check_observation_vector, check_zone_index, sampler_seed
 from assess.updating.gate import GateReport, require_convergence
+from assess.updating.measurement_error import MEASUREMENT_ERRORS
 from assess.updating.models import sample_posterior
 
 CARBONATION_RATE_PRIOR = {
@@ -64,6 +65,13 @@ class CarbonationPriors:
     measurement_sd_scale_mm : float, default 3
         Scale of the half-normal prior of sigma when estimated [mm].
     source : str
+    reading_error_mm : float, default ``MEASUREMENT_ERRORS["carbonation"].sd`` (1 mm)
+        Standard deviation of the reading error of one depth [mm]
+        (`assess.updating.measurement_error`). sigma is the whole scatter of a
+        reading about k sqrt(t); the model reports the scatter of the front
+        without the reading error, ``front_scatter`` = sqrt(max(sigma^2 -
+        error^2, 0)) (see `assess.updating.chloride.ChloridePriors` for why it is
+        not a floor on sigma).
     """
 
     rate_median: float
@@ -71,12 +79,17 @@ class CarbonationPriors:
     measurement_sd_mm: float | None = None
     measurement_sd_scale_mm: float = 3.0
     source: str = ""
+    reading_error_mm: float = MEASUREMENT_ERRORS["carbonation"].sd
 
     def __post_init__(self):
         for name in ("rate_median", "rate_log_sd", "measurement_sd_scale_mm"):
             _positive(getattr(self, name), name)
         if self.measurement_sd_mm is not None:
             _positive(self.measurement_sd_mm, "measurement_sd_mm")
+        if not (np.isfinite(self.reading_error_mm) and self.reading_error_mm >= 0):
+            raise InputError("The 'reading_error_mm' parameter of CarbonationPriors must be a "
+                             f"number >= 0. Got {self.reading_error_mm!r} instead.",
+                             column="reading_error_mm")
 
     @classmethod
     def from_exposure(cls, exposure="sheltered soffit", *, measurement_sd_mm=None):
@@ -137,6 +150,8 @@ def carbonation_model(depth_mm, age_years, zone_index, zones, *, priors):
             sigma = pm.HalfNormal("measurement_sd", sigma=priors.measurement_sd_scale_mm)
         else:
             sigma = priors.measurement_sd_mm
+        pm.Deterministic("front_scatter", pm.math.sqrt(pm.math.maximum(
+            pm.math.sqr(sigma) - priors.reading_error_mm**2, 0.0)))
         pm.Censored("carbonation_depth", pm.Normal.dist(mu=k[idx] * np.sqrt(t), sigma=sigma),
                     lower=0.0, upper=None, observed=x)
     return model

@@ -56,6 +56,7 @@ from assess.deterioration.defaults import (
 )
 from assess.errors import InputError
 from assess.updating.gate import GateReport, require_convergence
+from assess.updating.measurement_error import MEASUREMENT_ERRORS
 from assess.updating.models import sample_posterior
 
 SURFACE_CHLORIDE_PRIOR = {
@@ -114,7 +115,17 @@ class ChloridePriors:
         Standard deviation of ln C0 [-]; 0 fixes C0 at the median.
     measurement_sd_scale : float, default 0.2
         Scale of the half-normal prior of the log measurement error [-]
-        (0.2 is about 20 % scatter of a laboratory chloride value).
+        (0.2 is about 20 % scatter of a laboratory chloride value). sigma is the
+        whole scatter of a value about the model: analysis error and spatial or
+        model scatter.
+    reading_error_log : float, default ``MEASUREMENT_ERRORS["chloride"].sd`` (0.10)
+        Standard deviation of the analysis error of one value on ln C [-]
+        (`assess.updating.measurement_error`). The model reports the scatter
+        without it, ``chloride_scatter`` = sqrt(max(sigma^2 - error^2, 0)). It is
+        not a floor on sigma: where the data scatter no more than the analysis
+        error (the demo's profiles), a floor leaves the scatter's posterior at 0
+        and the sampler fails its gate (tail ESS), and nothing downstream uses
+        the scatter.
     delta_x_mm : float, default 0
         Convection-zone depth dx, fixed [mm]; increments shallower than dx are
         read as C_S.
@@ -133,6 +144,7 @@ class ChloridePriors:
     measurement_sd_scale: float = 0.2
     delta_x_mm: float = 0.0
     source: str = ""
+    reading_error_log: float = MEASUREMENT_ERRORS["chloride"].sd
 
     def __post_init__(self):
         caller = "ChloridePriors"
@@ -144,6 +156,10 @@ class ChloridePriors:
             raise InputError(f"The 'initial_chloride_log_sd' parameter of {caller} must be a "
                              f"number >= 0. Got {self.initial_chloride_log_sd!r} instead.",
                              column="initial_chloride_log_sd")
+        if not (np.isfinite(self.reading_error_log) and self.reading_error_log >= 0):
+            raise InputError(f"The 'reading_error_log' parameter of {caller} must be a number "
+                             f">= 0. Got {self.reading_error_log!r} instead.",
+                             column="reading_error_log")
         if not (np.isfinite(self.delta_x_mm) and self.delta_x_mm >= 0):
             raise InputError(f"The 'delta_x_mm' parameter of {caller} must be a number >= 0. "
                              f"Got {self.delta_x_mm!r} instead.", column="delta_x_mm")
@@ -399,6 +415,8 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors, 
         c_0 = pm.Deterministic("initial_chloride", pm.math.exp(log_c0))
         predicted = chloride_content_tensor(x, t, c_s[idx], pm.math.exp(log_d_data)[idx],
                                             age_data, a, c_0, priors.delta_x_mm)
+        pm.Deterministic("chloride_scatter", pm.math.sqrt(pm.math.maximum(
+            sigma**2 - priors.reading_error_log**2, 0.0)))
         mu = pm.math.log(predicted)
         if censored is not None and np.any(censored):
             lower = np.where(censored, np.log(c), -np.inf)

@@ -30,10 +30,12 @@ zone's cover scatter, `assess.site.initiation.spatial_log_sd`).
 A reading E is then drawn from the mixture
 p_active f(E | active) + (1 - p_active) f(E | passive), with the normal densities
 of `assess.deterioration.halfcell` (illustrative defaults after Faber & Sorensen
-2002, from memory). Readings are taken as independent given t_i,z; readings on
-a close grid are spatially correlated, so this overstates their weight unless
-the grid is thinned to about the correlation length (judgement; Faber &
-Sorensen 2002 discuss it).
+2002, from memory), each state's sd widened by the reading error (ASTM C876
+precision). Readings on a close grid are spatially correlated: each survey of a
+zone enters with the weight n_eff / n of a tempered (power) likelihood, n_eff
+the effective number of independent readings for an exponential correlation
+of length L (`assess.updating.spatial`), so a finer grid over the same area
+adds little evidence.
 
 Section loss at a break-out uses the local initiation time of the place where
 the break-out was opened. Break-outs are usually opened where corrosion is
@@ -71,8 +73,8 @@ import numpy as np
 from scipy import stats
 
 from assess.deterioration.corrosion import FARADAY_MM_PER_YEAR_PER_UA_CM2
-from assess.deterioration.defaults import CORROSION_RATE, HALF_CELL_LIKELIHOOD, lookup
-from assess.deterioration.halfcell import potential_log_likelihood
+from assess.deterioration.defaults import CORROSION_RATE, lookup
+from assess.deterioration.halfcell import potential_log_likelihood, with_reading_error
 from assess.errors import InputError
 from assess.updating.chloride import (
     check_observation_vector,
@@ -81,7 +83,13 @@ from assess.updating.chloride import (
     sampler_seed,
 )
 from assess.updating.gate import GateReport, require_convergence
+from assess.updating.measurement_error import MEASUREMENT_ERRORS
 from assess.updating.models import sample_posterior
+from assess.updating.spatial import CORRELATION_LENGTH_M, DEFAULT_GRID_SPACING_M, reading_weights
+
+HALF_CELL_READING_ERROR_MV = MEASUREMENT_ERRORS["halfcell"].sd
+"""Standard deviation of one half-cell reading's error [mV] (ASTM C876 precision, from
+memory; `assess.updating.measurement_error`)."""
 
 SPATIAL_LOG_SD = 0.7
 """Default scatter s of ln(local initiation time) within a zone [-].
@@ -133,15 +141,36 @@ class CorrosionModelSettings:
         zone. None (default) lets the caller derive it per zone (e.g. from the
         cover survey, `assess.site.initiation.spatial_log_sd`), else
         `SPATIAL_LOG_SD`.
+    half_cell_correlation_length_m : float, default `CORRELATION_LENGTH_M` (1 m)
+        Correlation length L of the potential field [m]
+        (`assess.updating.spatial`).
+    half_cell_grid_spacing_m : float, default `DEFAULT_GRID_SPACING_M` (0.5 m)
+        Grid spacing assumed for readings without coordinates [m].
+    half_cell_params : mapping, optional
+        f(E | state) parameters [mV vs CSE]: one mapping for all zones or one per
+        zone (e.g. `assess.deterioration.halfcell.condition_likelihood`); None:
+        `HALF_CELL_LIKELIHOOD` (illustrative).
+    half_cell_calibrated : bool, default False
+        True only when ``half_cell_params`` were calibrated on this site's
+        survey; otherwise the report warns that they are defaults.
     """
 
     breakout_quantile: float = BREAKOUT_QUANTILE
     spatial_log_sd: float | None = None
+    half_cell_correlation_length_m: float = CORRELATION_LENGTH_M
+    half_cell_grid_spacing_m: float = DEFAULT_GRID_SPACING_M
+    half_cell_params: object = None
+    half_cell_calibrated: bool = False
 
     def __post_init__(self):
         check_breakout_quantile(self.breakout_quantile, "CorrosionModelSettings")
         if self.spatial_log_sd is not None:
             check_spatial_log_sd(self.spatial_log_sd, "CorrosionModelSettings")
+        for name in ("half_cell_correlation_length_m", "half_cell_grid_spacing_m"):
+            value = getattr(self, name)
+            if not (isinstance(value, (int, float)) and math.isfinite(value) and value > 0):
+                raise InputError(f"The {name!r} parameter of CorrosionModelSettings must be a "
+                                 f"number > 0 [m]. Got {value!r}.", column=name)
 
 
 def check_breakout_quantile(value, caller):
@@ -332,11 +361,139 @@ class HalfCellData:
         Reading vs Cu/CuSO4 [mV].
     zone_index : array_like of int (n,)
         Position in ``zones`` [-].
+    x_m, y_m : array_like (n,), optional
+        Grid coordinates of the readings [m]; NaN (or None) where not given: the
+        survey is then placed on a square grid (`assess.updating.spatial`).
     """
 
     age_years: object
     potential_mv_cse: object
     zone_index: object
+    x_m: object = None
+    y_m: object = None
+
+
+@dataclasses.dataclass(frozen=True)
+class PreparedHalfCell:
+    """Checked half-cell readings with their weights and likelihood parameters.
+
+    Attributes
+    ----------
+    potential_mv_cse, age_years : ndarray (n,)
+        [mV], [yr]
+    zone_index : ndarray of int (n,)
+    weights : ndarray (n,)
+        n_eff / n of the reading's survey (zone and age) [-].
+    log_f_active, log_f_passive : ndarray (n,)
+        ln f(E | state) with the reading error included [ln(1/mV)].
+    surveys : list of dict
+        One per survey: zone, age [yr], n, n_eff, coordinates given.
+    params : dict
+        zone -> likelihood parameters used [mV].
+    """
+
+    potential_mv_cse: np.ndarray
+    age_years: np.ndarray
+    zone_index: np.ndarray
+    weights: np.ndarray
+    log_f_active: np.ndarray
+    log_f_passive: np.ndarray
+    surveys: list
+    params: dict
+
+
+def _zone_params(params, names):
+    """Likelihood parameters per zone: one mapping for all, or a mapping per zone."""
+    if params is None or "active_mean_mv" in params:
+        return {z: params for z in names}
+    missing = [z for z in names if z not in params]
+    if missing:
+        raise InputError(f"The half-cell likelihood parameters have no entry for zone(s) "
+                         f"{missing}.", column="half_cell_params")
+    return {z: params[z] for z in names}
+
+
+def prepare_half_cell(data, names, *, params=None,
+                      correlation_length_m=CORRELATION_LENGTH_M,
+                      grid_spacing_m=DEFAULT_GRID_SPACING_M,
+                      reading_error_mv=HALF_CELL_READING_ERROR_MV):
+    """Check half-cell data and compute each reading's weight and state densities.
+
+    Parameters
+    ----------
+    data : HalfCellData
+    names : sequence of str
+        Zone names.
+    params : mapping, optional
+        One set of f(E | state) parameters or one per zone [mV]; default
+        `HALF_CELL_LIKELIHOOD`.
+    correlation_length_m, grid_spacing_m : float
+        See `assess.updating.spatial.reading_weights` [m].
+    reading_error_mv : float
+        sd of one reading's error, added in quadrature to the state sds [mV].
+    """
+    caller = "corrosion_model (half_cell)"
+    e = check_observation_vector(data.potential_mv_cse, "potential_mv_cse", caller)
+    t = check_observation_vector(data.age_years, "age_years", caller, low=0.0, low_open=True,
+                                 size=e.size)
+    _, idx = check_zone_index(data.zone_index, names, e.size, caller)
+    coords = []
+    for name in ("x_m", "y_m"):
+        value = getattr(data, name, None)
+        value = np.full(e.size, np.nan) if value is None else np.asarray(value, dtype=float)
+        if value.shape != e.shape:
+            raise InputError(f"HalfCellData.{name} must have one value per reading "
+                             f"({e.size}); got {value.size}.", column=name)
+        coords.append(value)
+    groups = np.array([f"{i}|{a:.6f}" for i, a in zip(idx, t)])
+    weights, summary = reading_weights(groups, coords[0], coords[1],
+                                       correlation_length_m=correlation_length_m,
+                                       grid_spacing_m=grid_spacing_m)
+    zone_params = {z: with_reading_error(p, reading_error_mv)
+                   for z, p in _zone_params(params, names).items()}
+    log_f_active, log_f_passive = np.empty(e.size), np.empty(e.size)
+    for i, zone in enumerate(names):
+        here = idx == i
+        log_f_active[here] = potential_log_likelihood(e[here], "active", zone_params[zone])
+        log_f_passive[here] = potential_log_likelihood(e[here], "passive", zone_params[zone])
+    surveys = []
+    for label, entry in summary.items():
+        zone_i, age = label.split("|")
+        surveys.append({"zone": names[int(zone_i)], "age_years": float(age), **entry})
+    return PreparedHalfCell(e, t, idx, weights, log_f_active, log_f_passive, surveys,
+                            zone_params)
+
+
+def half_cell_log_likelihood(prepared, log_initiation_time, spatial_log_sd):
+    """Tempered half-cell log-likelihood per draw and zone (numpy) [-].
+
+    sum over a zone's readings of w_i ln[Phi(z_i) f(E_i|a) + Phi(-z_i) f(E_i|p)],
+    z_i = (ln t_i,age - ln t_i,zone) / s_zone: the same expression as the PyMC model.
+
+    Parameters
+    ----------
+    prepared : PreparedHalfCell
+    log_initiation_time : array_like (D, Z)
+        Draws of ln t_i per zone [ln yr].
+    spatial_log_sd : array_like (Z,)
+        s per zone [-].
+
+    Returns
+    -------
+    ndarray (D, Z)
+    """
+    from scipy import special
+
+    log_ti = np.atleast_2d(np.asarray(log_initiation_time, dtype=float))
+    s = np.asarray(spatial_log_sd, dtype=float)
+    idx = prepared.zone_index
+    z = (np.log(prepared.age_years)[None, :] - log_ti[:, idx]) / s[idx]
+    terms = np.logaddexp(special.log_ndtr(z) + prepared.log_f_active,
+                         special.log_ndtr(-z) + prepared.log_f_passive) * prepared.weights
+    out = np.zeros((log_ti.shape[0], log_ti.shape[1]))
+    for i in range(log_ti.shape[1]):  # loop over zones, vectorised over draws
+        out[:, i] = terms[:, idx == i].sum(axis=1)
+    return out
 
 
 def residual_area_ratio_tensor(bar_diameter_mm, corrosion_rate_ua_cm2, age_years,
@@ -372,7 +529,10 @@ def _check_priors(priors, names, caller):
 def corrosion_model(zones, *, priors, section_loss=None, half_cell=None,
                     spatial_log_sd=SPATIAL_LOG_SD, ratio_sd=None,
                     ratio_sd_scale=RATIO_SD_SCALE, half_cell_params=None,
-                    breakout_quantile=BREAKOUT_QUANTILE):
+                    breakout_quantile=BREAKOUT_QUANTILE,
+                    half_cell_correlation_length_m=CORRELATION_LENGTH_M,
+                    half_cell_grid_spacing_m=DEFAULT_GRID_SPACING_M,
+                    half_cell_reading_error_mv=HALF_CELL_READING_ERROR_MV):
     """PyMC model of initiation time and corrosion rate per zone (not sampled).
 
     Parameters
@@ -390,11 +550,18 @@ def corrosion_model(zones, *, priors, section_loss=None, half_cell=None,
     ratio_sd_scale : float, default `RATIO_SD_SCALE`
         Scale of that half-normal prior [-].
     half_cell_params : mapping, optional
-        f(E | state) parameters, default `HALF_CELL_LIKELIHOOD` [mV].
+        f(E | state) parameters, one set or one per zone, default
+        `HALF_CELL_LIKELIHOOD` [mV].
     breakout_quantile : float, default `BREAKOUT_QUANTILE`
         Quantile q of the spatial scatter of initiation at which the break-outs
         were opened [-]; the section loss is computed from the local initiation
         time t_i,z exp(s Phi^-1(q)).
+    half_cell_correlation_length_m, half_cell_grid_spacing_m : float
+        Correlation length and assumed grid spacing of the potential field [m]
+        (`assess.updating.spatial`): each survey's readings are weighted by
+        n_eff / n.
+    half_cell_reading_error_mv : float, default `HALF_CELL_READING_ERROR_MV`
+        sd of one reading's error [mV], added to the state sds in quadrature.
 
     Returns
     -------
@@ -431,7 +598,12 @@ def corrosion_model(zones, *, priors, section_loss=None, half_cell=None,
             _add_section_loss(pm, section_loss, names, t_i * breakout_factor, rate, ratio_sd,
                               ratio_sd_scale)
         if half_cell is not None:
-            _add_half_cell(pm, half_cell, names, log_ti, scatter, half_cell_params)
+            prepared = prepare_half_cell(
+                half_cell, names, params=half_cell_params,
+                correlation_length_m=half_cell_correlation_length_m,
+                grid_spacing_m=half_cell_grid_spacing_m,
+                reading_error_mv=half_cell_reading_error_mv)
+            _add_half_cell(pm, prepared, log_ti, scatter)
     return model
 
 
@@ -460,20 +632,14 @@ def _add_section_loss(pm, data, names, t_i_breakout, rate, ratio_sd, ratio_sd_sc
     pm.Normal("residual_area_ratio", mu=predicted, sigma=sd, observed=ratio)
 
 
-def _add_half_cell(pm, data, names, log_ti, scatter, params):
-    caller = "corrosion_model (half_cell)"
-    e = check_observation_vector(data.potential_mv_cse, "potential_mv_cse", caller)
-    t = check_observation_vector(data.age_years, "age_years", caller, low=0.0, low_open=True,
-                                 size=e.size)
-    _, idx = check_zone_index(data.zone_index, names, e.size, caller)
-    params = HALF_CELL_LIKELIHOOD if params is None else params
-    log_f_active = potential_log_likelihood(e, "active", params)
-    log_f_passive = potential_log_likelihood(e, "passive", params)
-    z = (np.log(t) - log_ti[idx]) / scatter[idx]
+def _add_half_cell(pm, prepared, log_ti, scatter):
+    idx = prepared.zone_index
+    z = (np.log(prepared.age_years) - log_ti[idx]) / scatter[idx]
     standard = pm.Normal.dist(0.0, 1.0)
-    log_mix = pm.math.logaddexp(pm.logcdf(standard, z) + log_f_active,
-                                pm.logcdf(standard, -z) + log_f_passive)
-    pm.Potential("half_cell", pm.math.sum(log_mix))
+    log_mix = pm.math.logaddexp(pm.logcdf(standard, z) + prepared.log_f_active,
+                                pm.logcdf(standard, -z) + prepared.log_f_passive)
+    # tempered (power) likelihood: each survey counts as its n_eff independent readings
+    pm.Potential("half_cell", pm.math.sum(prepared.weights * log_mix))
 
 
 @dataclasses.dataclass(frozen=True)
@@ -492,6 +658,10 @@ class CorrosionFit:
     seed : int
     breakout_quantile : float
         Quantile q of the spatial scatter at which break-outs were opened [-].
+    half_cell : PreparedHalfCell or None
+        The half-cell readings as the model used them (weights, densities).
+    half_cell_calibrated : bool
+        True when the half-cell likelihood was calibrated on the site.
     """
 
     idata: object
@@ -501,6 +671,58 @@ class CorrosionFit:
     spatial_log_sd: dict
     seed: int
     breakout_quantile: float = BREAKOUT_QUANTILE
+    half_cell: object = None
+    half_cell_calibrated: bool = False
+
+    def half_cell_effect(self, zone):
+        """How much the half-cell evidence moved the zone's initiation time.
+
+        The posterior without the half-cell readings is obtained from the
+        posterior draws by importance reweighting, w_d ~ exp(-l_hc(d)) with
+        l_hc the (tempered) half-cell log-likelihood of draw d of the zone
+        (e.g. Gelman et al., *Bayesian Data Analysis*, 3rd ed., 2013, sect.
+        10.4, from memory): cheap, no second fit. The effective sample size
+        (sum w)^2 / sum w^2 of the weights says how far to trust it.
+
+        Returns
+        -------
+        dict or None
+            None when the zone has no half-cell reading; else median and 5 / 95 %
+            points of t_i [yr] with and without the readings, the shift of the
+            median [yr], the readings n and their effective number n_eff [-],
+            and the reweighting's effective sample size [-].
+        """
+        prepared = self.half_cell
+        if prepared is None or zone not in self.zones:
+            return None
+        i = self.zones.index(zone)
+        if not np.any(prepared.zone_index == i):
+            return None
+        t_i = self.zone_draws(zone)["initiation_time"]
+        log_ti = np.zeros((t_i.size, len(self.zones)))
+        log_ti[:, i] = np.log(t_i)
+        scatter = np.array([self.spatial_log_sd[z] for z in self.zones])
+        log_like = half_cell_log_likelihood(prepared, log_ti, scatter)[:, i]
+        log_w = -log_like
+        w = np.exp(log_w - log_w.max())
+        w /= w.sum()
+        order = np.argsort(t_i)
+        cumulative = np.cumsum(w[order])
+        without = np.interp([0.05, 0.5, 0.95], cumulative, t_i[order])
+        with_ = np.quantile(t_i, [0.05, 0.5, 0.95])
+        surveys = [s for s in prepared.surveys if s["zone"] == zone]
+        return {
+            "zone": zone,
+            "with_half_cell_years": {"p05": float(with_[0]), "median": float(with_[1]),
+                                     "p95": float(with_[2])},
+            "without_half_cell_years": {"p05": float(without[0]), "median": float(without[1]),
+                                        "p95": float(without[2])},
+            "median_shift_years": float(with_[1] - without[1]),
+            "readings": int(sum(s["n"] for s in surveys)),
+            "effective_readings": float(sum(s["n_eff"] for s in surveys)),
+            "reweighting_ess": float(1.0 / np.sum(w**2)),
+            "calibrated": bool(self.half_cell_calibrated),
+        }
 
     def zone_draws(self, zone):
         """Flattened draws of ``initiation_time`` [yr] and ``corrosion_rate`` [uA/cm2]."""
@@ -525,14 +747,21 @@ class CorrosionFit:
 def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
                   spatial_log_sd=SPATIAL_LOG_SD, ratio_sd=None, ratio_sd_scale=RATIO_SD_SCALE,
                   half_cell_params=None, draws=1000, tune=1000, chains=4, target_accept=0.95,
-                  breakout_quantile=BREAKOUT_QUANTILE, sampler="pymc"):
+                  breakout_quantile=BREAKOUT_QUANTILE, sampler="pymc",
+                  half_cell_correlation_length_m=CORRELATION_LENGTH_M,
+                  half_cell_grid_spacing_m=DEFAULT_GRID_SPACING_M,
+                  half_cell_reading_error_mv=HALF_CELL_READING_ERROR_MV,
+                  half_cell_calibrated=False):
     """Sample the corrosion model and pass the convergence gate.
 
     Parameters
     ----------
     zones, priors, section_loss, half_cell, spatial_log_sd, ratio_sd, ratio_sd_scale,
-    half_cell_params, breakout_quantile
+    half_cell_params, breakout_quantile, half_cell_correlation_length_m,
+    half_cell_grid_spacing_m, half_cell_reading_error_mv
         See `corrosion_model`.
+    half_cell_calibrated : bool, default False
+        Whether ``half_cell_params`` were calibrated on the site (kept in the fit).
     seed : int or numpy.random.Generator
         Pass an int for reproducible output across calls.
     draws, tune, chains : int
@@ -552,7 +781,10 @@ def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
                             half_cell=half_cell, spatial_log_sd=spatial_log_sd,
                             ratio_sd=ratio_sd, ratio_sd_scale=ratio_sd_scale,
                             half_cell_params=half_cell_params,
-                            breakout_quantile=breakout_quantile)
+                            breakout_quantile=breakout_quantile,
+                            half_cell_correlation_length_m=half_cell_correlation_length_m,
+                            half_cell_grid_spacing_m=half_cell_grid_spacing_m,
+                            half_cell_reading_error_mv=half_cell_reading_error_mv)
     idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
                              target_accept=target_accept, sampler=sampler)
     names = [n for n in PARAMETER_NAMES if n in idata.posterior]
@@ -563,4 +795,10 @@ def fit_corrosion(zones, *, priors, seed, section_loss=None, half_cell=None,
                         spatial_log_sd=dict(zip(zone_names, zone_spatial_log_sd(
                             spatial_log_sd, zone_names, "fit_corrosion").tolist())),
                         seed=seed,
-                        breakout_quantile=float(breakout_quantile))
+                        breakout_quantile=float(breakout_quantile),
+                        half_cell=None if half_cell is None else prepare_half_cell(
+                            half_cell, list(zone_names), params=half_cell_params,
+                            correlation_length_m=half_cell_correlation_length_m,
+                            grid_spacing_m=half_cell_grid_spacing_m,
+                            reading_error_mv=half_cell_reading_error_mv),
+                        half_cell_calibrated=bool(half_cell_calibrated))

@@ -33,7 +33,7 @@ POOLING = ("none", "partial", "complete")
 
 def hierarchical_normal_model(values, group_index, groups, prior: NormalGamma | None, *,
                               pooling: str = "partial", tau_scale: float = 0.1,
-                              name: str | None = None):
+                              name: str | None = None, measurement_sd: float = 0.0):
     """Build the PyMC model (not sampled).
 
     Parameters
@@ -55,6 +55,11 @@ def hierarchical_normal_model(values, group_index, groups, prior: NormalGamma | 
         Build a named sub-model (variables ``<name>::mu`` ...) inside the model
         whose context is open; the enclosing model must define the ``group``
         coordinate. Several quantities then compile and sample as one model.
+    measurement_sd : float, default 0
+        Standard deviation of the error of one reading [units of Y]
+        (`assess.updating.measurement_error`): a reading is the true local
+        value plus this error, y ~ N(mu, sqrt(sigma^2 + measurement_sd^2)), so
+        ``sigma`` is the spread of the true values, without the error.
 
     Returns
     -------
@@ -72,16 +77,20 @@ def hierarchical_normal_model(values, group_index, groups, prior: NormalGamma | 
         raise InputError("values and group_index must be 1-D arrays of the same length")
     if prior is None and pooling == "partial":
         raise InputError("partial pooling needs a proper prior")
+    error = float(measurement_sd)
+    if not (np.isfinite(error) and error >= 0):
+        raise InputError(f"measurement_sd must be finite and >= 0, got {measurement_sd!r}",
+                         column="measurement_sd")
     model_kwargs = {"name": name} if name else {"coords": {"group": groups}}
     with pm.Model(**model_kwargs) as model:
         if pooling == "none":
             mu, sigma = _group_parameters(pm, prior, dims="group", shape=len(groups))
-            pm.Normal("y", mu=mu[idx], sigma=sigma[idx], observed=y)
+            pm.Normal("y", mu=mu[idx], sigma=with_error(pm, sigma[idx], error), observed=y)
         elif pooling == "complete":
             mu0, sigma = _group_parameters(pm, prior, name_suffix="_all")
             mu = pm.Deterministic("mu", mu0 * np.ones(len(groups)), dims="group")
             pm.Deterministic("sigma", sigma)
-            pm.Normal("y", mu=mu0, sigma=sigma, observed=y)
+            pm.Normal("y", mu=mu0, sigma=with_error(pm, sigma, error), observed=y)
         else:
             precision = pm.Gamma("precision", alpha=prior.shape, beta=prior.rate)
             sigma = pm.Deterministic("sigma", 1.0 / pm.math.sqrt(precision))
@@ -90,8 +99,15 @@ def hierarchical_normal_model(values, group_index, groups, prior: NormalGamma | 
             tau = pm.HalfNormal("tau", sigma=tau_scale)
             z = pm.Normal("z", mu=0.0, sigma=1.0, dims="group")
             mu = pm.Deterministic("mu", mu_site + tau * z, dims="group")
-            pm.Normal("y", mu=mu[idx], sigma=sigma, observed=y)
+            pm.Normal("y", mu=mu[idx], sigma=with_error(pm, sigma, error), observed=y)
     return model
+
+
+def with_error(pm, sigma, measurement_sd: float):
+    """sqrt(sigma^2 + measurement_sd^2): spread of readings of true values with error sd."""
+    if measurement_sd == 0.0:
+        return sigma
+    return pm.math.sqrt(sigma**2 + measurement_sd**2)
 
 
 def _group_parameters(pm, prior, *, dims=None, shape=None, name_suffix=""):

@@ -59,11 +59,17 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import warnings
 from pathlib import Path
 
 import tomllib
 
 from assess.errors import InputError
+from assess.updating.measurement_error import (
+    MEASUREMENT_ERRORS,
+    PROGRAMME_RECORD_KINDS,
+    measurement_sd,
+)
 
 PROGRAMME_KINDS = ("cores", "breakouts", "cover", "half-cell")
 ALTERNATIVE_KINDS = ("repair", "strengthen", "restrict_load", "replace")
@@ -126,7 +132,10 @@ class ProgrammeSpec:
     cost : float
         [currency]
     measurement_sd : float
-        Error of one reading: [ln MPa] cores, [-] break-outs, [mm] cover.
+        Error of one reading: [ln MPa] cores, [-] break-outs, [mm] cover; by
+        default the value the site update uses
+        (`assess.updating.measurement_error.MEASUREMENT_ERRORS`), so that the
+        error is counted once.
     probability_of_detection, probability_of_false_alarm : float
         Half-cell survey only [-].
     active_below : float
@@ -279,8 +288,19 @@ def _programme(reader: _Reader, index: int, table) -> ProgrammeSpec:
                              active_below=reader.number(table, "active_below", key,
                                                         default=0.98, minimum=0.0,
                                                         exclusive=True, maximum=1.0))
-    return ProgrammeSpec(**common, measurement_sd=reader.number(table, "measurement_sd", key,
-                                                                default=0.0, minimum=0.0))
+    record_kind = PROGRAMME_RECORD_KINDS[kind]
+    update_sd = measurement_sd(record_kind)
+    sd = reader.number(table, "measurement_sd", key, default=update_sd, minimum=0.0)
+    if not math.isclose(sd, update_sd, rel_tol=1e-9, abs_tol=1e-12):
+        where = f"{reader.path}: " if reader.path else ""
+        warnings.warn(f"{where}{key}.measurement_sd = {sd:g} differs from the "
+                      f"measurement error the site update gives a {record_kind} reading "
+                      f"({update_sd:g} {MEASUREMENT_ERRORS[record_kind].unit}, "
+                      f"assess.updating.measurement_error): the value of information is then "
+                      f"computed for a different test than the one the update would read. "
+                      f"Leave the key out to use the update's value.", UserWarning,
+                      stacklevel=2)
+    return ProgrammeSpec(**common, measurement_sd=sd)
 
 
 def parse_decision_setup(data: dict, path=None) -> DecisionSetup:

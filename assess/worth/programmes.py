@@ -26,6 +26,7 @@ import numpy as np
 from scipy.special import xlog1py, xlogy
 
 from assess.errors import InputError
+from assess.updating.measurement_error import measurement_sd as _stated_sd
 from assess.worth.decision import resolve_column
 
 Column = int | str
@@ -209,7 +210,8 @@ class CoreSampling(NormalSampleProgramme):
     mean_column, sd_column : int or str
         Theta columns of mu [ln MPa] and sigma [ln MPa] of ln f in the zone.
     measurement_sd : float
-        Standard deviation of the measurement error on ln f [ln MPa], e.g. 0.05.
+        Standard deviation of the measurement error on ln f [ln MPa]; default
+        the value the site update uses (``MEASUREMENT_ERRORS["cores"]``, 0.05).
     description : str
         Plain words for reports, e.g. ``"drilling 6 more cores in zone L2"``.
     """
@@ -219,7 +221,7 @@ class CoreSampling(NormalSampleProgramme):
     n_cores: int
     mean_column: Column
     sd_column: Column
-    measurement_sd: float = 0.0
+    measurement_sd: float = _stated_sd("cores")
     description: str = ""
 
     COUNT_FIELD = "n_cores"
@@ -249,7 +251,8 @@ class BreakoutSurvey(NormalSampleProgramme):
     mean_column, sd_column : int or str
         Theta columns of mu_r [-] and sigma_r [-] of the residual area ratio.
     measurement_sd : float
-        Standard deviation of the reading error of one ratio [-].
+        Standard deviation of the reading error of one ratio [-]; default the
+        value the site update uses (``MEASUREMENT_ERRORS["section_loss"]``).
     description : str
         Plain words for reports.
     """
@@ -259,7 +262,7 @@ class BreakoutSurvey(NormalSampleProgramme):
     n_breakouts: int
     mean_column: Column
     sd_column: Column
-    measurement_sd: float = 0.0
+    measurement_sd: float = _stated_sd("section_loss")
     description: str = ""
 
     COUNT_FIELD = "n_breakouts"
