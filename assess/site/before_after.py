@@ -17,6 +17,7 @@ from typing import Any, Callable
 import numpy as np
 
 from assess.reliability.dispatch import run_method
+from assess.site.locations import knowledge_at
 from assess.site.member_models import build_member_model
 from assess.site.record import LedgerRow
 from assess.site.settings import DEFAULT_SEED
@@ -204,15 +205,19 @@ def assess_members(
         own_target = member_target(site, member, target)
         if own_target is not target:
             notes.append(f"Member {member_id}: target {own_target.beta:.2f}, {own_target.source}.")
+        face = getattr(member, "tension_face", "bottom")
         models = {
             state: build_member_model(
                 site,
                 member,
-                knowledge[member.zone],
+                knowledge_at(knowledge[member.zone], local.get(member.zone), member_id, face),
                 reference_period_years=period,
                 car_park_use=use,
             )
-            for state, knowledge in (("before", update.before), ("after", update.after))
+            for state, knowledge, local in (
+                ("before", update.before, update.before_local or {}),
+                ("after", update.after, update.after_local or {}),
+            )
         }
         notes.extend(n for n in models["after"].notes if n not in notes)
         modes = list(models["after"].modes)

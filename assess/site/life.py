@@ -15,9 +15,25 @@ EXPLANATION = (
     "beta(t) is the annual reliability index of year t: the annual maximum load "
     "against the resistance of year t, with the bars corroding after the assessment "
     "date by Faraday's law from the zone's corrosion initiation time and rate "
-    "(updated with break-outs and half-cell surveys). It is compared with the annual "
+    "(updated with break-outs and half-cell surveys), at the same spot (spatial "
+    "quantile) as today's state; where no break-out was opened on a member's bar face, "
+    "today's section loss is that of the corrosion model since initiation. Pitting "
+    "(Gumbel pitting factor, updated with measured pits) acts on chloride-exposed faces "
+    "and where pits were measured. It is compared with the annual "
     "target. The band is +/- 2 standard errors of the sampling estimate only."
 )
+
+
+def section_loss_text(note: dict) -> str:
+    """Plain words: face, source of today's state and whether pitting governs."""
+    if not note:
+        return ""
+    source = note.get("present_state_from", "")
+    if not note.get("pitting"):
+        return f"{note.get('face', '')} bars, today from {source}; uniform loss (no pitting)"
+    now = "pitting governs" if note.get("pitting_governs_now") else "uniform loss governs"
+    later = "pitting" if note.get("pitting_governs_horizon") else "uniform loss"
+    return f"{note.get('face', '')} bars, today from {source}; {now} (at horizon: {later})"
 
 
 @dataclasses.dataclass
@@ -45,6 +61,7 @@ class SiteLife:
                 "beta now": c.beta_now,
                 "beta at horizon": float(c.beta[-1]),
                 "remaining life": c.remaining_life.text(),
+                "section loss": section_loss_text(c.section_loss),
                 "reference": "annual",
             }
             for c in self.main
@@ -107,12 +124,22 @@ def compute_site_life(
     settings : RunSettings, optional
         Seed, horizon [yr], importance samples, pitting.
     """
+    from assess.site.corrosion_state import present_state
     from assess.site.projection import governing_curves, project_site
 
     settings = settings or RunSettings()
+    update, state = present_state(
+        site,
+        update,
+        corrosion,
+        pitting=settings.pitting,
+        seed=settings.seed,
+        until_date=update.until_date,
+    )
     curves = project_site(
         site,
         update,
+        state=state,
         corrosion=corrosion,
         members=members,
         horizon_years=settings.horizon_years,
@@ -132,4 +159,4 @@ def compute_site_life(
     )
 
 
-__all__ = ["EXPLANATION", "SiteLife", "compute_site_life"]
+__all__ = ["EXPLANATION", "SiteLife", "compute_site_life", "section_loss_text"]

@@ -23,7 +23,12 @@ import numpy as np
 import pandas as pd
 
 from assess.priors.normal_gamma import NormalGamma
-from assess.site.knowledge import QUANTITIES, design_knowledge
+from assess.site.knowledge import (
+    DESIGN_STATE_WITHOUT_DATA,
+    QUANTITIES,
+    design_knowledge,
+    update_priors,
+)
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
 from assess.site.settings import RunSettings
@@ -256,14 +261,15 @@ def update_site(
         )
     with Ledger(ledger_path(site.folder)) as ledger:
         data = collect_data(ledger, until_date, include_flagged)
-    payload = _payload(site, data, before, settings, include_flagged)
+    priors = update_priors(before)
+    payload = _payload(site, data, priors, settings, include_flagged)
     data_hash = content_hash("materials", payload)
     if all(df.empty for df in data.values()):
         return SiteUpdate(
             before, before, data, None, None, data_hash, False, None, until_date, settings.seed
         )
 
-    joint = _build_joint_model(site, data, before)
+    joint = _build_joint_model(site, data, priors)
     names = free_parameter_names(joint)
     what = "zone materials (cores, tensile tests, cover, section loss)"
 
@@ -289,6 +295,8 @@ def update_site(
         if data[name].empty:
             continue
         for zone in site.zones:
+            if name in DESIGN_STATE_WITHOUT_DATA and not (data[name]["zone"] == zone).any():
+                continue  # no break-out here: the design state (corrosion_state adds the loss)
             mu, sigma = group_draws(idata, zone, name=name)
             after[zone][name] = NormalGamma.fit_draws(
                 mu,

@@ -2,16 +2,21 @@
 
 Model
 -----
-At the assessment date t0 the residual bar area ratio of a member is the
-"after" population of the site update (measured break-outs), r0. Later it is
+At the assessment date t0 the residual bar area ratio of a member's bars is r0,
+the "after" population of the site update for the member's tension face
+(`assess.site.locations.knowledge_at`; today's state per face from
+`assess.site.corrosion_state`: break-outs where they were opened on that face,
+else the corrosion model's loss since initiation). Later it is
 
-    r(t) = r0 A(t) / A(t0),   A(t) = max(1 - 2 P(t) / D0, 0)^2,
-    P(t) = 0.0116 i_corr max(age(t) - t_i, 0)  [mm]
+    r(t) = r0 A(t) / A(t0),   A(t) = max(1 - 2 P(t) / D0, 0)^2 Pi(t),
+    P(t) = 0.0116 i_corr max(age(t) - t_i,q, 0)  [mm]
 
-(uniform corrosion by Faraday's law, `assess.deterioration.corrosion`), with the
-zone's corrosion initiation time t_i [yr of age] and corrosion rate i_corr
-[uA/cm2] as two more random variables of the member model
-(`assess.site.corrosion`). Hence beta(t0) is the "after" beta of
+(uniform corrosion by Faraday's law, `assess.deterioration.corrosion`; Pi the share
+left after the deepest pit where pitting is on), with the zone's corrosion
+initiation time t_i [yr of age] and corrosion rate i_corr [uA/cm2] as random
+variables of the member model (`assess.site.corrosion`), t_i,q = t_i
+exp(s Phi^-1(q)) the initiation time of the critical section at the same spatial
+quantile q as the present state. Hence beta(t0) is the "after" beta of
 `assess.site.before_after.assess_members` by construction, and beta(t)
 cannot increase while only deterioration acts.
 
@@ -63,15 +68,11 @@ import numpy as np
 from scipy import stats
 from scipy.special import logsumexp
 
-from assess.deterioration.corrosion import (
-    penetration_depth,
-    residual_area_ratio,
-    time_since_initiation,
-)
 from assess.errors import AnalysisError, InputError
 from assess.reliability.crude import check_int, resolve_seed
 from assess.reliability.form import form
 from assess.site.corrosion import INITIATION_NAME, RATE_NAME, age_at
+from assess.site.corrosion_state import PITTING_NAME, present_state
 
 ANNUAL_NOTE = (
     "annual reliability index: failure in year t under the annual maximum load "
@@ -392,6 +393,10 @@ class LifeCurve:
         Cross-checks by subset simulation at given years.
     reference : str
         Always `ANNUAL_NOTE`.
+    section_loss : dict
+        Face of the bars, where today's state comes from (break-outs or the
+        corrosion model), and whether pitting or uniform loss governs the section
+        loss today and at the horizon (`assess.site.corrosion_state.pitting_note`).
     """
 
     member: str
@@ -417,6 +422,7 @@ class LifeCurve:
     warnings: list
     checks: list = dataclasses.field(default_factory=list)
     reference: str = ANNUAL_NOTE
+    section_loss: dict = dataclasses.field(default_factory=dict)
 
     @property
     def beta_now(self) -> float:
@@ -456,10 +462,8 @@ class LifeCurve:
             "centres": self.centres,
             "warnings": list(self.warnings),
             "checks": self.checks,
+            "section_loss": self.section_loss,
         }
-
-
-PITTING_NAME = "pitting_factor"
 
 
 def area_factor(
@@ -469,31 +473,32 @@ def area_factor(
     age_now_years: float,
     bar_diameter_mm: float,
     pitting_factor=None,
+    *,
+    local_factor: float = 1.0,
 ):
-    """A(age) / A(age_now) of a bar under Faraday corrosion [-].
+    """A(age) / A(age_now) of a bar at the critical section [-].
 
-    Uniform corrosion by default. With ``pitting_factor`` R the bar also carries
-    its deepest pit, R times the uniform penetration deep (Val & Melchers 1997
-    pit geometry, `residual_area_ratio` rule "uniform_then_pit"). Exactly 1 at
+    Uniform Faraday corrosion from the critical section's initiation time
+    ``local_factor`` x t_i (the spatial quantile of the present state,
+    `CorrosionInputs.local_factor`). With ``pitting_factor`` R the bar also carries
+    its deepest pit, R times the uniform penetration deep (Val & Melchers 1997 pit
+    geometry, `residual_area_ratio` rule "uniform_then_pit"). Exactly 1 at
     ``age_years == age_now_years``; 0 where the bar is already consumed at
-    ``age_now`` (then nothing is left to lose, and the model's measured state is
-    taken as lost at once - a conservative edge case).
+    ``age_now`` (then nothing is left to lose, and the present state is taken as
+    lost at once - a conservative edge case). See
+    `assess.site.corrosion_state.area_path`.
     """
+    from assess.site.corrosion_state import area_path
 
-    def ratio(age):
-        penetration = penetration_depth(corrosion_rate, time_since_initiation(age, initiation_time))
-        if pitting_factor is None:
-            return residual_area_ratio(bar_diameter_mm, penetration, rule="uniform")
-        return residual_area_ratio(
-            bar_diameter_mm, penetration, pitting_factor, rule="uniform_then_pit"
-        )
-
-    if age_years == age_now_years:
-        return np.ones(np.shape(initiation_time))
-    now = ratio(age_now_years)
-    later = ratio(age_years)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(now > 0.0, later / np.where(now > 0.0, now, 1.0), 0.0)
+    return area_path(
+        initiation_time,
+        corrosion_rate,
+        age_years,
+        age_now_years,
+        bar_diameter_mm,
+        local_factor,
+        pitting_factor,
+    )
 
 
 def deteriorating_limit_state(
@@ -502,6 +507,8 @@ def deteriorating_limit_state(
     age_now_years: float,
     mode_names: Sequence[str],
     pitting: bool = False,
+    *,
+    local_factor: float = 1.0,
 ):
     """``limit_state_at(x, t)`` of a member whose bar area corrodes after the assessment.
 
@@ -519,6 +526,7 @@ def deteriorating_limit_state(
             age_now_years,
             bar_diameter_mm,
             x[PITTING_NAME] if pitting else None,
+            local_factor=local_factor,
         )
         shifted = dict(x)
         shifted["area_ratio"] = x["area_ratio"] * factor
@@ -555,7 +563,8 @@ def project_member(
     seed: int = 20261202,
     check_years: Sequence[float] = (),
     check_samples: int = 1000,
-    pitting: bool = False,
+    pitting: bool | None = None,
+    state: dict | None = None,
 ) -> list:
     """Annual beta(t) and remaining life of every mode and the system of one member.
 
@@ -564,9 +573,11 @@ def project_member(
     site : inspection_io.site.Site
     member_id : str
     update : SiteUpdate
-        Its ``after`` knowledge gives the state at the assessment date.
+        Its ``after`` knowledge (with ``after_local``, `knowledge_at` the member's
+        tension face) gives the state at the assessment date.
     corrosion : dict, optional
         Zone -> `CorrosionInputs`; default the priors of `zone_corrosion_inputs`.
+        Used only without ``state``.
     horizon_years : float, default 50
         Length of the projection from the assessment date [yr].
     step_years : float, default 1
@@ -580,11 +591,15 @@ def project_member(
         subset simulation as a cross-check (stored in ``checks``).
     check_samples : int
         Samples per subset level of the cross-checks [-].
-    pitting : bool, default False
-        Add the deepest pit of each bar at the critical section: pit depth R times
-        the uniform penetration with R ~ Gumbel (Stewart 2004, `assess.deterioration.
-        corrosion.pitting_factor_distribution`). On the safe side: it assumes every
-        bar's deepest pit lies in the critical section.
+    pitting : bool, optional
+        Each bar's deepest pit at the critical section: pit depth R times the
+        uniform penetration, R ~ Gumbel updated with the face's measured pits
+        (`assess.deterioration.pitting`). None: on chloride-exposed faces and where
+        pits were measured; True everywhere; False nowhere. On the safe side: every
+        bar's deepest pit is taken in the critical section. Used only without ``state``.
+    state : dict, optional
+        (zone, face) -> `FaceCorrosion` (`assess.site.corrosion_state`); with it,
+        ``update`` must already carry the present state (`present_state`).
 
     Returns
     -------
@@ -592,7 +607,8 @@ def project_member(
         One per mode, then ``"system"`` when the member has several modes.
     """
     from assess.reliability.subset import subset_simulation
-    from assess.site.corrosion import zone_corrosion_inputs
+    from assess.site.corrosion_state import critical_length_mm, pitting_note
+    from assess.site.locations import knowledge_at
     from assess.site.member_models import build_member_model
 
     if member_id not in site.members:
@@ -607,27 +623,41 @@ def project_member(
             column="horizon",
         )
     member = site.members[member_id]
-    if corrosion is None:
-        corrosion = zone_corrosion_inputs(site, seed=seed)
-    inputs = corrosion[member.zone]
-    member_model = build_member_model(
-        site, member, update.after[member.zone], reference_period_years=1.0
+    if state is None:
+        update, state = present_state(
+            site, update, corrosion, pitting=pitting, seed=seed, until_date=update.until_date
+        )
+    face = getattr(member, "tension_face", "bottom")
+    face_state = state[(member.zone, face)]
+    inputs = face_state.inputs
+    knowledge = knowledge_at(
+        update.after[member.zone], update.after_local.get(member.zone), member_id, face
     )
+    member_model = build_member_model(site, member, knowledge, reference_period_years=1.0)
     inputs.add_to_model(member_model.model)
-    if pitting:
-        from assess.deterioration.corrosion import pitting_factor_distribution
-        from assess.distributions import make_distribution
-
-        gumbel = pitting_factor_distribution()  # frozen scipy gumbel_r(loc=..., scale=...)
-        location, scale = gumbel.kwds["loc"], gumbel.kwds["scale"]
-        member_model.model.add(
-            PITTING_NAME, make_distribution("gumbel", loc=location, scale=scale, name=PITTING_NAME)
+    with_pits = face_state.pitting is not None
+    if with_pits:
+        face_state.pitting.add_to_model(
+            member_model.model, PITTING_NAME, critical_length_mm(member)
         )
     mode_names = list(member_model.modes)
     age_now = age_at(site, site.site.assessment_date)
     limit_state_at = deteriorating_limit_state(
-        member_model, float(member.bar_diameter), age_now, mode_names, pitting=pitting
+        member_model,
+        float(member.bar_diameter),
+        age_now,
+        mode_names,
+        pitting=with_pits,
+        local_factor=inputs.local_factor,
     )
+    section_loss = {
+        "face": face,
+        "present_state_from": "break-outs" if face_state.measured else "corrosion model",
+        "breakouts_on_face": face_state.breakouts,
+        "local_factor": inputs.local_factor,
+        "state_quantile": inputs.state_quantile,
+        **pitting_note(site, member, face_state, horizon_years, seed=_member_seed(seed, member_id)),
+    }
     n_steps = int(round(horizon_years / step_years))
     times = np.arange(n_steps + 1) * float(step_years)
     groups = {name: [j] for j, name in enumerate(mode_names)}
@@ -681,6 +711,7 @@ def project_member(
                 seed=estimate.seed,
                 centres=estimate.centres,
                 warnings=warnings,
+                section_loss=section_loss,
             )
         )
     system = curves[-1]
@@ -716,13 +747,18 @@ def project_site(
     seed: int = 20261202,
     check_years: Sequence[float] = (),
     progress: Callable[[str], None] | None = None,
-    pitting: bool = False,
+    pitting: bool | None = None,
+    state: dict | None = None,
 ) -> list:
-    """`project_member` for every member (or those given); curves of all modes and systems."""
-    from assess.site.corrosion import zone_corrosion_inputs
+    """`project_member` for every member (or those given); curves of all modes and systems.
 
-    if corrosion is None:
-        corrosion = zone_corrosion_inputs(site, seed=seed)
+    Without ``state`` the present corrosion state is built once (`present_state`);
+    with it, ``update`` must already carry it.
+    """
+    if state is None:
+        update, state = present_state(
+            site, update, corrosion, pitting=pitting, seed=seed, until_date=update.until_date
+        )
     chosen = list(members) if members else list(site.members)
     unknown = [m for m in chosen if m not in site.members]
     if unknown:
@@ -744,7 +780,7 @@ def project_site(
                 n_samples=n_samples,
                 seed=seed,
                 check_years=check_years,
-                pitting=pitting,
+                state=state,
             )
         )
         if progress:

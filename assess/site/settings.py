@@ -122,8 +122,9 @@ class RunSettings:
         Years projected from the assessment date [yr].
     history, life, worth : bool
         Whether the main job runs these steps.
-    pitting : bool
-        Pitting in the remaining-life curves.
+    pitting : bool or None
+        Pitting of the bars: None (default) on chloride-exposed faces and where pits
+        were measured (`assess.site.corrosion_state`), True everywhere, False nowhere.
     """
 
     seed: int = DEFAULT_SEED
@@ -137,7 +138,7 @@ class RunSettings:
     history: bool = True
     life: bool = True
     worth: bool = True
-    pitting: bool = False
+    pitting: bool | None = None
 
     def __post_init__(self):
         if (
