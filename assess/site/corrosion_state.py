@@ -509,8 +509,9 @@ def with_present_state(site, update, state: dict, *, n=4000, seed=0):
             if float(m.bar_diameter) != float(representative.bar_diameter)
         ]
         for key, member in entries:
+            base: NormalGamma
             if face_state.measured:
-                base = knowledge_at(
+                base = knowledge_at(  # type: ignore[assignment]
                     update.after[zone_id], update.after_local.get(zone_id), member.member_id, face
                 )["area_ratio"]
             else:

@@ -45,7 +45,7 @@ class SiteLife:
     main: list
     horizon_years: float
     n_samples: int
-    pitting: bool
+    pitting: bool | None
     posterior_hash: str
     explanation: str = EXPLANATION
 

@@ -72,7 +72,7 @@ from assess.errors import AnalysisError, InputError
 from assess.reliability.crude import check_int, resolve_seed
 from assess.reliability.form import form
 from assess.site.corrosion import INITIATION_NAME, RATE_NAME, age_at
-from assess.site.corrosion_state import PITTING_NAME, present_state
+from assess.site.corrosion_state import PITTING_NAME, area_path, present_state
 
 ANNUAL_NOTE = (
     "annual reliability index: failure in year t under the annual maximum load "
@@ -488,8 +488,6 @@ def area_factor(
     lost at once - a conservative edge case). See
     `assess.site.corrosion_state.area_path`.
     """
-    from assess.site.corrosion_state import area_path
-
     return area_path(
         initiation_time,
         corrosion_rate,
