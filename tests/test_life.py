@@ -140,7 +140,6 @@ def test_corrosion_inputs_keep_marginals_and_copula():
 # -- the demo site ----------------------------------------------------------------------
 def test_beta_now_equals_the_after_beta_of_assess_members(prepared):
     from assess.site.before_after import assess_members
-
     from assess.site.corrosion_state import present_state
 
     site, update, _, corrosion = prepared
