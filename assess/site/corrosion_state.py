@@ -321,6 +321,7 @@ def site_corrosion_state(
     until_date=None,
     settings: CorrosionStateSettings | None = None,
     seed: int = 0,
+    readings: list | None = None,
 ) -> dict:
     """`FaceCorrosion` of every zone and face: (zone, face) -> FaceCorrosion.
 
@@ -335,9 +336,13 @@ def site_corrosion_state(
     settings : CorrosionStateSettings, optional
     seed : int
         Seed of the other-face priors.
+    readings : list, optional
+        Break-out readings (`breakout_readings`); ``[]`` for the state known
+        before any test.
     """
     settings = settings or CorrosionStateSettings()
-    readings = breakout_readings(site, until_date, settings)
+    if readings is None:
+        readings = breakout_readings(site, until_date, settings)
     state = {}
     for zone_id, zone in site.zones.items():
         home = evidence_face(site, zone_id, settings)
@@ -481,8 +486,9 @@ def face_members(site, zone_id, face) -> list:
     ]
 
 
-def with_present_state(site, update, state: dict, *, n=4000, seed=0):
-    """A copy of ``update`` whose ``after_local`` holds today's area ratio per face.
+def with_present_state(site, update, state: dict, *, n=4000, seed=0, which="after"):
+    """A copy of ``update`` whose ``after_local`` (or ``before_local``) holds today's
+    area ratio per face.
 
     For every zone and face: no break-out on the face -> the manufacturing
     tolerance (``before``) times A_q(t0) Pi(t0) from the corrosion model;
@@ -494,7 +500,9 @@ def with_present_state(site, update, state: dict, *, n=4000, seed=0):
     """
     from assess.site.locations import knowledge_at
 
-    local = {z: {k: dict(v) for k, v in d.items()} for z, d in (update.after_local or {}).items()}
+    known = getattr(update, which)
+    old_local = getattr(update, f"{which}_local") or {}
+    local = {z: {k: dict(v) for k, v in d.items()} for z, d in old_local.items()}
     for (zone_id, face), face_state in state.items():
         if face_state.measured and face_state.pitting is None:
             continue
@@ -512,7 +520,7 @@ def with_present_state(site, update, state: dict, *, n=4000, seed=0):
             base: NormalGamma
             if face_state.measured:
                 base = knowledge_at(  # type: ignore[assignment]
-                    update.after[zone_id], update.after_local.get(zone_id), member.member_id, face
+                    known[zone_id], old_local.get(zone_id), member.member_id, face
                 )["area_ratio"]
             else:
                 base = update.before[zone_id]["area_ratio"]
@@ -521,7 +529,7 @@ def with_present_state(site, update, state: dict, *, n=4000, seed=0):
     after = update.after
     if after is update.before:  # no test data: "after" must become its own dict
         after = {z: dict(q) for z, q in update.before.items()}
-    return dataclasses.replace(update, after=after, after_local=local)
+    return dataclasses.replace(update, after=after, **{f"{which}_local": local})
 
 
 def present_state(
@@ -535,6 +543,10 @@ def present_state(
     settings: CorrosionStateSettings | None = None,
 ):
     """(update with today's area ratio per face, (zone, face) -> `FaceCorrosion`).
+
+    ``before_local`` gets the state known without tests (corrosion priors, no
+    break-out, no measured pit), ``after_local`` the state from ``corrosion`` and the
+    site's break-outs, so that "before" and "after" differ only by the evidence.
 
     Parameters
     ----------
@@ -554,8 +566,16 @@ def present_state(
     settings = settings or CorrosionStateSettings()
     if pitting is not None:
         settings = dataclasses.replace(settings, pitting=bool(pitting))
+    prior_inputs = zone_corrosion_inputs(site, seed=seed)
     if corrosion is None:
-        corrosion = zone_corrosion_inputs(site, seed=seed)
+        corrosion = prior_inputs
+    # before: the corrosion priors, no break-out and no measured pit
+    known_before = site_corrosion_state(
+        site, prior_inputs, settings=settings, seed=seed, readings=[]
+    )
+    update = with_present_state(
+        site, update, known_before, n=settings.state_samples, seed=seed, which="before"
+    )
     state = site_corrosion_state(
         site, corrosion, until_date=until_date, settings=settings, seed=seed
     )
