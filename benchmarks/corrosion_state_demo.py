@@ -77,10 +77,11 @@ def main() -> None:
                 continue
             m = members[0]
             zone_pop = update.after[zone]["area_ratio"]
-            today = knowledge_at(update.after[zone], present.after_local.get(zone), m.member_id,
-                                 face)["area_ratio"]
+            today = knowledge_at(
+                update.after[zone], present.after_local.get(zone), m.member_id, face
+            )["area_ratio"]
             factors = np.array(fs.pit_factors)
-            r_text = (f"{factors.mean():.2f} (n={factors.size})" if factors.size else "-")
+            r_text = f"{factors.mean():.2f} (n={factors.size})" if factors.size else "-"
             mu = f"{fs.pitting.location_mean:.2f}" if fs.pitting is not None else "off"
             print(
                 f"{zone:4} {face:6} {'break-outs' if fs.measured else 'corrosion model':16} "
@@ -89,8 +90,10 @@ def main() -> None:
                 f"{fs.inputs.local_factor:>9.3f}"
             )
         print()
-        print(f"{'member':7} {'face':6} {'pitting':7} {'unif now':>8} {'pit now':>8} "
-              f"{'unif 50y':>8} {'pit 50y':>8}  governs now / at 50 yr")
+        print(
+            f"{'member':7} {'face':6} {'pitting':7} {'unif now':>8} {'pit now':>8} "
+            f"{'unif 50y':>8} {'pit 50y':>8}  governs now / at 50 yr"
+        )
         for member_id, member in site.members.items():
             face = getattr(member, "tension_face", "bottom")
             note = pitting_note(site, member, state[(member.zone, face)], 50.0, seed=args.seed)

@@ -173,3 +173,31 @@ def test_pitting_lowers_beta_where_pits_are_measured(demo_update):
         with_pits, without = curves[True], curves[False]
         se = math.hypot(with_pits.cov[j] * with_pits.pf[j], without.cov[j] * without.pf[j])
         assert with_pits.pf[j] > without.pf[j] + 3.0 * se, (j, with_pits.beta, without.beta)
+
+
+def test_pitting_note_matches_the_half_disk_pit_of_a_thick_bar(site):
+    # A pit of depth p << D in a bar of diameter D removes a half disk, pi p^2 / 2
+    # (elementary geometry; the small-pit limit of Val & Melchers 1997). Uniform loss
+    # 1 - (1 - 2P/D)^2. A nearly deterministic R = 5 (Gumbel scale 0.01).
+    from types import SimpleNamespace
+
+    from scipy import special
+
+    from assess.deterioration.pitting import GumbelPitting
+    from assess.site.corrosion_state import pitting_note
+
+    shape, scale, r = 1e6, 0.01, 5.0
+    pits = GumbelPitting(scale, shape, math.exp(float(special.digamma(shape)) - r / scale))
+    member = SimpleNamespace(bar_diameter=400.0, span=0.375, depth=300.0)  # L = 125 mm
+    age_now = age_at(site, site.site.assessment_date)
+    rate = 2.0 / (FARADAY_MM_PER_YEAR * (age_now - 1.0))  # P = 2 mm today at t_i,q = 1 yr
+    inputs = deterministic_inputs("L3", t_i=1.0, rate=rate, scatter=1e-6, q=0.5)
+    state = FaceCorrosion("L3", "top", inputs, measured=False, breakouts=0, pitting=pits)
+    note = pitting_note(site, member, state, 10.0, n=200, seed=3)
+    d = 400.0
+    p_unif = 2.0
+    d_u = d - 2 * p_unif
+    assert note["uniform_loss_now"] == pytest.approx(1 - (d_u / d) ** 2, rel=1e-6)
+    half_disk = 0.5 * math.pi * ((r - 1.0) * p_unif) ** 2 / (0.25 * math.pi * d**2)
+    assert note["pit_loss_now"] == pytest.approx(half_disk, rel=0.05)  # O(p/D) = 2 %
+    assert note["pitting_governs_now"] is False  # 0.08 % against 2 %
