@@ -41,9 +41,11 @@ def life_command(
                             f"{QUICK_LIFE_SAMPLES} importance samples.")] = False,
         samples: Annotated[Optional[int], typer.Option(
             "--samples", help="Importance samples shared by all years of a member.")] = None,
-        pitting: Annotated[bool, typer.Option(
-            "--pitting", help="Also take each bar's deepest pit (pitting factor, Gumbel) at "
-                              "the critical section; on the safe side.")] = False,
+        pitting: Annotated[Optional[bool], typer.Option(
+            "--pitting/--no-pitting",
+            help="Each bar's deepest pit (pitting factor, Gumbel, updated with measured pits) "
+                 "at the critical section: everywhere / nowhere. Default: on chloride-exposed "
+                 "faces and where pits were measured.")] = None,
         plots: Annotated[bool, typer.Option("--plots/--no-plots",
                                             help="Write a PNG of the curves to results/plots/.")] = True,
         json_output: JsonFlag = False):
@@ -107,6 +109,12 @@ def life_command(
         err_console.print(f"Zone {zone}: t_i median {c.initiation_median:.1f} yr, i_corr median "
                           f"{c.rate_median:.3g} uA/cm2 ({c.origin}).", highlight=False,
                           markup=False)
+    from assess.site.life import section_loss_text
+
+    for c in life.main:
+        if c.section_loss:
+            err_console.print(f"{c.member}: {section_loss_text(c.section_loss)}.",
+                              highlight=False, markup=False)
     for path in figure_paths:
         err_console.print(f"Plot: {path}", highlight=False, markup=False)
     print_caution()

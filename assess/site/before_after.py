@@ -27,6 +27,7 @@ from assess.reliability.interval import (
     result_interval,
     sample_until_decided,
 )
+from assess.site.locations import knowledge_at
 from assess.site.member_models import build_member_model
 from assess.site.paths import has_ledger
 from assess.site.record import LedgerRow
@@ -285,16 +286,20 @@ def assess_members(
         own_target = member_target(site, member, target)
         if own_target is not target:
             notes.append(f"Member {member_id}: target {own_target.beta:.2f}, {own_target.source}.")
+        face = getattr(member, "tension_face", "bottom")
         models = {
             state: build_member_model(
                 site,
                 member,
-                knowledge[member.zone],
+                knowledge_at(knowledge[member.zone], local.get(member.zone), member_id, face),
                 reference_period_years=period,
                 car_park_use=use,
                 local=(getattr(update, f"{state}_local", None) or {}).get(member.zone),
             )
-            for state, knowledge in (("before", update.before), ("after", update.after))
+            for state, knowledge, local in (
+                ("before", update.before, update.before_local or {}),
+                ("after", update.after, update.after_local or {}),
+            )
         }
         keys = {
             state: member_payload(

@@ -61,6 +61,7 @@ from assess.site.dates import age_at, construction_date
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.settings import RunSettings
 from assess.updating.cache import cached_posterior
+from assess.updating.corrosion import BREAKOUT_QUANTILE, SPATIAL_LOG_SD
 from assess.updating.family_check import FAMILY_CHECK_FACTOR
 
 INITIATION_NAME = "initiation_time"
@@ -89,6 +90,11 @@ class CorrosionInputs:
     half_cell_effect : dict or None
         How much the half-cell readings moved t_i
         (`assess.updating.corrosion.CorrosionFit.half_cell_effect`).
+    spatial_log_sd : float
+        Scatter s of ln(local t_i) about the zone median t_i [-].
+    state_quantile : float
+        Quantile q of that scatter at which the critical section (and the
+        break-outs) are placed [-]; `local_factor` = exp(s Phi^-1(q)).
     """
 
     zone: str
@@ -101,6 +107,8 @@ class CorrosionInputs:
     source: str
     n_draws: int = 0
     half_cell_effect: dict | None = None
+    spatial_log_sd: float = SPATIAL_LOG_SD
+    state_quantile: float = BREAKOUT_QUANTILE
 
     def __post_init__(self):
         for name in ("initiation_log_sd", "rate_log_sd"):
@@ -183,6 +191,17 @@ class CorrosionInputs:
         )
 
     @property
+    def local_factor(self) -> float:
+        """t_i,q / t_i = exp(s Phi^-1(q)): local initiation time of the critical section [-].
+
+        The same quantile as the break-outs (`breakout_initiation_factor`), so that
+        the present state and the projection use one initiation time.
+        """
+        from assess.updating.corrosion import breakout_initiation_factor
+
+        return float(breakout_initiation_factor(self.state_quantile, self.spatial_log_sd))
+
+    @property
     def initiation_median(self) -> float:
         """Median of t_i [yr]."""
         return math.exp(self.initiation_log_mean)
@@ -237,6 +256,7 @@ class CorrosionInputs:
         out = dataclasses.asdict(self)
         out["initiation_median_years"] = self.initiation_median
         out["rate_median_ua_cm2"] = self.rate_median
+        out["local_factor"] = self.local_factor
         return out
 
 
@@ -615,12 +635,18 @@ def zone_corrosion_inputs(
     for zone_id in site.zones:
         if fit is not None and zone_id in tuple(fit.zones):
             draws = fit.zone_draws(zone_id)
-            out[zone_id] = CorrosionInputs.from_draws(
-                zone_id,
-                draws["initiation_time"],
-                draws["corrosion_rate"],
-                source=f"posterior of zone {zone_id} from break-outs and half-cell surveys "
-                "(MCMC; lognormal marginals, Gaussian copula)",
+            out[zone_id] = dataclasses.replace(
+                CorrosionInputs.from_draws(
+                    zone_id,
+                    draws["initiation_time"],
+                    draws["corrosion_rate"],
+                    source=f"posterior of zone {zone_id} from break-outs and half-cell surveys "
+                    "(MCMC; lognormal marginals, Gaussian copula)",
+                ),
+                spatial_log_sd=float(
+                    getattr(fit, "spatial_log_sd", {}).get(zone_id, SPATIAL_LOG_SD)
+                ),
+                state_quantile=float(getattr(fit, "breakout_quantile", BREAKOUT_QUANTILE)),
             )
             failed = _lognormal_checks(out[zone_id], draws)
             if failed:
@@ -639,8 +665,10 @@ def zone_corrosion_inputs(
         elif initiation is not None and (
             zone_id in initiation.chloride or zone_id in initiation.carbonation
         ):
-            prior, _ = initiation_prior(site, zone_id, initiation, seed=seed, n=prior_samples)
-            out[zone_id] = CorrosionInputs.from_prior(zone_id, prior)
+            prior, scatter = initiation_prior(site, zone_id, initiation, seed=seed, n=prior_samples)
+            out[zone_id] = dataclasses.replace(
+                CorrosionInputs.from_prior(zone_id, prior), spatial_log_sd=float(scatter)
+            )
         else:
             out[zone_id] = CorrosionInputs.from_prior(
                 zone_id, prior_corrosion(site, zone_id, n=prior_samples, seed=seed)

@@ -15,6 +15,7 @@ import datetime as dt
 from typing import Any
 
 from assess.site.before_after import assess_members
+from assess.site.corrosion_state import present_state
 from assess.site.materials import update_site
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
@@ -101,6 +102,11 @@ def reassess_history(
         if same_runs and update.data_hash == current.posterior_hash:
             assessment = current
         else:
+            # today's section loss per face with the data known then (break-outs, pits);
+            # corrosion rates and initiation times from the priors (no fit per cut-off)
+            update, _ = present_state(
+                site, update, None, pitting=settings.pitting, seed=settings.seed, until_date=until
+            )
             assessment = assess_members(
                 site,
                 update,

@@ -192,6 +192,48 @@ def weak_lognormal_gamma(mean: float, std: float, n: float, nu: float, source: s
     return weak_normal_gamma(math.log(mean) - 0.5 * s_ln * s_ln, s_ln, n, nu, source=source)
 
 
+#: Corrosion-loss prior of the area ratio at break-outs (the prior of the update with
+#: section-loss data): a vague mean (n' = 0.1) and a within-zone scatter s' = 0.05 with
+#: nu' = 4 (judgement: caliper reading error and the scatter of loss between break-outs of
+#: one zone, the scale of `assess.updating.corrosion.RATIO_SD_SCALE`).
+CORROSION_LOSS_N, CORROSION_LOSS_S, CORROSION_LOSS_NU = 0.1, 0.05, 4.0
+
+
+def corrosion_loss_prior() -> NormalGamma:
+    """Prior of the area ratio A_res/A0 measured at break-outs of corroding bars [-].
+
+    The manufacturing tolerance of the bar area (JCSS PMC Part 3.2, CoV 0.02 about 1)
+    describes a new bar, not one that has corroded for decades: used as the prior
+    of measured loss it pulls the loss back towards "no corrosion". At break-outs
+    the mean is left to the data (n' = 0.1, i.e. a tenth of one break-out), and
+    the scatter between break-outs of a zone has a weak prior s' = 0.05, nu' = 4
+    (judgement; the half-normal scale of the measurement sd in the corrosion update,
+    `RATIO_SD_SCALE`). The centre 1 only matters for zones without break-outs,
+    which keep their design prior.
+    """
+    return NormalGamma.from_jcss(
+        1.0,
+        CORROSION_LOSS_N,
+        CORROSION_LOSS_S,
+        CORROSION_LOSS_NU,
+        source="corrosion-loss prior of measured area ratios: vague mean (n' = 0.1), "
+        "scatter s' = 0.05, nu' = 4 (judgement)",
+        log_scale=False,
+    )
+
+
+def update_priors(before: dict) -> dict:
+    """Priors of the materials update: the design priors, with `corrosion_loss_prior`
+    in place of the manufacturing tolerance of the area ratio."""
+    loss = corrosion_loss_prior()
+    return {z: {**qs, "area_ratio": loss} for z, qs in before.items()}
+
+
+#: Quantities whose "after" stays the design prior in zones without their data (the
+#: update's prior for them describes measured damage, not the design state).
+DESIGN_STATE_WITHOUT_DATA = ("area_ratio",)
+
+
 OVERRIDE_SOURCE = "site file [priors] override"
 
 #: Prior weight of an overridden concrete prior: the equivalent sample size n' and
@@ -359,7 +401,10 @@ def design_knowledge(site) -> dict[str, dict[str, NormalGamma]]:
       judgement: the scatter of cover is well described by JCSS, its mean is not);
       per member and face: `cover_layer_priors`;
     - area_ratio: JCSS PMC Part 3.2 bar area, mean 1 (no section loss known at
-      design), CoV 0.02, with a weak mean (n' = 0.5) so measured loss governs.
+      design), CoV 0.02, n' = 0.5: the manufacturing tolerance of a new bar. The
+      materials update of measured section loss uses `corrosion_loss_prior` instead;
+      today's loss where no break-out was opened comes from the corrosion model
+      (`assess.site.corrosion_state`).
 
     Overrides: the site file's optional ``[priors]`` table (`inspection_io.site.Priors`)
     replaces the concrete prior (`concrete_override`), the steel prior (same n', nu'

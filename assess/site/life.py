@@ -19,7 +19,11 @@ EXPLANATION = (
     "beta(t) is the annual reliability index of year t: the annual maximum load "
     "against the resistance of year t, with the bars corroding after the assessment "
     "date by Faraday's law from the zone's corrosion initiation time and rate "
-    "(updated with break-outs and half-cell surveys). It is compared with the annual "
+    "(updated with break-outs and half-cell surveys), at the same spot (spatial "
+    "quantile) as today's state; where no break-out was opened on a member's bar face, "
+    "today's section loss is that of the corrosion model since initiation. Pitting "
+    "(Gumbel pitting factor, updated with measured pits) acts on chloride-exposed faces "
+    "and where pits were measured. It is compared with the annual "
     "target. Two bands, for two things: the parameter band is the 5 % to 95 % spread of "
     "beta(t) and of the remaining life over what the tests leave uncertain about the "
     "populations (means and spreads of concrete, steel, cover, bar area) and the zone's "
@@ -31,6 +35,18 @@ EXPLANATION = (
 )
 
 
+def section_loss_text(note: dict) -> str:
+    """Plain words: face, source of today's state and whether pitting governs."""
+    if not note:
+        return ""
+    source = note.get("present_state_from", "")
+    if not note.get("pitting"):
+        return f"{note.get('face', '')} bars, today from {source}; uniform loss (no pitting)"
+    now = "pitting governs" if note.get("pitting_governs_now") else "uniform loss governs"
+    later = "pitting" if note.get("pitting_governs_horizon") else "uniform loss"
+    return f"{note.get('face', '')} bars, today from {source}; {now} (at horizon: {later})"
+
+
 @dataclasses.dataclass
 class SiteLife:
     """Corrosion inputs per zone, the curves per member and mode, and their summary."""
@@ -40,7 +56,7 @@ class SiteLife:
     main: list
     horizon_years: float
     n_samples: int
-    pitting: bool
+    pitting: bool | None
     posterior_hash: str
     explanation: str = EXPLANATION
     notes: list = dataclasses.field(default_factory=list)
@@ -59,6 +75,7 @@ class SiteLife:
                 "remaining life": c.remaining_life.text().split(" (")[0],
                 "parameter band (90 %)": c.remaining_life.parameter_text(),
                 "sampling band": c.remaining_life.sampling_text(),
+                "section loss": section_loss_text(c.section_loss),
                 "reference": "annual",
             }
             for c in self.main
@@ -286,12 +303,22 @@ def compute_site_life(
         The members' before/after result of the same run: each curve's value at the
         assessment date becomes the members' beta after (`anchor_to_members`).
     """
+    from assess.site.corrosion_state import present_state
     from assess.site.projection import governing_curves, project_site
 
     settings = settings or RunSettings()
+    update, state = present_state(
+        site,
+        update,
+        corrosion,
+        pitting=settings.pitting,
+        seed=settings.seed,
+        until_date=update.until_date,
+    )
     curves = project_site(
         site,
         update,
+        state=state,
         corrosion=corrosion,
         members=members,
         horizon_years=settings.horizon_years,
@@ -320,4 +347,5 @@ __all__ = [
     "anchor_to_members",
     "compute_site_life",
     "members_from_ledger",
+    "section_loss_text",
 ]

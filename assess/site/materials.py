@@ -31,7 +31,12 @@ from assess.site.cover_layers import (
     cover_after_local,
     cover_layout,
 )
-from assess.site.knowledge import QUANTITIES, design_knowledge
+from assess.site.knowledge import (
+    DESIGN_STATE_WITHOUT_DATA,
+    QUANTITIES,
+    design_knowledge,
+    update_priors,
+)
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
 from assess.site.settings import RunSettings
@@ -412,7 +417,8 @@ def update_site(
         # the zone-level cover is that of the zone's main face (most readings)
         for zone in site.zones:
             before[zone]["cover"] = before_local[zone][(None, layout.main_face(zone))]["cover"]
-    payload = _payload(site, data, before, settings, include_flagged, layout)
+    priors = update_priors(before)
+    payload = _payload(site, data, priors, settings, include_flagged, layout)
     data_hash = content_hash("materials", payload)
     if all(df.empty for df in data.values()):
         return SiteUpdate(
@@ -431,7 +437,7 @@ def update_site(
             excluded=excluded,
         )
 
-    joint = _build_joint_model(site, data, before, layout)
+    joint = _build_joint_model(site, data, priors, layout)
     names = free_parameter_names(joint)
     what = "zone materials (cores, tensile tests, cover, section loss)"
 
@@ -458,6 +464,8 @@ def update_site(
         if data[name].empty:
             continue
         for zone in site.zones:
+            if name in DESIGN_STATE_WITHOUT_DATA and not (data[name]["zone"] == zone).any():
+                continue  # no break-out here: the design state (corrosion_state adds the loss)
             mu, sigma = group_draws(idata, zone, name=name)
             after[zone][name] = NormalGamma.fit_draws(
                 mu,

@@ -2,16 +2,21 @@
 
 Model
 -----
-At the assessment date t0 the residual bar area ratio of a member is the
-"after" population of the site update (measured break-outs), r0. Later it is
+At the assessment date t0 the residual bar area ratio of a member's bars is r0,
+the "after" population of the site update for the member's tension face
+(`assess.site.locations.knowledge_at`; today's state per face from
+`assess.site.corrosion_state`: break-outs where they were opened on that face,
+else the corrosion model's loss since initiation). Later it is
 
-    r(t) = r0 A(t) / A(t0),   A(t) = max(1 - 2 P(t) / D0, 0)^2,
-    P(t) = 0.0116 i_corr max(age(t) - t_i, 0)  [mm]
+    r(t) = r0 A(t) / A(t0),   A(t) = max(1 - 2 P(t) / D0, 0)^2 Pi(t),
+    P(t) = 0.0116 i_corr max(age(t) - t_i,q, 0)  [mm]
 
-(uniform corrosion by Faraday's law, `assess.deterioration.corrosion`), with the
-zone's corrosion initiation time t_i [yr of age] and corrosion rate i_corr
-[uA/cm2] as two more random variables of the member model
-(`assess.site.corrosion`). Hence beta(t0) is the "after" beta of
+(uniform corrosion by Faraday's law, `assess.deterioration.corrosion`; Pi the share
+left after the deepest pit where pitting is on), with the zone's corrosion
+initiation time t_i [yr of age] and corrosion rate i_corr [uA/cm2] as random
+variables of the member model (`assess.site.corrosion`), t_i,q = t_i
+exp(s Phi^-1(q)) the initiation time of the critical section at the same spatial
+quantile q as the present state. Hence beta(t0) is the "after" beta of
 `assess.site.before_after.assess_members` by construction, and beta(t)
 cannot increase while only deterioration acts.
 
@@ -80,15 +85,15 @@ import numpy as np
 from scipy import stats
 from scipy.special import logsumexp
 
-from assess.deterioration.corrosion import (
-    penetration_depth,
-    residual_area_ratio,
-    time_since_initiation,
-)
 from assess.errors import AnalysisError, InputError
 from assess.reliability.crude import check_int, resolve_seed
 from assess.reliability.form import form
 from assess.site.corrosion import INITIATION_NAME, RATE_NAME, age_at
+from assess.site.corrosion_state import PITTING_NAME, area_path, present_state
+
+#: Suffix of the corrosion variables of the top bars of a continuous member whose top
+#: face has its own corrosion state (initiation_time_top, ...).
+TOP_SUFFIX = "_top"
 
 ANNUAL_NOTE = (
     "annual reliability index: failure in year t under the annual maximum load "
@@ -154,7 +159,8 @@ def parameter_names(model) -> list:
     return [
         n
         for n in model.random_names
-        if n.endswith(PARAMETER_SUFFIXES) or n in (INITIATION_NAME, RATE_NAME)
+        if n.endswith(PARAMETER_SUFFIXES)
+        or n in (INITIATION_NAME, RATE_NAME, INITIATION_NAME + TOP_SUFFIX, RATE_NAME + TOP_SUFFIX)
     ]
 
 
@@ -600,6 +606,10 @@ class LifeCurve:
     anchor : dict
         How the curve was tied to the members' "after" result at the assessment
         date (`assess.site.life.anchor_to_members`); empty when it was not.
+    section_loss : dict
+        Face of the bars, where today's state comes from (break-outs or the
+        corrosion model), and whether pitting or uniform loss governs the section
+        loss today and at the horizon (`assess.site.corrosion_state.pitting_note`).
     """
 
     member: str
@@ -629,6 +639,7 @@ class LifeCurve:
     parameter_upper: np.ndarray | None = None
     parameter_draws: int = 0
     anchor: dict = dataclasses.field(default_factory=dict)
+    section_loss: dict = dataclasses.field(default_factory=dict)
 
     @property
     def beta_now(self) -> float:
@@ -686,10 +697,8 @@ class LifeCurve:
             "warnings": list(self.warnings),
             "checks": self.checks,
             "anchor": self.anchor,
+            "section_loss": self.section_loss,
         }
-
-
-PITTING_NAME = "pitting_factor"
 
 
 def area_factor(
@@ -699,31 +708,30 @@ def area_factor(
     age_now_years: float,
     bar_diameter_mm: float,
     pitting_factor=None,
+    *,
+    local_factor: float = 1.0,
 ):
-    """A(age) / A(age_now) of a bar under Faraday corrosion [-].
+    """A(age) / A(age_now) of a bar at the critical section [-].
 
-    Uniform corrosion by default. With ``pitting_factor`` R the bar also carries
-    its deepest pit, R times the uniform penetration deep (Val & Melchers 1997
-    pit geometry, `residual_area_ratio` rule "uniform_then_pit"). Exactly 1 at
+    Uniform Faraday corrosion from the critical section's initiation time
+    ``local_factor`` x t_i (the spatial quantile of the present state,
+    `CorrosionInputs.local_factor`). With ``pitting_factor`` R the bar also carries
+    its deepest pit, R times the uniform penetration deep (Val & Melchers 1997 pit
+    geometry, `residual_area_ratio` rule "uniform_then_pit"). Exactly 1 at
     ``age_years == age_now_years``; 0 where the bar is already consumed at
-    ``age_now`` (then nothing is left to lose, and the model's measured state is
-    taken as lost at once - a conservative edge case).
+    ``age_now`` (then nothing is left to lose, and the present state is taken as
+    lost at once - a conservative edge case). See
+    `assess.site.corrosion_state.area_path`.
     """
-
-    def ratio(age):
-        penetration = penetration_depth(corrosion_rate, time_since_initiation(age, initiation_time))
-        if pitting_factor is None:
-            return residual_area_ratio(bar_diameter_mm, penetration, rule="uniform")
-        return residual_area_ratio(
-            bar_diameter_mm, penetration, pitting_factor, rule="uniform_then_pit"
-        )
-
-    if age_years == age_now_years:
-        return np.ones(np.shape(initiation_time))
-    now = ratio(age_now_years)
-    later = ratio(age_years)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return np.where(now > 0.0, later / np.where(now > 0.0, now, 1.0), 0.0)
+    return area_path(
+        initiation_time,
+        corrosion_rate,
+        age_years,
+        age_now_years,
+        bar_diameter_mm,
+        local_factor,
+        pitting_factor,
+    )
 
 
 def deteriorating_limit_state(
@@ -732,12 +740,20 @@ def deteriorating_limit_state(
     age_now_years: float,
     mode_names: Sequence[str],
     pitting: bool = False,
+    *,
+    local_factor: float = 1.0,
+    top: tuple[float, float, bool] | None = None,
 ):
     """``limit_state_at(x, t)`` of a member whose bar area corrodes after the assessment.
 
     t is the time since the assessment date [yr]; ``x["area_ratio"]`` is scaled
     by `area_factor` before the member's mode functions are evaluated. With
     ``pitting`` the model must carry the variable ``pitting_factor``.
+
+    ``top`` = (bar diameter [mm], local factor [-], pitting) of the top bars of a
+    continuous member when their face has its own corrosion state: ``x["area_ratio_top"]``
+    then follows the variables ``TOP_SUFFIX``-named initiation time, rate (and pitting
+    factor); without it the top bars follow the main face.
     """
     funcs = [member_model.modes[m] for m in mode_names]
 
@@ -749,11 +765,24 @@ def deteriorating_limit_state(
             age_now_years,
             bar_diameter_mm,
             x[PITTING_NAME] if pitting else None,
+            local_factor=local_factor,
         )
         shifted = dict(x)
         shifted["area_ratio"] = x["area_ratio"] * factor
-        if "area_ratio_top" in x:  # top bars of a continuous member: same zone rate
-            shifted["area_ratio_top"] = x["area_ratio_top"] * factor
+        if "area_ratio_top" in x:
+            if top is None:  # top bars of a continuous member: the main face's rate
+                shifted["area_ratio_top"] = x["area_ratio_top"] * factor
+            else:
+                diameter, top_local, top_pits = top
+                shifted["area_ratio_top"] = x["area_ratio_top"] * area_factor(
+                    x[INITIATION_NAME + TOP_SUFFIX],
+                    x[RATE_NAME + TOP_SUFFIX],
+                    age_now_years + float(t),
+                    age_now_years,
+                    diameter,
+                    x[PITTING_NAME + TOP_SUFFIX] if top_pits else None,
+                    local_factor=top_local,
+                )
         return np.column_stack([f(shifted) for f in funcs])
 
     return limit_state_at
@@ -787,8 +816,9 @@ def project_member(
     seed: int = 20261202,
     check_years: Sequence[float] = (),
     check_samples: int = 1000,
-    pitting: bool = False,
+    pitting: bool | None = None,
     parameter_draws: int = PARAMETER_DRAWS,
+    state: dict | None = None,
 ) -> list:
     """Annual beta(t) and remaining life of every mode and the system of one member.
 
@@ -797,9 +827,11 @@ def project_member(
     site : inspection_io.site.Site
     member_id : str
     update : SiteUpdate
-        Its ``after`` knowledge gives the state at the assessment date.
+        Its ``after`` knowledge (with ``after_local``, `knowledge_at` the member's
+        tension face) gives the state at the assessment date.
     corrosion : dict, optional
         Zone -> `CorrosionInputs`; default the priors of `zone_corrosion_inputs`.
+        Used only without ``state``.
     horizon_years : float, default 50
         Length of the projection from the assessment date [yr].
     step_years : float, default 1
@@ -813,11 +845,15 @@ def project_member(
         subset simulation as a cross-check (stored in ``checks``).
     check_samples : int
         Samples per subset level of the cross-checks [-].
-    pitting : bool, default False
-        Add the deepest pit of each bar at the critical section: pit depth R times
-        the uniform penetration with R ~ Gumbel (Stewart 2004, `assess.deterioration.
-        corrosion.pitting_factor_distribution`). On the safe side: it assumes every
-        bar's deepest pit lies in the critical section.
+    pitting : bool, optional
+        Each bar's deepest pit at the critical section: pit depth R times the
+        uniform penetration, R ~ Gumbel updated with the face's measured pits
+        (`assess.deterioration.pitting`). None: on chloride-exposed faces and where
+        pits were measured; True everywhere; False nowhere. On the safe side: every
+        bar's deepest pit is taken in the critical section. Used only without ``state``.
+    state : dict, optional
+        (zone, face) -> `FaceCorrosion` (`assess.site.corrosion_state`); with it,
+        ``update`` must already carry the present state (`present_state`).
     parameter_draws : int
         Parameter draws of the parameter band (0: no parameter band) [-].
 
@@ -827,7 +863,7 @@ def project_member(
         One per mode, then ``"system"`` when the member has several modes.
     """
     from assess.reliability.subset import subset_simulation
-    from assess.site.corrosion import zone_corrosion_inputs
+    from assess.site.corrosion_state import critical_length_mm, pitting_note
     from assess.site.member_models import build_member_model
     from assess.targets import mode_target, system_target
 
@@ -843,9 +879,14 @@ def project_member(
             column="horizon",
         )
     member = site.members[member_id]
-    if corrosion is None:
-        corrosion = zone_corrosion_inputs(site, seed=seed)
-    inputs = corrosion[member.zone]
+    if state is None:
+        update, state = present_state(
+            site, update, corrosion, pitting=pitting, seed=seed, until_date=update.until_date
+        )
+    face = getattr(member, "tension_face", None) or "bottom"
+    face_state = state[(member.zone, face)]
+    inputs = face_state.inputs
+    # each bar layer takes today's state of its own face (`knowledge_at` inside the model)
     member_model = build_member_model(
         site,
         member,
@@ -854,20 +895,43 @@ def project_member(
         local=(getattr(update, "after_local", None) or {}).get(member.zone),
     )
     inputs.add_to_model(member_model.model)
-    if pitting:
-        from assess.deterioration.corrosion import pitting_factor_distribution
-        from assess.distributions import make_distribution
-
-        gumbel = pitting_factor_distribution()  # frozen scipy gumbel_r(loc=..., scale=...)
-        location, scale = gumbel.kwds["loc"], gumbel.kwds["scale"]
-        member_model.model.add(
-            PITTING_NAME, make_distribution("gumbel", loc=location, scale=scale, name=PITTING_NAME)
+    with_pits = face_state.pitting is not None
+    if with_pits:
+        face_state.pitting.add_to_model(
+            member_model.model, PITTING_NAME, critical_length_mm(member)
         )
+    top = None
+    top_state = state.get((member.zone, "top"))
+    if "top" in getattr(member_model, "layers", {}) and face != "top" and top_state is not None:
+        top_state.inputs.add_to_model(
+            member_model.model, INITIATION_NAME + TOP_SUFFIX, RATE_NAME + TOP_SUFFIX
+        )
+        top_pits = top_state.pitting is not None
+        if top_pits:
+            top_state.pitting.add_to_model(
+                member_model.model, PITTING_NAME + TOP_SUFFIX, critical_length_mm(member)
+            )
+        top_diameter = float(getattr(member, "top_bar_diameter", None) or member.bar_diameter)
+        top = (top_diameter, top_state.inputs.local_factor, top_pits)
     mode_names = list(member_model.modes)
     age_now = age_at(site, site.site.assessment_date)
     limit_state_at = deteriorating_limit_state(
-        member_model, float(member.bar_diameter), age_now, mode_names, pitting=pitting
+        member_model,
+        float(member.bar_diameter),
+        age_now,
+        mode_names,
+        pitting=with_pits,
+        local_factor=inputs.local_factor,
+        top=top,
     )
+    section_loss = {
+        "face": face,
+        "present_state_from": "break-outs" if face_state.measured else "corrosion model",
+        "breakouts_on_face": face_state.breakouts,
+        "local_factor": inputs.local_factor,
+        "state_quantile": inputs.state_quantile,
+        **pitting_note(site, member, face_state, horizon_years, seed=_member_seed(seed, member_id)),
+    }
     n_steps = int(round(horizon_years / step_years))
     times = np.arange(n_steps + 1) * float(step_years)
     groups = {name: [j] for j, name in enumerate(mode_names)}
@@ -941,6 +1005,7 @@ def project_member(
                 parameter_lower=band[0],
                 parameter_upper=band[1],
                 parameter_draws=len(next(iter(estimate.parameter_pf.values()), ())),
+                section_loss=section_loss,
             )
         )
     system = curves[-1]
@@ -976,20 +1041,24 @@ def project_site(
     seed: int = 20261202,
     check_years: Sequence[float] = (),
     progress: Callable[[str], None] | None = None,
-    pitting: bool = False,
+    pitting: bool | None = None,
     parameter_draws: int = PARAMETER_DRAWS,
+    state: dict | None = None,
     cache: bool = True,
 ) -> list:
     """`project_member` for every member (or those given); curves of all modes and systems.
 
     With ``cache`` (an imported site), each member's curves are stored under a hash of its
-    model, knowledge, corrosion inputs, settings and code (`assess.site.result_cache`) and
-    read back when nothing changed.
-    """
-    from assess.site.corrosion import zone_corrosion_inputs
+    model, knowledge (today's corrosion state included), corrosion inputs, settings and
+    code (`assess.site.result_cache`) and read back when nothing changed.
 
-    if corrosion is None:
-        corrosion = zone_corrosion_inputs(site, seed=seed)
+    Without ``state`` the present corrosion state is built once (`present_state`);
+    with it, ``update`` must already carry it.
+    """
+    if state is None:
+        update, state = present_state(
+            site, update, corrosion, pitting=pitting, seed=seed, until_date=update.until_date
+        )
     chosen = list(members) if members else list(site.members)
     unknown = [m for m in chosen if m not in site.members]
     if unknown:
@@ -1012,7 +1081,9 @@ def project_site(
                 update.after[member.zone],
                 local=(getattr(update, "after_local", None) or {}).get(member.zone),
             ),
-            "corrosion": corrosion.get(member.zone),
+            "corrosion": {
+                "/".join(key): value for key, value in state.items() if key[0] == member.zone
+            },
             "projection": [
                 horizon_years,
                 step_years,
@@ -1039,8 +1110,8 @@ def project_site(
                     n_samples=n_samples,
                     seed=seed,
                     check_years=check_years,
-                    pitting=pitting,
                     parameter_draws=parameter_draws,
+                    state=state,
                 ),
             )
         )

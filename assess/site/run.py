@@ -190,7 +190,7 @@ def _members(run: SiteRun):
     from assess.site.before_after import assess_members
     from assess.site.design_check import design_check_warnings
 
-    update = run.step("materials")
+    update = _with_present_corrosion(run, run.step("materials"))
     for message in design_check_warnings(run.site):
         warnings.warn(message, UserWarning, stacklevel=2)
     return assess_members(
@@ -202,6 +202,38 @@ def _members(run: SiteRun):
         members=run.members,
         max_calls=run.settings.max_calls_per_verdict,
     )
+
+
+def _with_present_corrosion(run: SiteRun, update):
+    """``update`` with today's section loss per face (`assess.site.corrosion_state`).
+
+    The corrosion step's inputs when the run includes the life step (which needs
+    the corrosion fit anyway), else the corrosion priors (no MCMC); a failed
+    corrosion fit does not stop the members table.
+    """
+    from assess.site.corrosion import zone_corrosion_inputs
+    from assess.site.corrosion_state import present_state
+
+    inputs = None
+    if run.settings.life:
+        try:
+            inputs = run.step("corrosion").inputs
+        except (StepUnavailable, AnalysisError):
+            run.add_warning(
+                "today's section loss per face uses the corrosion priors: the corrosion fit "
+                "did not run"
+            )
+    if inputs is None:
+        inputs = zone_corrosion_inputs(run.site, seed=run.settings.seed)
+    present, _ = present_state(
+        run.site,
+        update,
+        inputs,
+        pitting=run.settings.pitting,
+        seed=run.settings.seed,
+        until_date=update.until_date,
+    )
+    return present
 
 
 def _corrosion(run: SiteRun):

@@ -130,8 +130,9 @@ class RunSettings:
         Years projected from the assessment date [yr].
     history, life, worth : bool
         Whether the main job runs these steps.
-    pitting : bool
-        Pitting in the remaining-life curves.
+    pitting : bool or None
+        Pitting of the bars: None (default) on chloride-exposed faces and where pits
+        were measured (`assess.site.corrosion_state`), True everywhere, False nowhere.
     verdict_calls : int or None
         Budget of limit-state calls per member verdict (default by ``quick``); 0 = one run
         per estimate, never repeated [-].
@@ -148,7 +149,7 @@ class RunSettings:
     history: bool = True
     life: bool = True
     worth: bool = True
-    pitting: bool = False
+    pitting: bool | None = None
     verdict_calls: int | None = None
 
     def __post_init__(self):
