@@ -33,22 +33,24 @@ def lognormal_of(population):
 
 def test_layer_priors_are_the_jcss_deviations_of_that_face(site):
     # JCSS PMC Part 3.10 (read): slab bottom deviation mean 0..10 mm (midpoint +5), sd 5..10
-    # (7.5); slab top +10 mm, sd 10 mm. S2-05: one-way slab, cover 25 mm on its bottom bars;
-    # its top readings take the same nominal (no top_cover in the site file).
+    # (7.5); slab top +10 mm, sd 10 mm. S2-05: one-way slab, cover 25 mm on its bottom bars,
+    # continuous with top bars at top_cover 30 mm (the demo's site file).
+    assert (site.members["S2-05"].cover, site.members["S2-05"].top_cover) == (25, 30)
     priors = cover_layer_priors(site, "L2", extra=[("S2-05", "top")])
     bottom = lognormal_of(priors[("S2-05", "bottom")])
     assert bottom.mean() == pytest.approx(25.0 + 5.0, rel=1e-12)
     assert bottom.std() == pytest.approx(7.5, rel=1e-12)
     top = lognormal_of(priors[("S2-05", "top")])
-    assert top.mean() == pytest.approx(25.0 + 10.0, rel=1e-12)
+    assert top.mean() == pytest.approx(30.0 + 10.0, rel=1e-12)
     assert top.std() == pytest.approx(10.0, rel=1e-12)
     # C2-B3: flat-slab connection, main bars on top, cover 30 mm -> slab top row
     assert lognormal_of(priors[("C2-B3", "top")]).mean() == pytest.approx(40.0, rel=1e-12)
     # (None, top): mixture of the two top layers: mean of the means, variance = mean
     # variance + variance of the means (law of total variance)
     pooled = lognormal_of(priors[(None, "top")])
-    assert pooled.mean() == pytest.approx(37.5, rel=1e-12)
-    assert pooled.std() == pytest.approx(math.sqrt(100.0 + 2.5**2), rel=1e-12)
+    assert pooled.mean() == pytest.approx(40.0, rel=1e-12)
+    # both top layers have mean 40 mm: the variance of the means is zero
+    assert pooled.std() == pytest.approx(math.sqrt(100.0 + 0.0**2), rel=1e-12)
     for ng in priors.values():
         assert (ng.n, ng.nu) == pytest.approx((COVER_N, COVER_NU))
         # lognormal: no cover at or below zero (JCSS PMC 3.10 advises against the normal)
