@@ -103,6 +103,10 @@ RANGES: dict[str, Plausible] = {r.quantity: r for r in (
     Plausible("failure_load", "failure load", "kN", (0.05, 20000.0), (5.0, 5000.0),
               "common practice: a 150 mm core at 250 MPa fails at 4400 kN; the strength from "
               "the load is checked as core strength"),
+    Plausible("grid_coordinate", "grid coordinate", "m", (-10000.0, 10000.0),
+              (-1000.0, 1000.0),
+              "common practice: a survey grid lies on one structure, a few hundred metres at "
+              "most from its origin"),
     Plausible("cover", "cover", "mm", (0.0, 300.0), (0.0, 120.0),
               "common practice: nominal covers 15-75 mm (EN 1992-1-1 4.4.1, from memory); "
               "cover meters read to about 150-200 mm; a zero cover (bar exposed at a spall) is "

@@ -9,7 +9,6 @@ import dataclasses
 import json
 import math
 import shutil
-import types
 from pathlib import Path
 
 import numpy as np
@@ -64,7 +63,9 @@ def update_of(site, shift=0.0):
         }
         for zone, pops in before.items()
     }
-    return types.SimpleNamespace(before=before, after=after, data_hash="test")
+    from assess.site.materials import SiteUpdate
+
+    return SiteUpdate(before, after, {}, None, None, "test", False, None, None)
 
 
 def table(site, update, **kwargs):

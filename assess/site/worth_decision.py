@@ -251,10 +251,31 @@ class ConditionalReliability:
                 with warnings.catch_warnings():
                     warnings.simplefilter("ignore")
                     result = form(problem)
+                    if not (result.converged and math.isfinite(result.beta)):
+                        # FORM need not converge on a mode with a heavy parameter tail
+                        # (e.g. cover on ln c): the beta of that point by subset simulation
+                        result = _sampled_beta(problem, seed=1000 * i + j)
                 self.n_calls += result.n_calls
                 betas[i, j] = result.beta
                 converged[i, j] = bool(result.converged) and math.isfinite(result.beta)
         return betas, converged
+
+
+#: Subset simulation that stands in for FORM where FORM does not converge: samples per
+#: level [-] and the largest CoV of its pf estimate accepted for the surrogate [-].
+FALLBACK_SAMPLES, FALLBACK_MAX_COV = 1000, 0.3
+
+
+def _sampled_beta(problem, seed: int):
+    """Beta of one design point by subset simulation, accepted as converged when its CoV is
+    at most `FALLBACK_MAX_COV` (beyond NEGLIGIBLE_BETA a larger CoV does not matter)."""
+    from assess.reliability.subset import subset_simulation
+
+    result = subset_simulation(problem, n_per_level=FALLBACK_SAMPLES, seed=seed)
+    accept = math.isfinite(result.beta) and (
+        result.cov <= FALLBACK_MAX_COV or result.beta > NEGLIGIBLE_BETA
+    )
+    return dataclasses.replace(result, converged=accept)
 
 
 def _one_column(function: Callable, x):

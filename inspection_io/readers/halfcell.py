@@ -19,8 +19,8 @@ COLUMNS = (
     Column("location_id", "text", required=True),
     Column("potential", "number", "potential", required=True, what="potential",
            plausible="potential"),
-    Column("x", "number", "position", what="grid coordinate x"),
-    Column("y", "number", "position", what="grid coordinate y"),
+    Column("x", "number", "position", what="grid coordinate x", plausible="grid_coordinate"),
+    Column("y", "number", "position", what="grid coordinate y", plausible="grid_coordinate"),
 )
 
 
