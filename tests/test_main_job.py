@@ -82,6 +82,26 @@ def test_every_member_has_a_system_beta_against_the_cc2_annual_target(job):
                 )
 
 
+def test_hogging_with_deck_top_loss_is_below_sagging_on_the_demo(job):
+    # Issue check: a continuous member of an exposed deck, whose top bars over the supports
+    # carry the deck-top section loss (break-outs with pits on the top face), is less
+    # reliable over its support than at midspan (bottom bars under the sheltered soffit).
+    # Decided by the estimators' own intervals: the hogging interval lies wholly below the
+    # flexure interval (`assess.reliability.interval`).
+    run, _, _, numbers = job
+    rows = {(r["member"], r["mode"]): r for r in numbers["numbers"]["members"]}
+    exposed = [
+        m.member_id
+        for m in run.site.members.values()
+        if getattr(m, "continuous", False)
+        and run.site.zones[m.zone].exposure == "exposed deck"
+    ]
+    assert exposed, "the demo has continuous members on its exposed decks"
+    for member in exposed:
+        hogging, sagging = rows[(member, "hogging")], rows[(member, "flexure")]
+        assert hogging["interval_after"][1] < sagging["interval_after"][0], member
+
+
 def test_system_beta_never_exceeds_its_weakest_mode(job):
     # A series system fails when any mode fails: pf_sys >= max pf_mode, within 3 CoV.
     _, _, _, numbers = job
