@@ -97,6 +97,11 @@ SURROGATE_WARNING_RMSE = 0.10
 SURROGATE_FAILURE_RMSE = 0.30
 #: Modes whose smallest design beta exceeds this carry no weight in pf [-].
 NEGLIGIBLE_BETA = 7.0
+
+#: A mode whose beta stays this far above the member's weakest mode at every design point
+#: adds less than about 1 % to the series-system pf there (Phi(-(b + 1.5)) / Phi(-b) < 0.01
+#: for b >= 2.2; closed form): its surrogate's quality does not decide the value [-].
+RELEVANCE_GAP = 1.5
 ALTERNATIVE_NAMES = {
     "keep": "keep as is",
     "repair": "repair",
@@ -263,7 +268,7 @@ class ConditionalReliability:
 
 #: Subset simulation that stands in for FORM where FORM does not converge: samples per
 #: level [-] and the largest CoV of its pf estimate accepted for the surrogate [-].
-FALLBACK_SAMPLES, FALLBACK_MAX_COV = 1000, 0.3
+FALLBACK_SAMPLES, FALLBACK_MAX_COV = 2000, 0.2
 
 
 def _sampled_beta(problem, seed: int):
@@ -877,7 +882,10 @@ def build_site_decision(
                     member_theta[design][ok], betas[ok, j], center, scale
                 )
                 surrogates[name][mode] = surrogate
-                relevant = betas[ok, j].min() < NEGLIGIBLE_BETA
+                # a mode matters for the member's (series-system) pf where it is not far
+                # above the weakest mode at the same populations: RELEVANCE_GAP in beta
+                gap = betas[ok, j] - betas[ok].min(axis=1)
+                relevant = betas[ok, j].min() < NEGLIGIBLE_BETA and gap.min() < RELEVANCE_GAP
                 if relevant and surrogate.loo_rmse_ > SURROGATE_FAILURE_RMSE:
                     raise AnalysisError(
                         f"the beta surrogate of '{name}', mode {mode}, member {member_id} is "
