@@ -89,8 +89,12 @@ def test_value_of_information_uses_the_life_curve_of_its_member(demo_job):
     curve = next((c for c in own if c["mode"] == "system"), own[0])  # governing curve
     horizon = worth["horizon_years"]
     keep = worth["keep_annual_pf_by_year"]
-    # mean over the draws of each year's annual pf = the life curve's pf (closed: same array)
-    assert sum(keep) == pytest.approx(sum(curve["pf"][:horizon]), rel=1e-6)
+    # mean over the draws of each year's annual pf = the life curve's pf (same array), except
+    # that a draw's annual pf is capped at 1 (np.clip in time_dependent_annual_pf): the cap
+    # can only lower the mean, by the capped mass (0.08 % on the demo's beam B3-04)
+    life_sum = sum(curve["pf"][:horizon])
+    assert sum(keep) <= life_sum * (1.0 + 1e-9)
+    assert sum(keep) >= 0.99 * life_sum
 
 
 def test_interval_by_the_delta_method_when_members_give_none():
