@@ -1,6 +1,6 @@
 """Time the site update and the before/after table on the demo site; print a table.
 
-Run:  /work/venv/bin/python benchmarks/update_demo.py
+Run:  python benchmarks/update_demo.py
 
 Works on temporary copies of demo_sites/tanners-yard (the repository copy is never
 touched). Measures:
