@@ -16,4 +16,25 @@ def format_beta(beta, *, no_failure: str = "> 8", minus_infinity: str = "-inf") 
     return f"{beta:.2f}"
 
 
-__all__ = ["format_beta"]
+def interval_text(
+    interval,
+    *,
+    beta=format_beta,
+    between: str = "{low}-{high}",
+    at_least: str = ">= {low}",
+    at_most: str = "<= {high}",
+) -> str:
+    """An interval of beta as text: ``between`` both ends; ``at_least`` when the upper end is
+    +inf (no failed sample), ``at_most`` when the lower end is -inf (pf may reach 1); "-"
+    when an end is missing or NaN (FORM, SORM). ``beta`` formats each end."""
+    low, high = interval
+    if low is None or high is None or math.isnan(low) or math.isnan(high):
+        return "-"
+    if math.isinf(high) and high > 0:
+        return at_least.format(low=beta(low))
+    if math.isinf(low) and low < 0:
+        return at_most.format(high=beta(high))
+    return between.format(low=beta(low), high=beta(high))
+
+
+__all__ = ["format_beta", "interval_text"]

@@ -8,7 +8,7 @@ from typing import Annotated
 import typer
 from rich.table import Table
 
-from assess.beta_text import format_beta
+from assess.beta_text import format_beta, interval_text
 from assess.cli.app import app, emit_json, err_console, guard, out_console, print_caution
 from assess.cli.options import (
     DrawsOption,
@@ -36,15 +36,10 @@ def _fmt_beta(value: float) -> str:
 
 
 def fmt_interval(interval) -> str:
-    """"(4.05-4.38)" for a 95 % interval of beta; "-" when there is none (FORM, SORM)."""
-    low, high = interval
-    if low is None or high is None or math.isnan(low) or math.isnan(high):
-        return "-"
-    if math.isinf(high) and high > 0:  # no failed sample: only a lower bound
-        return f"(>= {format_beta(low)})"
-    if math.isinf(low) and low < 0:  # pf may reach 1: only an upper bound
-        return f"(<= {format_beta(high)})"
-    return f"({format_beta(low)} - {format_beta(high)})"
+    """"(4.05 - 4.38)" for a 95 % interval of beta; "-" when there is none (FORM, SORM)."""
+    return interval_text(
+        interval, between="({low} - {high})", at_least="(>= {low})", at_most="(<= {high})"
+    )
 
 
 def _fmt_cov(value: float) -> str:

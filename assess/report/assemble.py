@@ -10,6 +10,7 @@ import dataclasses
 import math
 
 import assess
+from assess.beta_text import interval_text
 from assess.reliability.result import format_beta
 from assess.report.document import ReportDocument, Tag
 from assess.report.figures import (
@@ -42,14 +43,7 @@ def _fmt_beta(beta) -> str:
 
 
 def _fmt_interval(interval) -> str:
-    low, high = interval
-    if low is None or high is None or math.isnan(low) or math.isnan(high):
-        return "-"
-    if math.isinf(high) and high > 0:  # no failed sample: only a lower bound
-        return f">= {_fmt_beta(low)}"
-    if math.isinf(low) and low < 0:  # pf may reach 1: only an upper bound
-        return f"<= {_fmt_beta(high)}"
-    return f"{_fmt_beta(low)}-{_fmt_beta(high)}"
+    return interval_text(interval, beta=_fmt_beta)
 
 
 VARIABLE_WORDS = {
