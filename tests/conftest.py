@@ -78,3 +78,39 @@ def demo_job(demo_site, quick_settings):
 
     run, html_path, json_path = run_and_report(demo_site, quick_settings)
     return run, html_path, json_path, json.loads(json_path.read_text())
+
+
+DEMO_FIXTURES = ("demo_site", "demo_update", "demo_job")
+"""Session fixtures that run MCMC on the demo site (through the posterior cache)."""
+
+
+def pytest_xdist_make_scheduler(config, log):
+    """Scheduling for pytest-xdist (``--dist loadscope`` in pyproject.toml): by module, except
+    that every module using a demo fixture goes to one worker ("demo").
+
+    Session fixtures exist once per worker process, and so does the demo site's posterior
+    cache: on one worker the demo's MCMC runs once in the suite instead of once on each
+    worker. Grouping the other tests by module runs each module-scoped fixture (many sample
+    a small model) once. The controller does not collect, so a module counts as a demo
+    module when its text names a demo fixture.
+    """
+    if config.getvalue("dist") != "loadscope":
+        return None
+    import re
+
+    from xdist.scheduler import LoadScopeScheduling
+
+    uses_demo = re.compile(r"\b(" + "|".join(DEMO_FIXTURES) + r")\b")
+    root = Path(str(config.rootpath))
+    modules: dict[str, str] = {}
+
+    class DemoOnOneWorker(LoadScopeScheduling):
+        def _split_scope(self, nodeid: str) -> str:
+            module = nodeid.split("::", 1)[0]
+            if module not in modules:
+                path = root / module
+                text = path.read_text(encoding="utf-8") if path.is_file() else ""
+                modules[module] = "demo" if uses_demo.search(text) else module
+            return modules[module]
+
+    return DemoOnOneWorker(config, log)
