@@ -24,8 +24,10 @@ from __future__ import annotations
 import hashlib
 import os
 import re
+import tempfile
 import time
 from pathlib import Path
+from typing import Callable
 
 from inspection_io.errors import InputError
 
@@ -185,6 +187,33 @@ def site_subfolder(folder: str | os.PathLike, *parts: str) -> Path:
                 raise InputError(f"cannot create the folder: {exc.strerror}",
                                  file=path) from None
     return path
+
+
+def replace_atomically(path: str | os.PathLike, write: Callable[[str], None], *,
+                       suffix: str) -> None:
+    """Write a file all at once: ``write(tmp)`` fills a temporary file beside ``path``,
+    which then replaces ``path`` (`os.replace`); a killed run leaves ``.<stem>-*<suffix>``,
+    which `remove_stale_temporaries` clears later.
+
+    Parameters
+    ----------
+    path : path
+        The file to write (its folder is made when missing).
+    write : callable
+        ``write(tmp_name)`` writes the whole content to the file named ``tmp_name``.
+    suffix : str
+        Ending of the temporary name, e.g. ``".nc.tmp"``.
+    """
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=suffix, dir=path.parent)
+    os.close(fd)
+    try:
+        write(tmp)
+        os.replace(tmp, path)
+    finally:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
 
 
 def remove_stale_temporaries(folder: str | os.PathLike, pattern: str, *,

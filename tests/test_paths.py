@@ -14,6 +14,7 @@ from inspection_io.paths import (
     inside_site,
     is_inside,
     remove_stale_temporaries,
+    replace_atomically,
     safe_file_stem,
     site_subfolder,
 )
@@ -129,3 +130,20 @@ def test_remove_stale_temporaries_only_old_matching_files(tmp_path):
     assert remove_stale_temporaries(tmp_path, ".*.tmp", older_than=600) == [old]
     assert not old.exists() and young.exists() and other.exists()
     assert remove_stale_temporaries(tmp_path / "missing", ".*.tmp") == []
+
+
+def test_replace_atomically_keeps_the_old_file_when_the_writer_fails(tmp_path):
+    # common practice (write-then-rename): the old content survives a failed write and no
+    # temporary file is left behind; a successful write replaces it in one step
+    path = tmp_path / "sub" / "result.json"
+    replace_atomically(path, lambda tmp: open(tmp, "w").write("first"), suffix=".json.tmp")
+    assert path.read_text() == "first"
+
+    def half_then_fail(tmp):
+        open(tmp, "w").write("half")
+        raise OSError("disk full")
+
+    with pytest.raises(OSError):
+        replace_atomically(path, half_then_fail, suffix=".json.tmp")
+    assert path.read_text() == "first"
+    assert sorted(p.name for p in path.parent.iterdir()) == ["result.json"]

@@ -14,6 +14,7 @@ from typing import Callable
 from assess.pipeline import run_site
 from assess.report.assemble import build_report
 from assess.report.writer import recover_unfinished_reports, write_report
+from assess.site import result_cache
 from assess.site.paths import reports_folder
 from assess.site.settings import RunSettings
 from assess.updating.cache import clean_stale_temporaries
@@ -42,6 +43,7 @@ def run_and_report(folder: Path, settings: RunSettings | None = None, *,
     with site_lock(folder, wait_seconds=LOCK_WAIT_SECONDS):
         recover_unfinished_reports([reports_folder(folder)], older_than=0)
         clean_stale_temporaries(folder)
+        result_cache.clean_stale_temporaries(folder)
         run = run_site(folder, settings, say=say)
         if say:
             say("Writing the report")

@@ -20,8 +20,6 @@ import functools
 import hashlib
 import importlib
 import json
-import os
-import tempfile
 import warnings
 from pathlib import Path
 from typing import Any, Callable
@@ -163,15 +161,11 @@ def decode_result(text: str) -> ReliabilityResult:
 
 
 def _write_atomically(text: str, path: Path) -> None:
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=".json.tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as handle:
-            handle.write(text)
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+    from inspection_io.paths import replace_atomically
+
+    replace_atomically(
+        path, lambda tmp: Path(tmp).write_text(text, encoding="utf-8"), suffix=".json.tmp"
+    )
 
 
 def cached_value(site_folder: Path | None, kind: str, payload: dict, run: Callable[[], Any]):

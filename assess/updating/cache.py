@@ -17,7 +17,6 @@ import datetime as dt
 import hashlib
 import json
 import os
-import tempfile
 import warnings
 from pathlib import Path
 from typing import Any, Callable
@@ -88,15 +87,9 @@ def read_posterior(path: Path):
 
 def write_posterior(idata, path: Path) -> None:
     """Write ``idata`` to ``path`` atomically (temporary file, then rename)."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}-", suffix=".nc.tmp", dir=path.parent)
-    os.close(fd)
-    try:
-        idata.to_netcdf(tmp, engine="h5netcdf")
-        os.replace(tmp, path)
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+    from inspection_io.paths import replace_atomically
+
+    replace_atomically(path, lambda tmp: idata.to_netcdf(tmp, engine="h5netcdf"), suffix=".nc.tmp")
 
 
 def set_aside(path: Path) -> Path:
