@@ -36,13 +36,71 @@ def suite_seed():
 
 
 @pytest.fixture(scope="session")
-def demo_site(tmp_path_factory):
-    """Path of an imported copy of the demo site (shared; do not modify its files)."""
+def demo_site(tmp_path_factory, request):
+    """Path of an imported copy of the demo site (shared; do not modify its files).
+
+    Under pytest-xdist its posterior and reliability caches come from one seed run shared
+    by the workers (`_shared_demo_caches`), so the demo's MCMC runs once in the suite.
+    """
     from inspection_io.importing import import_site
 
     folder = tmp_path_factory.mktemp("demo") / "tanners-yard"
     shutil.copytree(DEMO, folder)
     import_site(folder)
+    seeded = _shared_demo_caches(tmp_path_factory, request.session.items)
+    if seeded is not None:
+        for part in CACHE_FOLDERS:
+            if (seeded / part).is_dir():
+                shutil.copytree(seeded / part, folder / part, dirs_exist_ok=True)
+    return folder
+
+
+CACHE_FOLDERS = (Path("results") / "posteriors", Path("results") / "reliability")
+"""Content-addressed caches of a site folder (`assess.updating.cache`,
+`assess.site.result_cache`): a file there is found only by the hash of its inputs."""
+
+
+def _shared_demo_caches(tmp_path_factory, items):
+    """Folder of a demo site whose caches hold what this session's demo tests need, made
+    once for all xdist workers (file lock, the pytest-xdist recipe for session fixtures);
+    None when not under xdist or when no test needs a demo fit.
+
+    Each worker keeps its own site folder and ledger; only the content-addressed caches are
+    copied, so every demo test sees the same numbers as with its own cold run (the warm
+    run's identity is tested in tests/test_result_cache.py).
+    """
+    if int(os.environ.get("PYTEST_XDIST_WORKER_COUNT", "1")) < 2:
+        return None
+    used = set().union(*(getattr(item, "fixturenames", ()) for item in items))
+    if "demo_job" in used:
+        what = "job"
+    elif "demo_update" in used:
+        what = "update"
+    else:
+        return None
+    from filelock import FileLock
+
+    shared = tmp_path_factory.getbasetemp().parent / f"demo-seed-{what}"
+    folder = shared / "tanners-yard"
+    with FileLock(str(shared) + ".lock"):
+        if not (shared / "done").exists():
+            from inspection_io.importing import import_site
+
+            shutil.rmtree(shared, ignore_errors=True)
+            shutil.copytree(DEMO, folder)
+            import_site(folder)
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                if what == "job":
+                    from assess.report.job import run_and_report
+
+                    run_and_report(folder, _quick_settings())
+                else:
+                    from assess.site.materials import update_site
+                    from inspection_io.site import load_site
+
+                    update_site(load_site(folder), settings=_quick_settings())
+            (shared / "done").write_text("ok")
     return folder
 
 
@@ -50,6 +108,10 @@ def demo_site(tmp_path_factory):
 def quick_settings():
     """The run settings every demo-site test uses (same hash -> shared posteriors):
     those of ``assess ... --quick --seed SUITE_SEED``."""
+    return _quick_settings()
+
+
+def _quick_settings():
     from assess.site.settings import RunSettings
 
     return RunSettings(seed=SUITE_SEED, quick=True)
@@ -79,38 +141,3 @@ def demo_job(demo_site, quick_settings):
     run, html_path, json_path = run_and_report(demo_site, quick_settings)
     return run, html_path, json_path, json.loads(json_path.read_text())
 
-
-DEMO_FIXTURES = ("demo_site", "demo_update", "demo_job")
-"""Session fixtures that run MCMC on the demo site (through the posterior cache)."""
-
-
-def pytest_xdist_make_scheduler(config, log):
-    """Scheduling for pytest-xdist (``--dist loadscope`` in pyproject.toml): by module, except
-    that every module using a demo fixture goes to one worker ("demo").
-
-    Session fixtures exist once per worker process, and so does the demo site's posterior
-    cache: on one worker the demo's MCMC runs once in the suite instead of once on each
-    worker. Grouping the other tests by module runs each module-scoped fixture (many sample
-    a small model) once. The controller does not collect, so a module counts as a demo
-    module when its text names a demo fixture.
-    """
-    if config.getvalue("dist") != "loadscope":
-        return None
-    import re
-
-    from xdist.scheduler import LoadScopeScheduling
-
-    uses_demo = re.compile(r"\b(" + "|".join(DEMO_FIXTURES) + r")\b")
-    root = Path(str(config.rootpath))
-    modules: dict[str, str] = {}
-
-    class DemoOnOneWorker(LoadScopeScheduling):
-        def _split_scope(self, nodeid: str) -> str:
-            module = nodeid.split("::", 1)[0]
-            if module not in modules:
-                path = root / module
-                text = path.read_text(encoding="utf-8") if path.is_file() else ""
-                modules[module] = "demo" if uses_demo.search(text) else module
-            return modules[module]
-
-    return DemoOnOneWorker(config, log)
