@@ -107,6 +107,7 @@ class SiteWorth:
             "ranking": self.summaries(),
             "recommendation": self.recommendation,
             "surrogate_leave_one_out_error": decision.surrogate_errors(),
+            "surrogate_member_beta_error": decision.member_surrogate_errors(),
             "form_calls": decision.form_calls,
             "notes": decision.notes,
             "outcomes": self.outcomes,
@@ -139,7 +140,14 @@ class SiteWorth:
         ]
 
     def largest_surrogate_error(self) -> float:
+        """Largest leave-one-out error of a mode's own beta surrogate [-]."""
         errors = self.decision.surrogate_errors()
+        return max((v for modes in errors.values() for v in modes.values()), default=math.nan)
+
+    def largest_member_error(self) -> float:
+        """Largest leave-one-out error of the member's beta owed to one mode's surrogate,
+        the figure the surrogate is judged by [-]."""
+        errors = self.decision.member_surrogate_errors()
         return max((v for modes in errors.values() for v in modes.values()), default=math.nan)
 
 
