@@ -162,3 +162,41 @@ def test_report_section_shows_plain_names_and_how_to_read_it():
     assert "failure samples of subset simulation" in html
     assert [d["member"] for d in numbers] == ["S3-02", "B1-02"]
     assert numbers[0]["importance"]["cover_top"] == 0.55
+    # beside the value of information: the populations in plain words
+    from assess.report.assemble import _population_shares
+
+    doc = ReportDocument("stub")
+    _population_shares(doc.add_section("Is more testing worth it"),
+                       {"alternative": "keep as is", "mode": "shear", "largest_correlation": 0.02,
+                        "shares": {"area_ratio": 0.6, "cover": 0.3, "concrete": 0.1}})
+    html = doc.to_html()
+    assert "Residual bar area ratio" in html and "Concrete cover" in html
+    assert "area_ratio" not in html and "approximate" not in html
+
+
+def test_population_shares_of_an_additive_beta_surrogate():
+    # beta = 3 + 0.5 z1 + 0.2 z5^2 in independent standard normal columns: Var = 0.25 (concrete
+    # mu) + 0.04 Var(z^2) = 0.08 (cover sigma), Var(z^2) = 2 for a standard normal (closed
+    # form); first-order = total for an additive model. The sample variances of N = 20,000
+    # draws are within about 4 sqrt(2/N) relative (4 standard errors of a variance).
+    from assess.site.drivers import population_shares
+    from assess.site.worth_decision import QuadraticSurrogate, zone_columns
+
+    rng = np.random.default_rng(31)
+    theta = rng.standard_normal((20_000, 8))
+    design = theta[:60]
+    beta = 3 + 0.5 * design[:, 0] + 0.2 * design[:, 5] ** 2
+    centre, scale = np.zeros(8), np.ones(8)
+    weak = QuadraticSurrogate.fit(design, beta, centre, scale)
+    strong = QuadraticSurrogate.fit(design, beta + 5.0, centre, scale)
+    decision = types.SimpleNamespace(
+        surrogates={"keep as is": {"shear": strong, "flexure": weak}},
+        member_theta=lambda: theta, member_columns=zone_columns("L1"))
+    found = population_shares(decision)
+    assert found["mode"] == "flexure"             # the mode that carries the pf
+    tolerance = 4 * math.sqrt(2 / theta.shape[0])
+    assert found["shares"]["concrete"] == pytest.approx(0.25 / 0.33, abs=tolerance)
+    assert found["shares"]["cover"] == pytest.approx(0.08 / 0.33, abs=tolerance)
+    assert found["shares"]["steel"] == pytest.approx(0.0, abs=1e-9)
+    assert list(found["shares"])[0] == "concrete"
+    assert found["largest_correlation"] < 4 / math.sqrt(theta.shape[0])

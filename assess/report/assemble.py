@@ -393,7 +393,29 @@ def _section_worth(doc, run) -> object:
                                f"lead to, against the {horizon}-year target")
     if worth.recommendation:
         sec.add_paragraph(worth.recommendation)
+    _population_shares(sec, getattr(worth, "population_shares", None))
     return worth.to_dict()
+
+
+def _population_shares(sec, found) -> None:
+    """Which population's uncertainty moves the member's beta (worth step's surrogate)."""
+    if not found or not found.get("shares"):
+        return
+    sec.add_paragraph(
+        f"Which uncertainty drives the risk here: the share of the spread of beta "
+        f"({found['mode']}, '{found['alternative']}') over what is still unknown about each "
+        f"material population. Tests of a population with a large share can move beta; a "
+        f"population with a small share is not worth testing for this member, whatever the "
+        f"test costs.")
+    rows = [{"Population": LABELS.get(q, (q.replace("_", " "),))[0],
+             "Share of the spread of beta (Sobol index) [-]": v}
+            for q, v in found["shares"].items()]
+    caption = "Sobol indices of beta over the posterior of each population (mean and spread)"
+    if found.get("largest_correlation", 0.0) > 0.3:
+        caption += (f"; populations correlated up to {found['largest_correlation']:.2f}: "
+                    f"approximate")
+    sec.add_table(rows, caption=caption,
+                  formats={"Share of the spread of beta (Sobol index) [-]": ".2f"})
 
 
 def variable_words(name: str) -> str:

@@ -128,4 +128,68 @@ def site_drivers(
     return sorted(rows, key=lambda d: d.beta)
 
 
-__all__ = ["MemberDrivers", "SOBOL_SAMPLES", "governing_results", "member_drivers", "site_drivers"]
+def population_shares(decision, alternative: str = "keep as is") -> dict:
+    """Which population's uncertainty moves the member's beta over the posterior draws: the
+    Sobol index of each material population (its mu and sigma together) for the beta of
+    the mode that carries most of the member's pf under ``alternative``.
+
+    The value-of-information surrogate is additive in the standardised theta columns
+    (constant, linear and squared terms, `assess.site.worth_decision.QuadraticSurrogate`),
+    so with independent populations the first-order and total indices of a population are
+    equal: the variance over the draws of its own terms over the variance of the
+    prediction (Sobol 1993, for an additive model; Saltelli et al. 2008, *Global
+    Sensitivity Analysis: The Primer*, Wiley, ch. 1, from memory). The largest correlation
+    between columns of different populations is returned with them: when it is not small,
+    the shares are approximate.
+
+    Returns
+    -------
+    dict
+        ``mode``, ``shares`` (population -> share [-], largest first), ``largest_correlation``
+        between columns of different populations [-]; empty when there is no surrogate.
+    """
+    import numpy as np
+    from scipy import special
+
+    modes = decision.surrogates.get(alternative) or {}
+    if not modes:
+        return {}
+    theta = decision.member_theta()
+    weight = {m: float(np.mean(special.ndtr(-s.predict(theta)))) for m, s in modes.items()}
+    mode = max(weight, key=lambda m: weight[m])
+    surrogate = modes[mode]
+    z = surrogate._standardise(theta)
+    used = np.flatnonzero(surrogate.used_)
+    p = z.shape[1]
+    linear, square = surrogate.coef_[1 : 1 + p], surrogate.coef_[1 + p : 1 + 2 * p]
+    columns = [decision.member_columns[k] for k in used]
+    groups = [c.split(".")[0] for c in columns]
+    total = float(np.var(surrogate.predict(theta)))
+    shares = {}
+    for group in dict.fromkeys(groups):
+        pick = np.array([g == group for g in groups])
+        part = z[:, pick] @ linear[pick] + (z[:, pick] ** 2) @ square[pick]
+        shares[group] = float(np.var(part) / total) if total > 0 else 0.0
+    correlation = np.corrcoef(z, rowvar=False) if p > 1 else np.ones((1, 1))
+    between = [
+        abs(correlation[i, j])
+        for i in range(p)
+        for j in range(p)
+        if groups[i] != groups[j] and np.isfinite(correlation[i, j])
+    ]
+    return {
+        "alternative": alternative,
+        "mode": mode,
+        "shares": dict(sorted(shares.items(), key=lambda kv: -kv[1])),
+        "largest_correlation": float(max(between, default=0.0)),
+    }
+
+
+__all__ = [
+    "MemberDrivers",
+    "SOBOL_SAMPLES",
+    "governing_results",
+    "member_drivers",
+    "population_shares",
+    "site_drivers",
+]

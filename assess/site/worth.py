@@ -48,6 +48,9 @@ class SiteWorth:
     outcomes: int
     posterior_hash: str = ""
     decision_file: str = ""
+    population_shares: dict = dataclasses.field(default_factory=dict)
+    """Which population's uncertainty moves the member's beta
+    (`assess.site.drivers.population_shares`)."""
 
     @property
     def recommendation(self) -> str:
@@ -113,6 +116,7 @@ class SiteWorth:
             "outcomes": self.outcomes,
             "theta_draws": problem.n_draws,
             "design_points": DESIGN_POINTS,
+            "beta_spread_by_population": self.population_shares,
         }
 
     def ledger_rows(self) -> list[LedgerRow]:
@@ -207,7 +211,17 @@ def compute_site_worth(
             seed=settings.seed,
             target_beta=decision.horizon_target_beta,
         )
-    return SiteWorth(decision, ranking, setup, outcomes, update.data_hash, str(decision_file))
+    from assess.site.drivers import population_shares
+
+    return SiteWorth(
+        decision,
+        ranking,
+        setup,
+        outcomes,
+        update.data_hash,
+        str(decision_file),
+        population_shares(decision),
+    )
 
 
 __all__ = ["DESIGN_POINTS", "SiteWorth", "THETA_DRAWS", "compute_site_worth", "result_summary"]
