@@ -836,7 +836,9 @@ def _fit_modes(modes, member_theta, rows, betas, converged, center, scale, name,
         mode: QuadraticSurrogate.fit(member_theta[rows][ok], betas[ok, j], center, scale)
         for j, mode in enumerate(modes)
     }
-    residuals = np.column_stack([surrogates[m].loo_residuals_ for m in modes])
+    residuals = np.column_stack(
+        [np.asarray(surrogates[m].loo_residuals_, dtype=float) for m in modes]
+    )
     errors = dict(zip(modes, member_loo_errors(betas[ok], residuals).tolist()))
     return surrogates, int((~ok).sum()), errors
 
