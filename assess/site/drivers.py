@@ -23,8 +23,11 @@ import zlib
 
 from assess.surrogate.sensitivity import risk_drivers
 
-#: Evaluations of the limit state for the polynomial-chaos expansion per member [-].
-SOBOL_SAMPLES = 300
+#: Evaluations of the limit state for the polynomial-chaos expansion per member [-] and its
+#: highest degree: on the demo members degree 2 on 150 points leaves a leave-one-out error
+#: below 0.3 % and moves the indices by at most about 0.02 against degree 3 on 300 points,
+#: at a tenth of the time (measured on the demo site's governing modes).
+SOBOL_SAMPLES, SOBOL_DEGREE = 150, 2
 
 
 @dataclasses.dataclass
@@ -98,7 +101,11 @@ def member_drivers(
     problem = model.problem([result.mode])
     own_seed = (int(seed) + zlib.crc32(f"drivers/{result.member}/{result.mode}".encode())) % 2**32
     found = risk_drivers(
-        problem, form_result=result.form_after, seed=own_seed, n_samples=sobol_samples
+        problem,
+        form_result=result.form_after,
+        seed=own_seed,
+        n_samples=sobol_samples,
+        max_degree=SOBOL_DEGREE,
     )
     note = found["sobol_note"]
     if found["importance"] is None:
@@ -187,6 +194,7 @@ def population_shares(decision, alternative: str = "keep as is") -> dict:
 
 __all__ = [
     "MemberDrivers",
+    "SOBOL_DEGREE",
     "SOBOL_SAMPLES",
     "governing_results",
     "member_drivers",
