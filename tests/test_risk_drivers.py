@@ -162,6 +162,7 @@ def test_report_section_shows_plain_names_and_how_to_read_it():
     assert "failure samples of subset simulation" in html
     assert [d["member"] for d in numbers] == ["S3-02", "B1-02"]
     assert numbers[0]["importance"]["cover_top"] == 0.55
+    assert numbers[0]["variable_words"]["cover_top"] == "concrete cover, top bars"
     # beside the value of information: the populations in plain words
     from assess.report.assemble import _population_shares
 

@@ -472,7 +472,8 @@ def _section_drivers(doc, run):
               and d.importance_source != "FORM design point"]
     if notes:
         sec.add_notice(notes, title="Shares not shown or found another way")
-    return [d.to_dict() for d in drivers]
+    return [{**d.to_dict(), "variable_words": {n: variable_words(n) for n in d.variables()}}
+            for d in drivers]
 
 
 def _section_history(doc, run) -> list:
