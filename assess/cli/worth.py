@@ -128,8 +128,10 @@ def worth_command(
     err_console.print(f"Target over the horizon: {decision.horizon_target_beta:.2f} (annual "
                       f"{decision.target.beta:g}; {decision.target.source})", highlight=False)
     worst = worth.largest_surrogate_error()
-    err_console.print(f"Beta surrogate: {DESIGN_POINTS} FORM design points per alternative, "
-                      f"largest leave-one-out error {worst:.3f} in beta.", highlight=False)
+    err_console.print(f"Beta surrogate: {DESIGN_POINTS} FORM design points per alternative "
+                      f"(more where needed), largest leave-one-out error {worst:.3f} in the "
+                      f"beta of a mode, {worth.largest_member_error():.3f} in the member's "
+                      f"beta.", highlight=False)
     for note in decision.notes:
         if note not in ranking_warnings:
             err_console.print(f"Note: {note}", highlight=False, soft_wrap=True, markup=False)

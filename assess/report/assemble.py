@@ -15,6 +15,7 @@ from assess.reliability.result import format_beta
 from assess.report.document import ReportDocument, Tag
 from assess.report.figures import (
     before_after_figure,
+    drivers_figure,
     life_figure,
     prior_posterior_figures,
     worth_figure,
@@ -55,6 +56,7 @@ VARIABLE_WORDS = {
     "theta_flexure": "bending resistance model", "theta_shear": "shear resistance model",
     "theta_punching": "punching resistance model", "initiation_time": "corrosion start",
     "corrosion_rate": "corrosion rate", "pitting_factor": "pitting factor",
+    "cover_top": "concrete cover, top bars", "area_ratio_top": "residual bar area, top bars",
 }
 """Plain words for the basic variables of the member models (report text only)."""
 
@@ -125,6 +127,7 @@ def build_report(run) -> tuple[ReportDocument, dict]:
                 ("members", "members", _section_members),
                 ("life", "remaining_life", _section_life),
                 ("worth", "value_of_information", _section_worth),
+                ("members", "risk_drivers", _section_drivers),
                 ("history", "history", _section_history))
     for step, key, write in sections:
         record = run.records.get(step)
@@ -132,7 +135,7 @@ def build_report(run) -> tuple[ReportDocument, dict]:
             continue
         if record.status == DONE:
             numbers[key] = write(doc, run)
-        elif not (record.status == SKIPPED and step == "worth"):
+        elif key != "risk_drivers" and not (record.status == SKIPPED and step == "worth"):
             _section_not_available(doc, record)
     numbers["steps_overview"] = _section_steps(doc, run)
     numbers["sources"] = _section_sources(doc, run, target)
@@ -390,7 +393,87 @@ def _section_worth(doc, run) -> object:
                                f"lead to, against the {horizon}-year target")
     if worth.recommendation:
         sec.add_paragraph(worth.recommendation)
+    _population_shares(sec, getattr(worth, "population_shares", None))
     return worth.to_dict()
+
+
+def _population_shares(sec, found) -> None:
+    """Which population's uncertainty moves the member's beta (worth step's surrogate)."""
+    if not found or not found.get("shares"):
+        return
+    sec.add_paragraph(
+        f"Which uncertainty drives the risk here: the share of the spread of beta "
+        f"({found['mode']}, '{found['alternative']}') over what is still unknown about each "
+        f"material population. Tests of a population with a large share can move beta; a "
+        f"population with a small share is not worth testing for this member, whatever the "
+        f"test costs.")
+    rows = [{"Population": LABELS.get(q, (q.replace("_", " "),))[0],
+             "Share of the spread of beta (Sobol index) [-]": v}
+            for q, v in found["shares"].items()]
+    caption = "Sobol indices of beta over the posterior of each population (mean and spread)"
+    if found.get("largest_correlation", 0.0) > 0.3:
+        caption += (f"; populations correlated up to {found['largest_correlation']:.2f}: "
+                    f"approximate")
+    sec.add_table(rows, caption=caption,
+                  formats={"Share of the spread of beta (Sobol index) [-]": ".2f"})
+
+
+def variable_words(name: str) -> str:
+    """Plain words for a model variable (`VARIABLE_WORDS`, else its name without
+    underscores)."""
+    return VARIABLE_WORDS.get(name, name.replace("_", " "))
+
+
+def drivers_rows(drivers) -> list[dict]:
+    """Table rows of `assess.site.drivers.MemberDrivers`, plain names, largest share first."""
+    rows = []
+    for d in drivers:
+        for name in d.variables():
+            rows.append({"Member": d.member, "Governing failure mode": d.mode,
+                         "Uncertain quantity": variable_words(name),
+                         "Importance factor alpha squared [-]":
+                             (d.importance or {}).get(name),
+                         "Sobol index, first order [-]": (d.sobol_first or {}).get(name),
+                         "Sobol index, total [-]": (d.sobol_total or {}).get(name)})
+    return rows
+
+
+DRIVERS_READING = (
+    "How to read it: the importance factor is the share of the reliability index owed to "
+    "each uncertain quantity at the most likely failure point (what pushes the member "
+    "towards failure); the total Sobol index is its share of the spread of the safety "
+    "margin (what makes it uncertain). A quantity high in both is the one whose testing "
+    "most likely changes the verdict; testing a quantity low in both is seldom worth it.")
+
+
+def _section_drivers(doc, run):
+    """Which uncertainty drives the risk, per member's governing mode (none: no section)."""
+    drivers = getattr(run.result("members"), "drivers", None) or []
+    if not drivers:
+        return []
+    sec = doc.add_section("Which uncertainty drives the risk")
+    sec.add_paragraph(DRIVERS_READING)
+    top = 4
+    rows = []
+    for d in drivers:
+        rows.extend(drivers_rows([d])[:top])
+    sec.add_table(rows, caption=f"The {top} largest shares of each member's governing mode "
+                                "(lowest beta after updating); importance factors from "
+                                "the FORM design point (or the failure samples of subset "
+                                "simulation), Sobol indices of the safety margin from a "
+                                "polynomial-chaos expansion",
+                  formats={k: ".2f" for k in rows[0] if k.endswith("[-]")} if rows else None)
+    sec.add_figure(drivers_figure(drivers, variable_words, top=top),
+                   caption="Importance factor and total Sobol index of the largest "
+                           "shares, per member (governing mode)")
+    notes = [f"{d.member} {d.mode}: {d.note}" for d in drivers if d.note]
+    notes += [f"{d.member} {d.mode}: importance factors from the {d.importance_source}"
+              for d in drivers if d.importance_source
+              and d.importance_source != "FORM design point"]
+    if notes:
+        sec.add_notice(notes, title="Shares not shown or found another way")
+    return [{**d.to_dict(), "variable_words": {n: variable_words(n) for n in d.variables()}}
+            for d in drivers]
 
 
 def _section_history(doc, run) -> list:

@@ -9,6 +9,7 @@ from assess.report.plots import (
     plot_beta_over_time,
     plot_preposterior_beta,
     plot_prior_posterior,
+    plot_risk_drivers,
 )
 from assess.site.knowledge import LABELS, QUANTITIES, predictive_draws
 
@@ -72,3 +73,14 @@ def worth_figure(worth):
                                   worth.decision.horizon_target_beta,
                                   current_beta=results[0].prior_beta,
                                   period=f"{worth.decision.horizon_years}-year")
+
+
+def drivers_figure(drivers, words, top: int = 4):
+    """Importance factors and total Sobol indices of each member's governing mode
+    (`assess.site.drivers.MemberDrivers`), variables in plain ``words``."""
+    panels = {}
+    for d in drivers:
+        panels[f"{d.member}, {d.mode} (\u03b2 = {d.beta:.2f})"] = [
+            {"label": words(name), "importance": (d.importance or {}).get(name),
+             "sobol_total": (d.sobol_total or {}).get(name)} for name in d.variables()]
+    return plot_risk_drivers(panels, top=top)

@@ -564,3 +564,47 @@ __all__ = [
     "plot_beta_over_time", "plot_preposterior_beta",
     "share_below_target", "plot_beta_history",
 ]
+
+
+def plot_risk_drivers(panels: Mapping[str, Sequence[Mapping[str, Any]]], *,
+                      top: int = 5) -> Figure:
+    """Which uncertainty drives the risk: one panel per member, horizontal bars of the
+    importance factor alpha^2 and the total Sobol index of each variable [-].
+
+    ``panels`` maps a panel title to rows with ``label`` (plain words),
+    ``importance`` and ``sobol_total`` (None where not computed), largest first; the
+    first ``top`` rows of each are drawn.
+    """
+    if not panels:
+        raise InputError("plot_risk_drivers: no member to draw")
+    fig = Figure(figsize=(_FIG_WIDTH, 1.0 + 1.35 * len(panels)), layout="constrained")
+    FigureCanvasAgg(fig)
+    axes = fig.subplots(len(panels), 1, squeeze=False)[:, 0]
+    for ax, (title, rows) in zip(axes, panels.items()):
+        rows = list(rows)[:top]
+        y = np.arange(len(rows))[::-1]
+        for offset, key, colour, label in ((0.2, "importance", PALETTE[0],
+                                            "importance factor \u03b1\u00b2 (design point)"),
+                                           (-0.2, "sobol_total", PALETTE[2],
+                                            "total Sobol index (spread of the margin)")):
+            values = [r.get(key) for r in rows]
+            shown = [v if v is not None and math.isfinite(v) else 0.0 for v in values]
+            if any(v is not None for v in values):
+                ax.barh(y + offset, shown, height=0.38, color=colour, label=label)
+        ax.set_yticks(y, [r["label"] for r in rows], fontsize=8)
+        ax.set_xlim(0.0, 1.0)
+        ax.set_title(title, fontsize=9, loc="left")
+        ax.grid(True, axis="x", color="#dcdfe3", linewidth=0.6)
+        ax.set_axisbelow(True)
+        for side in ("top", "right"):
+            ax.spines[side].set_visible(False)
+        ax.tick_params(labelsize=8)
+    axes[-1].set_xlabel("Share [-]")
+    handles, labels = axes[0].get_legend_handles_labels()
+    for ax in axes[1:]:
+        for h, lab in zip(*ax.get_legend_handles_labels()):
+            if lab not in labels:
+                handles.append(h)
+                labels.append(lab)
+    fig.legend(handles, labels, loc="outside upper center", ncols=2, frameon=False, fontsize=8)
+    return fig

@@ -128,6 +128,9 @@ class Assessment:
     options: dict = dataclasses.field(default_factory=dict)
     posterior_hash: str = ""
     max_calls: int | None = None
+    drivers: list = dataclasses.field(default_factory=list)
+    """`assess.site.drivers.MemberDrivers` of each member's governing mode (set by the
+    members step of a run)."""
 
     @property
     def undecided(self) -> list:
@@ -221,6 +224,27 @@ def _verdict(result, target: Target, level: float = CONFIDENCE) -> str:
     return interval_verdict(result.beta, low, high, target.beta)
 
 
+STATES = ("before", "after")
+
+
+def state_model(site, update, member_id: str, state: str = "after"):
+    """The model of one member that the members step uses for ``state`` ("before": design
+    information, "after": the site's evidence), with the knowledge at its tension face."""
+    member = site.members[member_id]
+    knowledge = getattr(update, state)
+    local = getattr(update, f"{state}_local", None) or {}
+    face = getattr(member, "tension_face", "bottom")
+    use = getattr(getattr(site, "priors", None), "imposed_use", None) or "commercial"
+    return build_member_model(
+        site,
+        member,
+        knowledge_at(knowledge[member.zone], local.get(member.zone), member_id, face),
+        reference_period_years=float(site.target.reference_period),
+        car_park_use=use,
+        local=local.get(member.zone),
+    )
+
+
 def _analysis_seed(seed: int, member: str, mode: str) -> int:
     return (int(seed) + zlib.crc32(f"{member}/{mode}".encode())) % (2**32)
 
@@ -286,21 +310,7 @@ def assess_members(
         own_target = member_target(site, member, target)
         if own_target is not target:
             notes.append(f"Member {member_id}: target {own_target.beta:.2f}, {own_target.source}.")
-        face = getattr(member, "tension_face", "bottom")
-        models = {
-            state: build_member_model(
-                site,
-                member,
-                knowledge_at(knowledge[member.zone], local.get(member.zone), member_id, face),
-                reference_period_years=period,
-                car_park_use=use,
-                local=(getattr(update, f"{state}_local", None) or {}).get(member.zone),
-            )
-            for state, knowledge, local in (
-                ("before", update.before, update.before_local or {}),
-                ("after", update.after, update.after_local or {}),
-            )
-        }
+        models = {state: state_model(site, update, member_id, state) for state in STATES}
         keys = {
             state: member_payload(
                 site,

@@ -193,7 +193,7 @@ def _members(run: SiteRun):
     update = _with_present_corrosion(run, run.step("materials"))
     for message in design_check_warnings(run.site):
         warnings.warn(message, UserWarning, stacklevel=2)
-    return assess_members(
+    assessment = assess_members(
         run.site,
         update,
         method=run.settings.method,
@@ -202,6 +202,13 @@ def _members(run: SiteRun):
         members=run.members,
         max_calls=run.settings.max_calls_per_verdict,
     )
+    from assess.site.drivers import site_drivers
+
+    try:  # which uncertainty drives the risk: a missing table does not stop the members step
+        assessment.drivers = site_drivers(run.site, update, assessment, seed=run.settings.seed)
+    except AnalysisError as exc:
+        run.add_warning(f"which uncertainty drives the risk: not computed ({exc})")
+    return assessment
 
 
 def _with_present_corrosion(run: SiteRun, update):

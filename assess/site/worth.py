@@ -48,6 +48,9 @@ class SiteWorth:
     outcomes: int
     posterior_hash: str = ""
     decision_file: str = ""
+    population_shares: dict = dataclasses.field(default_factory=dict)
+    """Which population's uncertainty moves the member's beta
+    (`assess.site.drivers.population_shares`)."""
 
     @property
     def recommendation(self) -> str:
@@ -107,11 +110,13 @@ class SiteWorth:
             "ranking": self.summaries(),
             "recommendation": self.recommendation,
             "surrogate_leave_one_out_error": decision.surrogate_errors(),
+            "surrogate_member_beta_error": decision.member_surrogate_errors(),
             "form_calls": decision.form_calls,
             "notes": decision.notes,
             "outcomes": self.outcomes,
             "theta_draws": problem.n_draws,
             "design_points": DESIGN_POINTS,
+            "beta_spread_by_population": self.population_shares,
         }
 
     def ledger_rows(self) -> list[LedgerRow]:
@@ -139,7 +144,14 @@ class SiteWorth:
         ]
 
     def largest_surrogate_error(self) -> float:
+        """Largest leave-one-out error of a mode's own beta surrogate [-]."""
         errors = self.decision.surrogate_errors()
+        return max((v for modes in errors.values() for v in modes.values()), default=math.nan)
+
+    def largest_member_error(self) -> float:
+        """Largest leave-one-out error of the member's beta owed to one mode's surrogate,
+        the figure the surrogate is judged by [-]."""
+        errors = self.decision.member_surrogate_errors()
         return max((v for modes in errors.values() for v in modes.values()), default=math.nan)
 
 
@@ -199,7 +211,17 @@ def compute_site_worth(
             seed=settings.seed,
             target_beta=decision.horizon_target_beta,
         )
-    return SiteWorth(decision, ranking, setup, outcomes, update.data_hash, str(decision_file))
+    from assess.site.drivers import population_shares
+
+    return SiteWorth(
+        decision,
+        ranking,
+        setup,
+        outcomes,
+        update.data_hash,
+        str(decision_file),
+        population_shares(decision),
+    )
 
 
 __all__ = ["DESIGN_POINTS", "SiteWorth", "THETA_DRAWS", "compute_site_worth", "result_summary"]

@@ -20,7 +20,10 @@ and a decision set-up (`assess.worth.decision_file`), build the
    standardised member-zone columns) is fitted to beta by least squares
    (Bucher & Bourgund 1990, Struct. Saf. 7:57-66, from memory). Its
    leave-one-out error (PRESS, Allen 1974, Technometrics 16:125-127, from
-   memory) is reported and a warning is raised when it is poor.
+   memory) is reported. The surrogate is judged by the leave-one-out error of the
+   member's beta each mode's surrogate causes (`member_loo_errors`): above 0.05 as many
+   design draws again are taken from the bulk of the posterior and the surface refitted;
+   above 0.10 a warning is raised, above 0.30 the analysis stops.
 4. **Costs over the horizon.** The annual pf of the member is the sum over its
    modes of Phi(-beta_mode) (the upper unimodal series bound, Cornell 1967).
    Years are treated as independent given theta: the failure-probability
@@ -95,13 +98,12 @@ _SCALE_FAMILIES = ("normal", "lognormal", "gumbel", "gamma", "weibull")
 SURROGATE_WARNING_RMSE = 0.10
 #: ... and above which the analysis stops [-].
 SURROGATE_FAILURE_RMSE = 0.30
-#: Modes whose smallest design beta exceeds this carry no weight in pf [-].
+#: Leave-one-out error of the member's beta above which more design points are taken from
+#: the bulk of the posterior: 0.05 in beta is about 15 % in pf near beta = 3 [-].
+SURROGATE_REFINE_RMSE = 0.05
+#: Beyond this beta a subset-simulation stand-in for FORM is accepted whatever its CoV: its
+#: pf (below 1e-12) carries no weight in the costs [-].
 NEGLIGIBLE_BETA = 7.0
-
-#: A mode whose beta stays this far above the member's weakest mode at every design point
-#: adds less than about 1 % to the series-system pf there (Phi(-(b + 1.5)) / Phi(-b) < 0.01
-#: for b >= 2.2; closed form): its surrogate's quality does not decide the value [-].
-RELEVANCE_GAP = 1.5
 ALTERNATIVE_NAMES = {
     "keep": "keep as is",
     "repair": "repair",
@@ -269,18 +271,29 @@ class ConditionalReliability:
 #: Subset simulation that stands in for FORM where FORM does not converge: samples per
 #: level [-] and the largest CoV of its pf estimate accepted for the surrogate [-].
 FALLBACK_SAMPLES, FALLBACK_MAX_COV = 2000, 0.2
+#: When the first stand-in misses `FALLBACK_MAX_COV`, one more run with this many times the
+#: samples per level (its CoV about halves: CoV ~ 1/sqrt(N), Au & Beck 2001) [-].
+FALLBACK_RETRY_FACTOR = 4
 
 
 def _sampled_beta(problem, seed: int):
     """Beta of one design point by subset simulation, accepted as converged when its CoV is
-    at most `FALLBACK_MAX_COV` (beyond NEGLIGIBLE_BETA a larger CoV does not matter)."""
+    at most `FALLBACK_MAX_COV` (beyond NEGLIGIBLE_BETA a larger CoV does not matter); a
+    second run with `FALLBACK_RETRY_FACTOR` times the samples when the first is short of it
+    (the design point is otherwise lost to the surrogate)."""
     from assess.reliability.subset import subset_simulation
 
+    def accepted(result):
+        return math.isfinite(result.beta) and (
+            result.cov <= FALLBACK_MAX_COV or result.beta > NEGLIGIBLE_BETA
+        )
+
     result = subset_simulation(problem, n_per_level=FALLBACK_SAMPLES, seed=seed)
-    accept = math.isfinite(result.beta) and (
-        result.cov <= FALLBACK_MAX_COV or result.beta > NEGLIGIBLE_BETA
-    )
-    return dataclasses.replace(result, converged=accept)
+    if not accepted(result):
+        result = subset_simulation(
+            problem, n_per_level=FALLBACK_RETRY_FACTOR * FALLBACK_SAMPLES, seed=seed + 500
+        )
+    return dataclasses.replace(result, converged=accepted(result))
 
 
 def _one_column(function: Callable, x):
@@ -311,6 +324,8 @@ class QuadraticSurrogate:
     coef_: np.ndarray
     loo_rmse_: float
     loo_max_: float
+    loo_residuals_: np.ndarray | None = None
+    """Leave-one-out residuals beta_i - beta_(i) at the design points [-]."""
 
     @staticmethod
     def _features(z: np.ndarray) -> np.ndarray:
@@ -347,11 +362,58 @@ class QuadraticSurrogate:
         surrogate.coef_ = coef
         surrogate.loo_rmse_ = float(np.sqrt(np.mean(residual**2)))
         surrogate.loo_max_ = float(np.max(np.abs(residual)))
+        surrogate.loo_residuals_ = residual
         return surrogate
 
     def predict(self, theta) -> np.ndarray:
         """Predicted beta for rows of theta [-]."""
         return self._features(self._standardise(theta)) @ self.coef_
+
+
+def member_beta(betas: np.ndarray) -> np.ndarray:
+    """Beta of the member from its modes' betas (rows): Phi^-1 of the sum of the modes'
+    pf, the upper unimodal series bound (Cornell 1967), pf kept above 1e-300 [-]."""
+    pf = special.ndtr(-np.asarray(betas, dtype=float)).sum(axis=1)
+    return stats.norm.isf(np.clip(pf, 1e-300, 1.0))
+
+
+def member_loo_errors(betas: np.ndarray, residuals: np.ndarray) -> np.ndarray:
+    """Leave-one-out error of the member's beta owed to each mode's surrogate [-].
+
+    For mode j, the member beta at every design point is recomputed with mode j's beta
+    replaced by its leave-one-out prediction beta_ij - e_ij (the other modes exact); the
+    root-mean-square change is mode j's error in what the costs use. A mode far above the
+    weakest one barely moves the member's pf, so its own error hardly counts; for the
+    dominant mode the error is close to its own leave-one-out error.
+
+    Parameters
+    ----------
+    betas : ndarray of shape (n, modes)
+        Direct betas at the design points [-].
+    residuals : ndarray of shape (n, modes)
+        Leave-one-out residuals e_ij = beta_ij - beta_(i)j of each mode's surrogate [-].
+    """
+    betas = np.asarray(betas, dtype=float)
+    exact = member_beta(betas)
+    errors = np.empty(betas.shape[1])
+    for j in range(betas.shape[1]):
+        replaced = betas.copy()
+        replaced[:, j] = betas[:, j] - residuals[:, j]
+        errors[j] = float(np.sqrt(np.mean((member_beta(replaced) - exact) ** 2)))
+    return errors
+
+
+def further_design(n_draws: int, design: np.ndarray, n_points: int) -> np.ndarray:
+    """``n_points`` rows spread evenly over the draws not in ``design`` (deterministic).
+
+    The farthest-point design covers the tails; these rows, a systematic sample of the
+    posterior draws, add the bulk, where the surrogate's predictions are mostly used.
+    """
+    rest = np.setdiff1d(np.arange(int(n_draws)), design)
+    if rest.size == 0 or n_points <= 0:
+        return np.empty(0, dtype=int)
+    pick = np.unique(np.linspace(0, rest.size - 1, min(n_points, rest.size)).round())
+    return rest[pick.astype(int)]
 
 
 def farthest_point_design(theta_standardised: np.ndarray, n_points: int) -> np.ndarray:
@@ -613,12 +675,20 @@ class SiteDecision:
     notes: list
     annual_pf_by_year: np.ndarray | None = None
     uses_life_curve: bool = False
+    member_errors: dict = dataclasses.field(default_factory=dict)
+    """Alternative -> mode -> leave-one-out error of the member's beta owed to that mode's
+    surrogate (`member_loo_errors`) [-]: the figure the surrogate is judged by."""
 
     def member_theta(self, rows=None) -> np.ndarray:
         """Member-zone columns of theta (all rows, or the given ones)."""
         index = [self.problem.parameter_names.index(c) for c in self.member_columns]
         theta = self.problem.theta[:, index]
         return theta if rows is None else theta[rows]
+
+    def member_surrogate_errors(self) -> dict:
+        """Alternative -> mode -> leave-one-out error of the member's beta owed to that
+        mode's surrogate [-] (`member_loo_errors`)."""
+        return {alt: dict(modes) for alt, modes in self.member_errors.items() if modes}
 
     def surrogate_errors(self) -> dict:
         """Alternative -> mode -> leave-one-out RMSE of beta [-]."""
@@ -759,6 +829,26 @@ def failure_increments(yearly: np.ndarray) -> np.ndarray:
     return yearly * before
 
 
+def _fit_modes(modes, member_theta, rows, betas, converged, center, scale, name, member_id):
+    """Quadratic surrogates of every mode at the design ``rows`` whose FORM converged in
+    every mode; returns (mode -> surrogate, points left out, mode -> member-beta error)."""
+    ok = converged.all(axis=1)
+    if ok.mean() < 0.8:
+        raise AnalysisError(
+            f"FORM did not converge at {int((~ok).sum())} of {ok.size} design points of "
+            f"'{name}' for member {member_id}; the surrogate cannot be built"
+        )
+    surrogates = {
+        mode: QuadraticSurrogate.fit(member_theta[rows][ok], betas[ok, j], center, scale)
+        for j, mode in enumerate(modes)
+    }
+    residuals = np.column_stack(
+        [np.asarray(surrogates[m].loo_residuals_, dtype=float) for m in modes]
+    )
+    errors = dict(zip(modes, member_loo_errors(betas[ok], residuals).tolist()))
+    return surrogates, int((~ok).sum()), errors
+
+
 def build_site_decision(
     site,
     update,
@@ -853,6 +943,8 @@ def build_site_decision(
     annual_pf: list = []
     annual_beta: dict = {}
     surrogates: dict[str, Any] = {}
+    member_errors: dict[str, dict] = {}
+    used_rows = set(design.tolist())
     for spec in setup.alternatives:
         name = ALTERNATIVE_NAMES[spec.kind]
         alternatives.append(
@@ -862,40 +954,64 @@ def build_site_decision(
             pf = np.full(theta.shape[0], annual_target.pf)
             surrogates[name] = {}
         else:
-            betas, converged = reliability.betas(member_theta[design], spec)
-            ok = converged.all(axis=1)
-            if ok.mean() < 0.8:
-                raise AnalysisError(
-                    f"FORM did not converge at {int((~ok).sum())} of "
-                    f"{ok.size} design points of '{name}' for member "
-                    f"{member_id}; the surrogate cannot be built"
+            rows = design
+            betas, converged = reliability.betas(member_theta[rows], spec)
+            fitted = _fit_modes(
+                reliability.modes,
+                member_theta,
+                rows,
+                betas,
+                converged,
+                center,
+                scale,
+                name,
+                member_id,
+            )
+            worst = max(fitted[2].values())
+            more = further_design(theta.shape[0], design, n_design)
+            if worst > SURROGATE_REFINE_RMSE and more.size:
+                # more design points from the bulk of the posterior, then fit again
+                more_betas, more_converged = reliability.betas(member_theta[more], spec)
+                rows = np.concatenate([design, more])
+                betas = np.vstack([betas, more_betas])
+                converged = np.vstack([converged, more_converged])
+                fitted = _fit_modes(
+                    reliability.modes,
+                    member_theta,
+                    rows,
+                    betas,
+                    converged,
+                    center,
+                    scale,
+                    name,
+                    member_id,
                 )
-            if not ok.all():
+                used_rows.update(more.tolist())
                 notes.append(
-                    f"'{name}': FORM did not converge at {int((~ok).sum())} design "
+                    f"'{name}': {more.size} more design points from the bulk of the posterior "
+                    f"(leave-one-out error of the member's beta {worst:.2f} with "
+                    f"{design.size}, {max(fitted[2].values()):.2f} with {rows.size})"
+                )
+            surrogates[name], left_out, member_errors[name] = fitted
+            if left_out:
+                notes.append(
+                    f"'{name}': FORM did not converge at {left_out} design "
                     f"point(s); they were left out of the surrogate"
                 )
-            surrogates[name] = {}
             pf = np.zeros(theta.shape[0])
-            for j, mode in enumerate(reliability.modes):
-                surrogate = QuadraticSurrogate.fit(
-                    member_theta[design][ok], betas[ok, j], center, scale
-                )
-                surrogates[name][mode] = surrogate
-                # a mode matters for the member's (series-system) pf where it is not far
-                # above the weakest mode at the same populations: RELEVANCE_GAP in beta
-                gap = betas[ok, j] - betas[ok].min(axis=1)
-                relevant = betas[ok, j].min() < NEGLIGIBLE_BETA and gap.min() < RELEVANCE_GAP
-                if relevant and surrogate.loo_rmse_ > SURROGATE_FAILURE_RMSE:
+            for mode, surrogate in surrogates[name].items():
+                error = member_errors[name][mode]
+                if error > SURROGATE_FAILURE_RMSE:
                     raise AnalysisError(
                         f"the beta surrogate of '{name}', mode {mode}, member {member_id} is "
-                        f"too poor (leave-one-out error {surrogate.loo_rmse_:.2f} in beta); "
-                        f"use more design points"
+                        f"too poor: leave-one-out error {error:.2f} in the member's beta "
+                        f"({surrogate.loo_rmse_:.2f} in the mode's own beta) at "
+                        f"{rows.size} design points"
                     )
-                if relevant and surrogate.loo_rmse_ > SURROGATE_WARNING_RMSE:
+                if error > SURROGATE_WARNING_RMSE:
                     message = (
                         f"the beta surrogate of '{name}', mode {mode} has a "
-                        f"leave-one-out error of {surrogate.loo_rmse_:.2f} in beta; "
+                        f"leave-one-out error of {error:.2f} in the member's beta; "
                         f"values of information are approximate"
                     )
                     warnings.warn(message, stacklevel=2)
@@ -954,13 +1070,14 @@ def build_site_decision(
         horizon_years=setup.horizon_years,
         annual_beta=annual_beta,
         surrogates=surrogates,
-        design_index=design,
+        design_index=np.array(sorted(used_rows), dtype=int),
         reliability=reliability,
         member_columns=member_columns,
         form_calls=reliability.n_calls,
         notes=notes,
         annual_pf_by_year=yearly,
         uses_life_curve=follows,
+        member_errors=member_errors,
     )
 
 
@@ -975,7 +1092,10 @@ __all__ = [
     "build_site_decision",
     "failure_increments",
     "farthest_point_design",
+    "further_design",
     "make_programme",
+    "member_beta",
+    "member_loo_errors",
     "parameter_name",
     "population_draws",
     "system_beta_after",
