@@ -24,7 +24,8 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from assess.cli.members import run_update  # noqa: E402
+from assess.site.materials import update_site  # noqa: E402
+from assess.site.settings import RunSettings  # noqa: E402
 from assess.site.worth_decision import build_site_decision  # noqa: E402
 from assess.worth import recommendation_text, value_of_information  # noqa: E402
 from assess.worth.decision_file import read_decision_setup  # noqa: E402
@@ -56,7 +57,7 @@ def main() -> None:
     try:
         site = load_site(folder)
         t0 = time.perf_counter()
-        update = run_update(site, seed=args.seed, draws=1000, quick=True, record=False)
+        update = update_site(site, settings=RunSettings(seed=args.seed, quick=True))
         t_update = time.perf_counter() - t0
 
         setup = read_decision_setup(DEMO / "decisions.toml")
