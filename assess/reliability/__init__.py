@@ -15,7 +15,7 @@ importance sampling, Gaussian or Gaussian-mixture density), `subset_simulation`
 """
 
 from assess.reliability.auto import auto
-from assess.reliability.cross_entropy import cross_entropy
+from assess.reliability.cross_entropy_sampling import cross_entropy
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.dispatch import METHODS, run_method
 from assess.reliability.form import form

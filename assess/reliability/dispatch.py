@@ -7,7 +7,7 @@ import inspect
 from assess.errors import InputError
 from assess.method_names import METHOD_NAMES
 from assess.reliability.auto import auto
-from assess.reliability.cross_entropy import cross_entropy
+from assess.reliability.cross_entropy_sampling import cross_entropy
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.form import form
 from assess.reliability.importance import importance_sampling
