@@ -39,7 +39,14 @@ FULL_COVARIANCE_MAX_DIM = 10
 """With ``covariance="auto"``, the largest dimension for which covariances are fitted [-].
 Above it only the means move (unit covariance): a d x d covariance estimated from about
 N rho weighted samples is too noisy for the importance weights as d grows ([3]_, from
-memory; the "full covariance" rows of the benchmark, section 4, measure it at d = 100)."""
+memory). Measured at d = 100 with N = 2000 (50 runs, benchmarks/reliability_methods.py,
+section 4): fitted covariances gave mean estimates 0.30-1.25 of the exact pf with an
+observed CoV of 2.5-3.3 against a reported 0.6-0.7; the means alone, 1.01 and 0.05-0.07."""
+MIN_ELITE_PER_DIM = 2
+"""Below N rho = 2 d samples beyond each threshold in the means-only mode a warning says
+the reported CoV may be too small [-]: at d = 100 with N = 1000 (100 such samples) the
+reported CoV was 0.56 of the observed spread at pf = 1e-6 (benchmark, section 4), with
+N = 2000 it was 0.94-1.11. This engine's rule from that measurement."""
 SMOOTHING = 0.7
 """Weight of the new fit in the smoothed update of a single Gaussian,
 v_t+1 = a v_fit + (1 - a) v_t for the mean and the covariance [-] (smoothed updating of
@@ -265,10 +272,12 @@ def cross_entropy(problem: StandardNormalProblem, *, n_per_level: int = DEFAULT_
     never over samples.
 
     Measured over 50 runs (benchmarks/reliability_methods.py, section 4, defaults):
-    linear limit states at pf = 1e-6 in 2 and 100 variables, CoV 0.05-0.06 for
-    about 11 600 evaluations (crude Monte Carlo needs about 3 x 10^8 for the same
-    CoV), reported CoV 0.87-1.1 of the observed spread; the four-branch series
-    system (four design points) with ``components=4``, see the same table.
+    linear limit states at pf = 1e-6 in 2 and 100 variables, CoV 0.06-0.07 for
+    about 11 700 evaluations (crude Monte Carlo needs about 2-3 x 10^8 for the
+    same CoV), reported CoV 0.87-0.94 of the observed spread (1.1 at pf = 1e-4);
+    the four-branch series system (four design points at beta = 3), CoV 0.08-0.09
+    for about 7 600 evaluations with one component and 0.04-0.05 for 6 000 with
+    ``components=4``, reported 0.88-1.14 of the observed spread.
 
     Like every importance sampling, the reported CoV can be too small when the
     density misses an important region; with ``check`` an independent subset
@@ -295,13 +304,19 @@ def cross_entropy(problem: StandardNormalProblem, *, n_per_level: int = DEFAULT_
                          f"got n_per_level={n_per_level}, rho={rho}, components={components}")
     full = covariance == "full" or (covariance == "auto"
                                     and problem.dim <= FULL_COVARIANCE_MAX_DIM)
+    early = []
+    if not full and n_per_level * rho < MIN_ELITE_PER_DIM * problem.dim:
+        early.append(f"n_per_level * rho = {n_per_level * rho:.0f} samples beyond each "
+                     f"threshold for {problem.dim} variables (fewer than "
+                     f"{MIN_ELITE_PER_DIM} per variable): the fitted means are noisy and the "
+                     "reported CoV may be too small - raise n_per_level")
     rng, recorded_seed = resolve_seed(seed, caller)
     calls_before = problem.n_calls
     counters = problem.counters()
 
     h = _Mixture.standard(problem.dim)
-    levels, warnings = [], []
-    reached = False
+    levels, warnings = [], early
+    reached = stalled = False
     previous = math.inf
     for level in range(max_levels):
         u = h.sample(n_per_level, rng)
@@ -316,6 +331,7 @@ def cross_entropy(problem: StandardNormalProblem, *, n_per_level: int = DEFAULT_
                             "(the limit state is flat over the samples); cross-entropy "
                             "cannot progress - check the limit state or use "
                             "crude_monte_carlo")
+            stalled = True
             break
         fitted = _fit(u, w, components, full, rng)
         if fitted.weights.size == 1 and h.weights.size == 1 and smoothing < 1.0:
@@ -334,7 +350,7 @@ def cross_entropy(problem: StandardNormalProblem, *, n_per_level: int = DEFAULT_
         if xi == 0.0:
             reached = True
             break
-    if not reached and not warnings:
+    if not reached and not stalled:
         warnings.append(f"cross-entropy did not reach the failure domain within "
                         f"max_levels={max_levels}; the estimate uses the last density")
 
