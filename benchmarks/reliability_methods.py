@@ -181,7 +181,7 @@ def subset_study(repeats: int, only: str = "") -> None:
     """
     settings = [("N=1250 p0=0.2 (default p0)", {"n_per_level": 1250, "p0": 0.2}, None),
                 ("N=1800 p0=0.1", {"n_per_level": 1800, "p0": 0.1}, None),
-                ("N=2300 p0=0.1 (CoV 0.25?)", {"n_per_level": 2300, "p0": 0.1}, None),
+                ("N=2300 p0=0.1", {"n_per_level": 2300, "p0": 0.1}, None),
                 ("N=2400 p0=0.05", {"n_per_level": 2400, "p0": 0.05}, None),
                 ("N=1500 p0=0.15", {"n_per_level": 1500, "p0": 0.15}, None),
                 ("N=1000 p0=0.3", {"n_per_level": 1000, "p0": 0.3}, None),
