@@ -30,39 +30,40 @@ DEFAULT_RHO = 0.1
 """Quantile of g that sets each intermediate threshold [-] (rho = 0.1 as in [3]_, from
 memory)."""
 DEFAULT_SAMPLES = 2000
-"""Samples per level [-]. On a linear limit state in 100 variables at pf = 1e-4 (50 runs,
+"""Samples per level [-]. On a linear limit state in 100 variables at pf = 1e-4 (100 runs,
 benchmarks/reliability_methods.py, section 4) N = 2000 gave a CoV of 0.05 for about
-10 000 evaluations, N = 1000 a CoV of 0.12 for about 4 900: the noise of the fitted means
+10 000 evaluations, N = 1000 a CoV of 0.13 for about 4 900: the noise of the fitted means
 grows with the dimension over N rho, so fewer samples cost more per unit of accuracy."""
 COVARIANCES = ("auto", "full", "identity")
 FULL_COVARIANCE_MAX_DIM = 10
 """With ``covariance="auto"``, the largest dimension for which covariances are fitted [-].
 Above it only the means move (unit covariance): a d x d covariance estimated from about
 N rho weighted samples is too noisy for the importance weights as d grows ([3]_, from
-memory). Measured at d = 100 with N = 2000 (50 runs, benchmarks/reliability_methods.py,
-section 4): fitted covariances gave mean estimates 0.30-1.25 of the exact pf with an
-observed CoV of 2.5-3.3 against a reported 0.6-0.7; the means alone, 1.01 and 0.05-0.07."""
+memory). Measured at d = 100 with N = 2000 (100 runs, benchmarks/reliability_methods.py,
+section 4, pf 1e-4 and 1e-6): fitted covariances gave mean estimates 0.8-3.0 times the
+exact pf with an observed CoV of 3.7-8.2 against a reported 0.6-0.7; the means alone,
+1.01 and 0.05-0.07, reported 0.96-1.15 of the observed."""
 MIN_ELITE_PER_DIM = 2
 """Below N rho = 2 d K samples beyond each threshold (d variables, K components) in the
 means-only mode a warning says the reported CoV may be too small [-]: at d = 100 with
-N = 1000 and one component the reported CoV was 0.56 of the observed spread at pf = 1e-6
-(benchmark, section 4), with N = 2000 0.94-1.11; with N = 2000 and four components
+N = 1000 and one component the reported CoV was 0.58 of the observed spread at pf = 1e-6
+(benchmark, section 4, 100 runs), with N = 2000 0.96-1.15; with N = 2000 and four components
 (section 1, linear 100-D) the mean estimate was 0.91 of the exact pf and the reported CoV
 0.17 against 0.24 observed. This engine's rule from those measurements."""
 SMOOTHING = 0.7
 """Weight of the new fit in the smoothed update of a single Gaussian,
 v_t+1 = a v_fit + (1 - a) v_t for the mean and the covariance [-] (smoothed updating of
 [1]_; the value is this engine's choice). It damps the noise of each level's fitted mean:
-on a linear limit state in 100 variables at pf = 1e-4 with N = 1000 (50 runs), without it
-the mean estimate was 0.88 of the exact pf and the reported CoV half the observed 0.51;
-with it, bias 1.00 and reported 0.12 against observed 0.12."""
+on a linear limit state in 100 variables at pf = 1e-4 with N = 1000 (100 runs), without
+it the mean estimate was 0.90 of the exact pf and the reported CoV 0.27 against 0.62
+observed; with it, bias 1.00 and reported 0.13 against observed 0.13."""
 VARIANCE_FLOOR = 1.0
 """Smallest variance of a fitted component in any direction [-]: the sampling density is
 never narrower than the standard normal. A fit to the samples beyond a threshold is narrow
 across the limit state (about 1/beta), so each level's rho-quantile moves the threshold
 only a little and the weights of later levels degenerate: on a 2-D linear limit state at
-pf = 1e-6 (50 runs), without the floor 14 runs did not reach the failure domain in 30
-levels and the mean estimate was 0.53 of the exact pf; with it every run reached it in 5
+pf = 1e-6 (100 runs), without the floor 26 runs did not reach the failure domain in 30
+levels and the mean estimate was 0.50 of the exact pf; with it every run reached it in 5
 levels, bias 1.00, CoV 0.06 for about 11 600 evaluations. This engine's choice, not a
 rule of [1]_-[3]_."""
 MAX_CE_SAMPLES = 10**8
@@ -276,13 +277,13 @@ def cross_entropy(problem: StandardNormalProblem, *, n_per_level: int = DEFAULT_
     (`VARIANCE_FLOOR`). Loops run over mixture components and EM iterations,
     never over samples.
 
-    Measured over 50 runs (benchmarks/reliability_methods.py, section 4, defaults):
+    Measured over 100 runs (benchmarks/reliability_methods.py, section 4, defaults):
     linear limit states at pf = 1e-6 in 2 and 100 variables, CoV 0.06-0.07 for
-    about 11 700 evaluations (crude Monte Carlo needs about 2-3 x 10^8 for the
-    same CoV), reported CoV 0.87-0.94 of the observed spread (1.1 at pf = 1e-4);
-    the four-branch series system (four design points at beta = 3), CoV 0.08-0.09
-    for about 7 600 evaluations with one component and 0.04-0.05 for 6 000 with
-    ``components=4``, reported 0.88-1.14 of the observed spread.
+    about 11 600 evaluations (crude Monte Carlo needs 2-3 x 10^8 for the same
+    CoV), reported CoV 0.93-0.96 of the observed spread (1.06-1.15 at pf = 1e-4);
+    the four-branch series system (four design points at beta = 3), CoV 0.08 for
+    about 7 600 evaluations with one component and 0.045 for 6 000 with
+    ``components=4``, reported 0.95-1.03 of the observed spread, bias 1.00-1.01.
 
     Like every importance sampling, the reported CoV can be too small when the
     density misses an important region; with ``check`` an independent subset
