@@ -9,6 +9,7 @@ METHOD_NAMES = (
     "form",
     "sorm",
     "importance_sampling",
+    "cross_entropy",
     "subset_simulation",
     "crude_monte_carlo",
     "polynomial_chaos",

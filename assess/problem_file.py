@@ -90,8 +90,8 @@ __all__ = [
 ]
 
 METHODS = tuple(METHOD_FUNCTIONS)
-"""Valid approach names: auto, form, sorm, importance_sampling, subset_simulation,
-crude_monte_carlo, polynomial_chaos."""
+"""Valid approach names: auto, form, sorm, importance_sampling, cross_entropy,
+subset_simulation, crude_monte_carlo, polynomial_chaos."""
 
 DISTRIBUTIONS = KINDS
 
@@ -101,6 +101,7 @@ SAMPLES_OPTION = {
     "form": None,
     "sorm": None,
     "importance_sampling": "n",
+    "cross_entropy": "n_per_level",
     "subset_simulation": "n_per_level",
     "crude_monte_carlo": "n",
     "polynomial_chaos": "n_samples",

@@ -13,7 +13,11 @@ Prints, in one run:
    pf 1e-4 and 1e-6, ``--study-repeats`` independent runs): mean reported CoV against the
    observed spread, and the CoV reached within 10 000 evaluations, for the settings tried;
 3. engine overhead: wall time of each method per limit-state evaluation against the same
-   number of points evaluated by the bare numpy function in one call.
+   number of points evaluated by the bare numpy function in one call;
+4. cross-entropy importance sampling (issue 14): bias, reported vs observed CoV over
+   ``--study-repeats`` runs and the crude Monte Carlo sample size for the same CoV, on linear
+   limit states (2-D and 100-D, pf 1e-4 and 1e-6) and the four-branch series system, with
+   the variants its defaults were chosen from.
 """
 
 from __future__ import annotations
@@ -30,9 +34,9 @@ from scipy.stats import norm
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
+import assess.reliability.cross_entropy_sampling as ce
 import assess.reliability.subset as subset
 from assess.reliability import StandardNormalProblem, run_method
-from assess.reliability.subset import subset_simulation
 from tests import reference_problems as ref
 
 PROBLEMS = [
@@ -55,6 +59,8 @@ METHODS = [
     ("SORM", "sorm", {"check": False, "design_points": 1}),
     ("auto", "auto", {}),
     ("IS (checked)", "importance_sampling", {}),
+    ("CE K=1", "cross_entropy", {"check": False}),
+    ("CE K=4", "cross_entropy", {"check": False, "components": 4}),
     ("SuS N=1000", "subset_simulation", {}),
     ("crude MC 1e5", "crude_monte_carlo", {"n": 100_000}),
     ("poly. chaos", "polynomial_chaos", {}),
@@ -126,41 +132,97 @@ def print_methods_table(repeats: int) -> None:
           "gain: MC evals / evals.")
 
 
-def subset_study(repeats: int) -> None:
-    """Issue 14: reported vs observed CoV over many runs, and the CoV at 10 000 evaluations."""
-    settings = [("N=1000 p0=0.1 (before)", {"n_per_level": 1000, "p0": 0.1}),
-                ("N=1700 p0=0.1", {"n_per_level": 1700, "p0": 0.1}),
-                ("N=1250 p0=0.2 (default)", {"n_per_level": 1250, "p0": 0.2}),
-                ("N=1000 p0=0.3", {"n_per_level": 1000, "p0": 0.3}),
-                ("N=1000 p0=0.1 MMA", {"n_per_level": 1000, "p0": 0.1, "sampler": "mma"}),
-                # issue 14, about 10 000 evaluations at pf 1e-6; a* = target acceptance of aCS
-                ("N=1800 p0=0.1", {"n_per_level": 1800, "p0": 0.1}),
-                ("N=1800 p0=0.1 a*=0.55", {"n_per_level": 1800, "p0": 0.1, "a*": 0.55}),
-                ("N=1250 p0=0.2 a*=0.30", {"n_per_level": 1250, "p0": 0.2, "a*": 0.30})]
-    header = (f"{'case':22s} {'setting':24s} {'bias':>6s} {'obs CoV':>7s} {'rep CoV':>7s} "
-              f"{'rep/obs':>7s} {'+/-':>5s} {'Au-Beck/obs':>11s} {'evals':>7s} "
-              f"{'CoV@10k':>7s}")
+def _subset_variant(name: str):
+    """A copy of the subset-simulation module with one change tried in issue 14 and not
+    kept in the engine (the change is a text substitution, asserted to apply)."""
+    import types
+
+    source = Path(subset.__file__).read_text(encoding="utf-8")
+    changes = {
+        # chains restart the Robbins-Monro step count of lambda at every level
+        "reset": ("        max_len = int(lengths.max())\n",
+                  "        max_len = int(lengths.max())\n        self.n_adaptations = 0\n"),
+        # half of the seeds, chains twice as long
+        "half seeds": ("        seeds_u, seeds_g = u[seed_index], g[seed_index]\n",
+                       "        seed_index = seed_index[: max(2, seed_index.size // 2)]\n"
+                       "        seeds_u, seeds_g = u[seed_index], g[seed_index]\n"),
+        # one step of burn-in: the seed itself is not a sample of the next level
+        "burn-in": ("        run = chains.run(problem, seeds_u, seeds_g, threshold, lengths)\n",
+                    "        run = chains.run(problem, seeds_u, seeds_g, threshold, lengths + 1)\n"
+                    "        run['chain_u'] = run['chain_u'][1:]\n"
+                    "        run['chain_g'] = run['chain_g'][1:]\n"),
+        # the last level is accepted from N p0 / 2 failed samples (not N p0): saves the
+        # extra level that a pf just below p0^k costs
+        "last level": ("        final = n_fail >= n_seeds_target or level == max_levels - 1\n",
+                       "        final = (n_fail >= max(2, n_seeds_target // 2)\n"
+                       "                 or level == max_levels - 1)\n"),
+    }
+    old, replacement = changes[name]
+    assert old in source, name
+    source = source.replace(old, replacement)
+    if name == "last level":
+        old = "            converged = n_fail > 0 and n_fail >= n_seeds_target\n"
+        assert old in source
+        source = source.replace(old, "            converged = n_fail >= max(2, n_seeds_target // 2)\n")
+    module = types.ModuleType(f"subset_{name.replace(' ', '_')}")
+    exec(compile(source, module.__name__, "exec"), module.__dict__)  # noqa: S102 - benchmark only
+    return module
+
+
+def subset_study(repeats: int, only: str = "") -> None:
+    """Issue 14: reported vs observed CoV over many runs, and the CoV at 10 000 evaluations.
+
+    The settings tried: level probability p0 0.05-0.3 with N chosen for about 10 000
+    evaluations at pf 1e-6, the target acceptance a* of adaptive conditional sampling
+    (Papaioannou et al. 2015: 0.44), the adaptation restarted at each level, half the seeds
+    with chains twice as long, one step of burn-in, the last level accepted from N p0 / 2
+    failed samples, and the modified Metropolis algorithm. ``only``: run the settings whose
+    label contains this text.
+    """
+    settings = [("N=1250 p0=0.2 (default p0)", {"n_per_level": 1250, "p0": 0.2}, None),
+                ("N=1800 p0=0.1", {"n_per_level": 1800, "p0": 0.1}, None),
+                ("N=2300 p0=0.1", {"n_per_level": 2300, "p0": 0.1}, None),
+                ("N=2400 p0=0.05", {"n_per_level": 2400, "p0": 0.05}, None),
+                ("N=1500 p0=0.15", {"n_per_level": 1500, "p0": 0.15}, None),
+                ("N=1000 p0=0.3", {"n_per_level": 1000, "p0": 0.3}, None),
+                ("N=1800 p0=0.1 a*=0.30", {"n_per_level": 1800, "p0": 0.1, "a*": 0.30}, None),
+                ("N=1800 p0=0.1 a*=0.55", {"n_per_level": 1800, "p0": 0.1, "a*": 0.55}, None),
+                ("N=1800 p0=0.1 reset", {"n_per_level": 1800, "p0": 0.1}, "reset"),
+                ("N=1800 p0=0.1 half seeds", {"n_per_level": 1800, "p0": 0.1}, "half seeds"),
+                ("N=1650 p0=0.1 burn-in", {"n_per_level": 1650, "p0": 0.1}, "burn-in"),
+                ("N=1800 p0=0.1 last level", {"n_per_level": 1800, "p0": 0.1}, "last level"),
+                ("N=1800 p0=0.1 MMA", {"n_per_level": 1800, "p0": 0.1, "sampler": "mma"},
+                 None)]
+    header = (f"{'case':15s} {'setting':27s} {'bias':>6s} {'obs CoV':>7s} {'rep CoV':>7s} "
+              f"{'rep/obs':>7s} {'+/-':>5s} {'AuBeck/obs':>10s} {'evals':>7s} "
+              f"{'CoV@10k':>7s} {'MC evals':>9s} {'gain':>6s}")
     print(header)
     print("-" * len(header))
     for dim in (2, 100):
         for pf in (1e-4, 1e-6):
             beta = float(norm.isf(pf))
-            for label, options in settings:
-                if (options.get("sampler") == "mma" or options.get("n_per_level") == 1800
-                        or "a*" in options) and pf > 1e-5:
+            for label, options, variant in settings:
+                if only not in label:
                     continue
+                if pf > 1e-5 and not label.startswith(("N=1250 p0=0.2", "N=1800 p0=0.1")):
+                    continue
+                if pf > 1e-5 and (variant or "a*" in options or "sampler" in options):
+                    continue
+                module = _subset_variant(variant) if variant else subset
                 pfs, covs, au_beck, calls = [], [], [], []
                 options = dict(options)
                 acceptance = options.pop("a*", subset.TARGET_ACCEPTANCE)
-                default_acceptance, subset.TARGET_ACCEPTANCE = subset.TARGET_ACCEPTANCE, acceptance
+                default_acceptance = module.TARGET_ACCEPTANCE
+                module.TARGET_ACCEPTANCE = acceptance
                 for seed in range(repeats):
                     case = ref.linear_standard_normal(dim, beta)
-                    result = subset_simulation(case.problem, seed=10_000 + seed, **options)
+                    result = module.subset_simulation(case.problem, seed=10_000 + seed,
+                                                      **options)
                     pfs.append(result.pf)
                     covs.append(result.cov)
                     au_beck.append(result.details["cov_au_beck"])
                     calls.append(result.n_calls)
-                subset.TARGET_ACCEPTANCE = default_acceptance
+                module.TARGET_ACCEPTANCE = default_acceptance
                 pfs = np.array(pfs)
                 observed = float(pfs.std(ddof=1) / pfs.mean())
                 ratio = float(np.mean(covs)) / observed
@@ -170,14 +232,18 @@ def subset_study(repeats: int) -> None:
                 kurtosis = float(np.mean(z**4))
                 error = ratio * math.sqrt(max(kurtosis - 1.0, 0.0) / (4.0 * repeats))
                 at_10k = observed * math.sqrt(float(np.mean(calls)) / 10_000)
-                print(f"{dim:3d}-D pf={pf:.0e}{'':10s} {label:24s} {pfs.mean() / pf:6.3f} "
+                mc = crude_equivalent(pf, observed)
+                print(f"{dim:3d}-D pf={pf:.0e}{'':3s} {label:27s} {pfs.mean() / pf:6.3f} "
                       f"{observed:7.3f} {np.mean(covs):7.3f} {ratio:7.2f} {error:5.2f} "
-                      f"{np.mean(au_beck) / observed:11.2f} {np.mean(calls):7.0f} "
-                      f"{at_10k:7.3f}")
+                      f"{np.mean(au_beck) / observed:10.2f} {np.mean(calls):7.0f} "
+                      f"{at_10k:7.3f} {mc:9.3g} {mc / np.mean(calls):6.0f}")
     print("\nrep/obs: mean reported CoV / observed spread of pf (target 0.85-1.15), +/- its "
-          "standard error;\nAu-Beck/obs: the same for the per-level formula of Au & Beck "
+          "standard error;\nAuBeck/obs: the same for the per-level formula of Au & Beck "
           "(2001), kept in details['cov_au_beck'];\nCoV@10k: observed CoV scaled to 10 000 "
-          "evaluations as 1/sqrt(evaluations) (target <= 0.25 at pf = 1e-6).")
+          "evaluations as 1/sqrt(evaluations) (target <= 0.25 at pf = 1e-6);\nMC evals: "
+          "crude Monte Carlo samples for the observed CoV, (1 - pf)/(pf CoV^2); gain: MC "
+          "evals / evals.\nreset, half seeds, burn-in, last level: variants tried in issue 14, not in the "
+          "engine (a copy of the module with one change, see _subset_variant).")
 
 
 def overhead(repeats: int) -> None:
@@ -224,12 +290,69 @@ def overhead(repeats: int) -> None:
           "ratio: engine / bare (medians).")
 
 
+def cross_entropy_study(repeats: int) -> None:
+    """Issue 14: cross-entropy importance sampling, its CoV against the spread over runs."""
+    cases = [("linear 2-D pf=1e-4", lambda: ref.linear_standard_normal(2, norm.isf(1e-4))),
+             ("linear 2-D pf=1e-6", lambda: ref.linear_pf_1e6(2)),
+             ("linear 100-D pf=1e-4", lambda: ref.linear_standard_normal(100, norm.isf(1e-4))),
+             ("linear 100-D pf=1e-6", lambda: ref.linear_pf_1e6(100)),
+             ("four-branch (4 modes)", ref.four_branch_series),
+             ("four-branch (1 margin)", ref.four_branch_single)]
+    variants = [("default (K=1)", {}, None),
+                ("K=4", {"components": 4}, None),
+                ("N=1000", {"n_per_level": 1000}, None),
+                ("N=1000 no smoothing", {"n_per_level": 1000, "smoothing": 1.0}, None),
+                ("full covariance", {"covariance": "full"}, None),
+                ("no variance floor", {}, 0.0)]
+    header = (f"{'case':23s} {'variant':20s} {'ref pf':>9s} {'bias':>6s} {'obs CoV':>7s} "
+              f"{'rep CoV':>7s} {'rep/obs':>7s} {'evals':>7s} {'MC evals':>9s} {'gain':>7s} "
+              f"{'not conv.':>9s}")
+    print(header)
+    print("-" * len(header))
+    for label, make in cases:
+        dim = make().problem.dim
+        for name, options, floor in variants:
+            if name == "K=4" and dim > 2:
+                continue
+            if name.startswith("N=1000") and dim < 100:
+                continue
+            if name == "full covariance" and dim < 100:
+                continue
+            if name == "no variance floor" and (dim > 2 or "four" in label):
+                continue
+            default_floor = ce.VARIANCE_FLOOR
+            if floor is not None:
+                ce.VARIANCE_FLOOR = floor
+            pfs, covs, calls, failed = [], [], [], 0
+            for seed in range(repeats):
+                case = make()
+                result = ce.cross_entropy(case.problem, seed=20_000 + seed, **options)
+                pfs.append(result.pf)
+                covs.append(result.cov)
+                calls.append(result.n_calls)
+                failed += not result.converged
+            ce.VARIANCE_FLOOR = default_floor
+            pfs = np.array(pfs)
+            observed = float(pfs.std(ddof=1) / pfs.mean()) if pfs.mean() > 0 else math.nan
+            reported = float(np.nanmean(covs)) if np.any(np.isfinite(covs)) else math.nan
+            mc = crude_equivalent(case.pf, observed)
+            print(f"{label:23s} {name:20s} {case.pf:9.3e} {pfs.mean() / case.pf:6.3f} "
+                  f"{observed:7.3f} {reported:7.3f} {reported / observed:7.2f} "
+                  f"{np.mean(calls):7.0f} {mc:9.3g} {mc / np.mean(calls):7.1f} {failed:9d}")
+    print("\nK: Gaussian components; N: samples per level (default 2000); smoothing 0.7 by "
+          "default;\nfull covariance: fitted d x d covariances (default above 10 variables: "
+          "means only);\nno variance floor: fitted variances not raised to 1 (default: they "
+          "are); not conv.: runs that did not reach the failure domain.")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeats", type=int, default=20, help="runs per method and problem")
     parser.add_argument("--study-repeats", type=int, default=200,
                         help="runs per case of the subset-simulation study")
-    parser.add_argument("--skip", nargs="*", default=[], choices=["methods", "study", "overhead"])
+    parser.add_argument("--only", default="",
+                        help="subset study: only the settings whose label contains this text")
+    parser.add_argument("--skip", nargs="*", default=[], choices=["methods", "study", "overhead", "ce"])
     args = parser.parse_args()
     warnings.simplefilter("ignore")
     repeats = max(2, args.repeats)
@@ -240,11 +363,14 @@ def main() -> None:
     if "study" not in args.skip:
         print(f"\n2. Subset simulation: reported against observed CoV, {args.study_repeats} "
               "runs per case\n")
-        subset_study(max(10, args.study_repeats))
+        subset_study(max(10, args.study_repeats), args.only)
     if "overhead" not in args.skip:
         print(f"\n3. Engine overhead per limit-state evaluation (median of {min(repeats, 5)} "
               "runs)\n")
         overhead(min(repeats, 5))
+    if "ce" not in args.skip:
+        print(f"\n4. Cross-entropy importance sampling, {args.study_repeats} runs per case\n")
+        cross_entropy_study(max(10, args.study_repeats))
 
 
 if __name__ == "__main__":

@@ -9,11 +9,13 @@ and returns a `ReliabilityResult`.
 
 Methods: `auto` (let the tool choose and cross-check), `form` (improved HL-RF,
 several design points), `sorm` (curvatures; Breitung, Hohenbichler-Rackwitz, Tvedt),
-`importance_sampling` (mixture around the design points), `subset_simulation`
+`importance_sampling` (mixture around the design points), `cross_entropy` (adaptive
+importance sampling, Gaussian or Gaussian-mixture density), `subset_simulation`
 (aCS or modified Metropolis), `crude_monte_carlo`; `run_method` dispatches by name.
 """
 
 from assess.reliability.auto import auto
+from assess.reliability.cross_entropy_sampling import cross_entropy
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.dispatch import METHODS, run_method
 from assess.reliability.form import form
@@ -29,6 +31,7 @@ __all__ = [
            "StandardNormalProblem",
            "auto",
            "beta_from_pf",
+           "cross_entropy",
            "crude_monte_carlo",
            "form",
            "importance_sampling",

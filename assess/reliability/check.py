@@ -58,6 +58,9 @@ _REASON = {
             "(several important regions or a non-smooth limit state)",
     "importance_sampling": "the importance-sampling density around the design point(s) "
                            "misses part of the failure domain, so its own CoV is too small",
+    "cross_entropy": "the cross-entropy sampling density misses part of the failure domain "
+                     "(too few mixture components for its important regions), so its own "
+                     "CoV is too small",
 }
 
 
@@ -128,8 +131,8 @@ def trust_between(pf: float, cov: float, check: ReliabilityResult, method: str) 
     outcome = compare(pf, cov, check)
     if outcome["agree"]:
         return {**outcome, "trust": method, "reason": "the two agree"}
-    if method == "importance_sampling" and pf > check.pf:
-        return {**outcome, "trust": "importance_sampling",
+    if method in ("importance_sampling", "cross_entropy") and pf > check.pf:
+        return {**outcome, "trust": method,
                 "reason": "importance sampling's failed samples show failure mass that "
                           "subset simulation's Markov chains did not reach (a narrow region "
                           "or a funnel-shaped tail), so subset simulation is too low"}

@@ -7,6 +7,7 @@ import inspect
 from assess.errors import InputError
 from assess.method_names import METHOD_NAMES
 from assess.reliability.auto import auto
+from assess.reliability.cross_entropy_sampling import cross_entropy
 from assess.reliability.crude import crude_monte_carlo
 from assess.reliability.form import form
 from assess.reliability.importance import importance_sampling
@@ -34,6 +35,7 @@ METHODS = {
     "form": form,
     "sorm": sorm,
     "importance_sampling": importance_sampling,
+    "cross_entropy": cross_entropy,
     "subset_simulation": subset_simulation,
     "crude_monte_carlo": crude_monte_carlo,
     "polynomial_chaos": polynomial_chaos,
@@ -46,10 +48,10 @@ if tuple(METHODS) != METHOD_NAMES:  # the light list the command line reads must
 CHECKED_DEFAULTS = {"check": True, "design_points": 4}
 """Options `run_method` gives FORM, SORM and importance sampling unless the caller sets
 them: an independent subset-simulation check, and a search for up to 4 design points
-per failure mode. A direct call of `form` keeps the plain defaults (one design point,
+per failure mode (cross-entropy takes the check only). A direct call of `form` keeps the plain defaults (one design point,
 no check), which inner loops (value of information, remaining life) rely on for speed."""
 
-_CHECKED = ("form", "sorm", "importance_sampling")
+_CHECKED = ("form", "sorm", "importance_sampling", "cross_entropy")
 
 
 def run_method(problem: StandardNormalProblem, method: str, *, seed=None,
@@ -62,14 +64,15 @@ def run_method(problem: StandardNormalProblem, method: str, *, seed=None,
         Limit state(s) in u-space; g <= 0 is failure.
     method : str
         One of ``"auto"``, ``"form"``, ``"sorm"``, ``"importance_sampling"``,
-        ``"subset_simulation"``, ``"crude_monte_carlo"``, ``"polynomial_chaos"``
-        (see `METHODS`).
+        ``"cross_entropy"``, ``"subset_simulation"``, ``"crude_monte_carlo"``,
+        ``"polynomial_chaos"`` (see `METHODS`).
     seed : int, numpy.random.Generator or None
         Seed of the sampling methods and of the checks; FORM and SORM themselves
         are deterministic.
     **options
         Keyword options of the chosen method (e.g. ``n_per_level=1000``).
-        FORM, SORM and importance sampling get `CHECKED_DEFAULTS` unless given.
+        FORM, SORM, importance sampling and cross-entropy get `CHECKED_DEFAULTS`
+        (those they take) unless given.
 
     Returns
     -------
@@ -90,7 +93,8 @@ def run_method(problem: StandardNormalProblem, method: str, *, seed=None,
         raise InputError(f"{method} does not take the option(s) {', '.join(unknown)}; "
                          f"its options are {', '.join(accepted)}")
     if method in _CHECKED:
-        options = {**CHECKED_DEFAULTS, **options}
+        defaults = {key: value for key, value in CHECKED_DEFAULTS.items() if key in accepted}
+        options = {**defaults, **options}
     if "seed" in accepted:
         options["seed"] = seed
     return function(problem, **options)
