@@ -97,7 +97,9 @@ def auto(problem: StandardNormalProblem, *, seed=None, n_per_level: int | None =
         Most design points sought per failure mode [-].
     max_calls : int, optional
         Budget of evaluations for repeating subset simulation [-]; default
-        200 000.
+        200 000. 0: one subset-simulation run, never repeated (the site steps pass 0
+        and repeat the whole estimate only where a verdict stays undecided,
+        `assess.reliability.interval.sample_until_decided`).
 
     Returns
     -------
@@ -118,7 +120,7 @@ def auto(problem: StandardNormalProblem, *, seed=None, n_per_level: int | None =
     target_cov = check_real(target_cov, "target_cov", caller, 0.0, 10.0)
     design_points = check_int(design_points, "design_points", caller, 1, 20)
     budget = check_int(DEFAULT_BUDGET if max_calls is None else max_calls, "max_calls",
-                       caller, 1)
+                       caller, 0)
     calls_before = problem.n_calls
     counters = problem.counters()
     settings = {"n_per_level": n_per_level, "n": n_max, "target_cov": target_cov,
@@ -202,7 +204,7 @@ def auto(problem: StandardNormalProblem, *, seed=None, n_per_level: int | None =
                           "beta": _pooled(runs).beta, "cov": _pooled_cov(runs),
                           "n_calls": added, "converged": True,
                           "note": f"runs pooled towards CoV {target_cov:g} ({len(runs)} in all)"})
-        if _pooled_cov(runs) > target_cov:
+        if _pooled_cov(runs) > target_cov and budget > 0:
             warnings.append(f"subset simulation reached CoV {_pooled_cov(runs):.2g}, above "
                             f"the {target_cov:g} aimed at, within the budget of {budget} "
                             "evaluations")
