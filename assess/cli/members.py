@@ -125,8 +125,7 @@ def members_command(
         quick: QuickFlag = False, samples: SamplesOption = None,
         verdict_calls: VerdictCallsOption = None,
         method: Annotated[str, typer.Option("--method", help="Reliability method: "
-                                            + ", ".join(METHOD_NAMES) + " (default "
-                                            + DEFAULT_METHOD + ").")] = DEFAULT_METHOD,
+                                            + ", ".join(METHOD_NAMES) + ".")] = DEFAULT_METHOD,
         plots: Annotated[bool, typer.Option("--plots/--no-plots",
                                             help="Write PNG plots to results/plots/.")] = True,
         json_output: JsonFlag = False):
