@@ -32,7 +32,7 @@ import assess.reliability.subset as subset  # noqa: E402
 import assess.site.result_cache as result_cache  # noqa: E402
 import assess.updating.cache as posterior_cache  # noqa: E402
 from assess.report.job import run_and_report  # noqa: E402
-from assess.site.settings import RunSettings  # noqa: E402
+from assess.site.settings import DEFAULT_METHOD, RunSettings  # noqa: E402
 
 DEMO = Path(__file__).resolve().parents[1] / "demo_sites" / "tanners-yard"
 COUNTS = {
@@ -96,7 +96,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="the --quick settings")
     parser.add_argument(
-        "--method", default="subset_simulation", help="reliability method of the member betas"
+        "--method", default=DEFAULT_METHOD, help="reliability method of the member betas"
     )
     args = parser.parse_args()
     settings = RunSettings(quick=args.quick, method=args.method)

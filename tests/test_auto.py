@@ -63,7 +63,9 @@ def test_form_trap_is_answered_by_subset_simulation():
     result = run_method(case.problem, "auto", seed=4)
     assert _within(result, case.pf)
     assert result.details["tried"][0]["method"] == "subset_simulation"
-    assert result.warnings
+    # it picks subset simulation and flags FORM (beta -0.23 here, 78.5 in the issue)
+    assert result.details["chosen"] == "subset_simulation"
+    assert any(w.startswith("FORM") for w in result.warnings)
 
 
 @pytest.mark.parametrize("beta", [6.0, 8.0, 10.0])
@@ -86,6 +88,19 @@ def test_no_failure_gives_a_bound_not_nan():
     assert result.details["beta_lower"] == pytest.approx(stats.norm.isf(
         result.details["pf_upper"]))
     assert any("a bound, not an estimate" in w for w in result.warnings)
+
+
+def test_one_pass_gives_one_subset_run():
+    # max_calls=0 (the site steps): when subset simulation is the answer (the FORM trap of
+    # issue 14, pf by quadrature) it is one run, its own CoV, no warning about the CoV aimed
+    # at; the estimate is still within 3 of its standard deviations of the exact pf.
+    case = form_trap()
+    result = run_method(case.problem, "auto", seed=4, n_per_level=500, max_calls=0)
+    assert result.details["chosen"] == "subset_simulation"
+    assert [t["method"] for t in result.details["tried"]] == ["subset_simulation", "form"]
+    assert result.cov == pytest.approx(result.details["tried"][0]["cov"])
+    assert not any("aimed at" in w for w in result.warnings)
+    assert _within(result, case.pf)
 
 
 def test_site_options_and_reproducibility():
@@ -111,3 +126,64 @@ def test_nan_region_is_reported_once_and_counted_as_failure():
     assert problem.n_nan > 0
     exact = 1.0 - stats.norm.cdf(2.5) ** 2
     assert _within(result, exact)
+
+
+def test_auto_interval_feeds_the_verdict_rule():
+    # Closed form: linear g in 2 standard normals with beta = 3.5 exactly. The site steps read
+    # auto's CoV as for any sampling estimate (assess.reliability.interval): its interval at
+    # 3 sigma (99.73 %) holds the exact beta, the verdict is decided against targets 0.5 away
+    # (interval half-width here about 0.05) and undecided at the exact beta, and two runs
+    # pooled (the verdict loop's repetition) have the CoV sqrt(mean CoV^2 / 2).
+    from assess.reliability.interval import interval_verdict, pool_runs, result_interval
+
+    case = linear_standard_normal(2, 3.5)
+    first = run_method(case.problem, "auto", seed=11, n_per_level=500)
+    assert first.details["chosen"] == "importance_sampling" and first.details["check"]["agree"]
+    low, high = result_interval(first, 0.9973)
+    assert low <= case.beta <= high
+    low95, high95 = result_interval(first)
+    assert interval_verdict(first.beta, low95, high95, case.beta - 0.5) == "meets target"
+    assert interval_verdict(first.beta, low95, high95, case.beta + 0.5) == "below target"
+    assert interval_verdict(first.beta, low95, high95, first.beta) == "undecided"
+    second = run_method(case.problem, "auto", seed=12, n_per_level=500)
+    pooled = pool_runs([first, second])
+    assert pooled.cov == pytest.approx(math.sqrt((first.cov**2 + second.cov**2) / 2 / 2))
+    assert _within(pooled, case.pf)
+
+
+def test_site_steps_default_to_auto():
+    # Issue 14: "auto" is the default of the site steps (members, life, history); it gets the
+    # subset-simulation level size of the run (quick 500, full 1000), which is part of the
+    # result-cache key; --method still chooses the others ("common practice": a setting test).
+    import inspect
+
+    from assess.errors import InputError
+    from assess.site.before_after import assess_members
+    from assess.site.settings import DEFAULT_METHOD, RunSettings
+
+    assert DEFAULT_METHOD == "auto" == RunSettings().method
+    assert inspect.signature(assess_members).parameters["method"].default == "auto"
+    # one pass of auto (max_calls 0): the verdict loop repeats only undecided estimates
+    assert RunSettings(quick=True).reliability_options == {"n_per_level": 500, "max_calls": 0}
+    assert RunSettings().reliability_options == {"n_per_level": 1000, "max_calls": 0}
+    assert RunSettings(method="subset_simulation").reliability_options == {"n_per_level": 1000}
+    assert RunSettings(method="form").reliability_options == {}
+    with pytest.raises(InputError, match="--method"):
+        RunSettings(method="guess")
+
+
+def test_members_step_takes_the_drivers_from_auto_form_search():
+    # The members step reads the importance factors of auto's own FORM search instead of a
+    # second FORM run. Linear g with weights a_i: FORM is exact, beta = 3.5 and alpha_i^2 =
+    # a_i^2 / |a|^2 (closed form); another method gives None (a FORM run is made instead).
+    from assess.site.before_after import form_part
+
+    case = linear_standard_normal(3, 3.5)
+    result = run_method(case.problem, "auto", seed=13, n_per_level=500, max_calls=0)
+    form = form_part(result)
+    assert form.method == "form" and form.converged
+    assert form.beta == pytest.approx(3.5, abs=1e-4)
+    weights = 1.0 + np.arange(3) / 3
+    expected = weights**2 / np.sum(weights**2)
+    assert np.allclose(sorted(form.importance_factors.values()), sorted(expected), atol=1e-4)
+    assert form_part(run_method(case.problem, "subset_simulation", seed=13)) is None

@@ -156,7 +156,7 @@ def test_members_json_has_every_mode_and_the_system(first_members_run):
     assert set(payload["undecided"]) == {f"{r['member']} {r['mode']}" for r in rows
                                          if r["verdict"] == "undecided"}
     # a series system is no more reliable than its weakest mode: pf_sys >= max pf_i
-    # (Ditlevsen 1979 simple bounds). Both are subset-simulation estimates; the tolerance
+    # (Ditlevsen 1979 simple bounds). Both are sampling estimates (auto); the tolerance
     # is 3 standard errors of beta, sd(beta) ~ CoV(pf) Phi(-beta) / phi(beta) (delta method).
     system = next(r for r in rows if r["mode"] == "system")
     weakest = min((r for r in rows if r["member"] == "S1" and r["mode"] != "system"),

@@ -25,9 +25,9 @@ from assess.cli.options import (
     load_checked_site,
     make_settings,
 )
-from assess.site.settings import DEFAULT_SEED
+from assess.site.settings import DEFAULT_METHOD, DEFAULT_SEED
 
-METHOD_NAMES = ("subset_simulation", "auto", "form", "sorm", "importance_sampling",
+METHOD_NAMES = ("auto", "subset_simulation", "form", "sorm", "importance_sampling",
                 "crude_monte_carlo")
 
 
@@ -125,7 +125,7 @@ def members_command(
         quick: QuickFlag = False, samples: SamplesOption = None,
         verdict_calls: VerdictCallsOption = None,
         method: Annotated[str, typer.Option("--method", help="Reliability method: "
-                                            + ", ".join(METHOD_NAMES) + ".")] = "subset_simulation",
+                                            + ", ".join(METHOD_NAMES) + ".")] = DEFAULT_METHOD,
         plots: Annotated[bool, typer.Option("--plots/--no-plots",
                                             help="Write PNG plots to results/plots/.")] = True,
         json_output: JsonFlag = False):

@@ -18,6 +18,7 @@ import zlib
 from typing import Any, Callable
 
 import numpy as np
+from scipy.special import ndtr
 
 from assess.reliability.dispatch import run_method
 from assess.reliability.interval import (
@@ -32,10 +33,8 @@ from assess.site.member_models import build_member_model
 from assess.site.paths import has_ledger
 from assess.site.record import LedgerRow
 from assess.site.result_cache import cached_result, member_payload
-from assess.site.settings import DEFAULT_SEED
+from assess.site.settings import DEFAULT_METHOD, DEFAULT_SEED
 from assess.targets import Target, mode_target, system_target, target_beta
-
-DEFAULT_METHOD = "subset_simulation"
 
 
 @dataclasses.dataclass
@@ -245,6 +244,29 @@ def state_model(site, update, member_id: str, state: str = "after"):
     )
 
 
+def form_part(result):
+    """The FORM search inside an ``auto`` result (its governing design point, beta and
+    importance factors) as a FORM `ReliabilityResult`, or None for another method or when
+    FORM found no usable design point. Saves a second FORM search for the drivers [-]."""
+    if getattr(result, "method", None) != "auto" or not result.importance_factors:
+        return None
+    search = next((t for t in result.details.get("tried", []) if t["method"] == "form"), None)
+    beta = float(result.details.get("form_beta", np.nan))
+    if search is None or not np.isfinite(beta):
+        return None
+    return dataclasses.replace(
+        result,
+        method="form",
+        pf=float(ndtr(-beta)),
+        beta=beta,
+        cov=float("nan"),
+        n_calls=int(search["n_calls"]),
+        converged=bool(search["converged"]),
+        warnings=(),
+        details={"from": "auto", "design_points": result.details.get("design_points", [])},
+    )
+
+
 def _analysis_seed(seed: int, member: str, mode: str) -> int:
     return (int(seed) + zlib.crc32(f"{member}/{mode}".encode())) % (2**32)
 
@@ -271,7 +293,7 @@ def assess_members(
     update : SiteUpdate
         From `assess.site.materials.update_site` (its ``before`` and ``after``).
     method : str
-        Reliability method for the betas (default subset simulation).
+        Reliability method for the betas (default ``"auto"``, `assess.site.settings.DEFAULT_METHOD`).
     seed : int
         Base seed; each member and mode gets its own, the same before and after.
     importance : bool
@@ -369,7 +391,8 @@ def assess_members(
             outcome = {"before": before, "after": after}
             form_after = None
             if importance and label != "system":
-                form_after = run("after", group, "form", None, {})
+                # auto ran FORM already: its governing design point gives the drivers
+                form_after = form_part(after) or run("after", group, "form", None, {})
             results.append(
                 MemberResult(
                     member=member_id,

@@ -19,7 +19,7 @@ from assess.site.corrosion_state import present_state
 from assess.site.materials import update_site
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.record import LedgerRow
-from assess.site.settings import RunSettings
+from assess.site.settings import DEFAULT_METHOD, RunSettings
 from inspection_io.ledger import Ledger
 
 
@@ -69,7 +69,7 @@ def reassess_history(
     site,
     *,
     settings: RunSettings | None = None,
-    method: str = "subset_simulation",
+    method: str = DEFAULT_METHOD,
     progress=None,
     current=None,
 ) -> list[CampaignAssessment]:

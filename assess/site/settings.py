@@ -45,6 +45,12 @@ FULL_VERDICT_CALLS = 60_000
 simulation runs of 1000 samples per level at pf 1e-5)."""
 MAX_VERDICT_CALLS = 10**8
 
+DEFAULT_METHOD = "auto"
+"""Reliability method of the member betas when none is chosen (`assess.reliability.auto`:
+subset simulation, FORM from every region it shows, importance sampling on the design
+points, and a cross-check of the two estimates; the estimate it trusts carries its CoV,
+so the verdict interval applies) [-]."""
+
 MAX_DRAWS = 100_000
 MAX_CHAINS = 16
 
@@ -121,7 +127,8 @@ class RunSettings:
     fits : mapping
         Fit kind -> `FitSettings` (missing kinds take the defaults).
     reliability_samples : int or None
-        Samples per subset-simulation level (default by ``quick``) [-].
+        Samples per subset-simulation level of ``subset_simulation`` and ``auto`` (default
+        by ``quick``) [-].
     life_samples : int or None
         Importance samples of the remaining-life curves (default by ``quick``) [-].
     worth_outcomes : int or None
@@ -140,7 +147,7 @@ class RunSettings:
 
     seed: int = DEFAULT_SEED
     quick: bool = False
-    method: str = "subset_simulation"
+    method: str = DEFAULT_METHOD
     fits: Mapping[str, FitSettings] = dataclasses.field(default_factory=dict)
     reliability_samples: int | None = None
     life_samples: int | None = None
@@ -209,6 +216,10 @@ class RunSettings:
         """Options of `assess.reliability.run_method` for ``method``."""
         if self.method == "subset_simulation":
             return {"n_per_level": self.subset_samples}
+        if self.method == "auto":
+            # one pass; an undecided verdict is repeated by the members step within its
+            # budget (`max_calls_per_verdict`), not by auto towards its own CoV
+            return {"n_per_level": self.subset_samples, "max_calls": 0}
         if self.method in ("importance_sampling", "crude_monte_carlo") and self.reliability_samples:
             return {"n": self.reliability_samples}
         return {}
@@ -326,6 +337,7 @@ def _value(raw: str, key: str) -> Any:
 
 
 __all__ = [
+    "DEFAULT_METHOD",
     "DEFAULT_SEED",
     "FIT_KINDS",
     "FitSettings",
