@@ -25,10 +25,8 @@ from assess.cli.options import (
     load_checked_site,
     make_settings,
 )
+from assess.method_names import METHOD_NAMES
 from assess.site.settings import DEFAULT_METHOD, DEFAULT_SEED
-
-METHOD_NAMES = ("auto", "subset_simulation", "form", "sorm", "importance_sampling",
-                "crude_monte_carlo")
 
 
 def _fmt_beta(value: float) -> str:

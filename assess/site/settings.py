@@ -222,6 +222,8 @@ class RunSettings:
             return {"n_per_level": self.subset_samples, "max_calls": 0}
         if self.method in ("importance_sampling", "crude_monte_carlo") and self.reliability_samples:
             return {"n": self.reliability_samples}
+        if self.method == "cross_entropy" and self.reliability_samples:
+            return {"n_per_level": self.reliability_samples}
         return {}
 
     @property
