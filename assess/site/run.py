@@ -193,7 +193,7 @@ def _members(run: SiteRun):
     update = _with_present_corrosion(run, run.step("materials"))
     for message in design_check_warnings(run.site):
         warnings.warn(message, UserWarning, stacklevel=2)
-    return assess_members(
+    assessment = assess_members(
         run.site,
         update,
         method=run.settings.method,
@@ -202,6 +202,13 @@ def _members(run: SiteRun):
         members=run.members,
         max_calls=run.settings.max_calls_per_verdict,
     )
+    # the posterior family at each member's own tail level (assess.site.member_family)
+    from assess.site.member_family import member_family_checks, member_family_warning
+
+    text = member_family_warning(member_family_checks(run.site, update, assessment.results))
+    if text:
+        warnings.warn(text, UserWarning, stacklevel=2)
+    return assessment
 
 
 def _with_present_corrosion(run: SiteRun, update):
