@@ -127,9 +127,20 @@ def test_site_wiring_checks_the_quantities_that_matter_on_the_design_point_side(
     assert member_family_checks(site, update, results, draws=lambda z, q: draws) == []
 
 
+def test_a_level_beyond_what_the_draws_resolve_is_said_so():
+    # beta 4.5 with alpha^2 = 1: p = Phi(-4.5) = 3.4e-6; 4000 draws of the exact family
+    # estimate that tail with a CoV above 0.3, so the check is "not resolved", not "passed"
+    draws = conjugate_draws(2)
+    site, update, results = member_case(draws, alpha2=1.0, beta=4.5)
+    checks = member_family_checks(site, update, results, draws=lambda z, q: draws)
+    assert checks[0].check.levels[0] == pytest.approx(stats.norm.cdf(-4.5))
+    assert checks[0].check.cov[0] > 0.3 and not checks[0].resolved
+    assert "too few to check" in member_family_warning(checks)
+
+
 def test_site_wiring_is_silent_for_the_exact_family():
     draws = conjugate_draws(1)
     site, update, results = member_case(draws)
     checks = member_family_checks(site, update, results, draws=lambda z, q: draws)
-    assert len(checks) == 1 and checks[0].check.passed
+    assert len(checks) == 1 and checks[0].check.passed and checks[0].resolved
     assert member_family_warning(checks) is None

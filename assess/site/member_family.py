@@ -39,6 +39,11 @@ CHECKED = (
 """(member-model variable, materials quantity, kind of the physical value given its
 population): Y = ln X for lognormal (`assess.updating.to_model`)."""
 
+MAX_RESOLVED_COV = 0.3
+"""Largest CoV of the raw draws' tail estimate at which the check can say anything [-]:
+beyond it the allowance of `FamilyCheck.passed` (two CoVs) hides a factor of about 2,
+so such a check is reported as not resolved rather than as passed (judgement)."""
+
 MIN_IMPORTANCE = 0.01
 """Importance factors alpha^2 below this are not checked [-]: the quantity barely moves
 the member's pf (common practice for a negligible variable)."""
@@ -56,8 +61,14 @@ class MemberFamilyCheck:
     alpha2: float
     check: FamilyCheck
 
+    @property
+    def resolved(self) -> bool:
+        """Whether the raw draws resolve the member's tail level (CoV <= `MAX_RESOLVED_COV`)."""
+        return self.check.cov[0] <= MAX_RESOLVED_COV
+
     def to_dict(self) -> dict:
         return {
+            "resolved": self.resolved,
             "member": self.member,
             "mode": self.mode,
             "zone": self.zone,
@@ -151,21 +162,36 @@ def member_family_checks(site, update, results, draws=None) -> list[MemberFamily
 
 
 def member_family_warning(checks) -> str | None:
-    """One warning text for the member checks that failed, or None."""
+    """One warning text for the member checks that failed or that the draws cannot
+    resolve, or None."""
     failed = [c for c in checks if not c.check.passed]
-    if not failed:
+    unresolved = [c for c in checks if c.check.passed and not c.resolved]
+    if not failed and not unresolved:
         return None
-    parts = [
-        f"{c.member} {c.mode}: {c.quantity} in zone {c.zone} ({c.check.side} tail at "
-        f"p = {c.check.levels[0]:.2g}, family / draws = {c.check.ratios[0]:.2f})"
-        for c in failed
-    ]
-    return (
-        "At the members' own design-point levels the fitted posterior family differs from "
-        f"the raw posterior draws by more than a factor {FAMILY_CHECK_FACTOR:g}: "
-        + "; ".join(parts)
-        + ". These members' pf may be off by about that factor."
-    )
+
+    def describe(c):
+        return (
+            f"{c.member} {c.mode}: {c.quantity} in zone {c.zone} ({c.check.side} tail at "
+            f"p = {c.check.levels[0]:.2g}, family / draws = {c.check.ratios[0]:.2f}, "
+            f"CoV of the draws {c.check.cov[0]:.2f})"
+        )
+
+    texts = []
+    if failed:
+        texts.append(
+            "At the members' own design-point levels the fitted posterior family differs from "
+            f"the raw posterior draws by more than a factor {FAMILY_CHECK_FACTOR:g}: "
+            + "; ".join(describe(c) for c in failed)
+            + ". These members' pf may be off by about that factor."
+        )
+    if unresolved:
+        texts.append(
+            "The raw posterior draws are too few to check the fitted family at these "
+            "members' own design-point levels (more MCMC draws would): "
+            + "; ".join(describe(c) for c in unresolved)
+            + "."
+        )
+    return " ".join(texts)
 
 
 __all__ = ["CHECKED", "MemberFamilyCheck", "member_family_checks", "member_family_warning"]
