@@ -91,7 +91,11 @@ def run_site(
 
 def settings_for_site(site, **options) -> RunSettings:
     """`RunSettings` with the site file's ``[sampling]`` tables and the given options."""
-    return build_settings(site_sampling=getattr(site, "sampling", None), **options)
+    return build_settings(
+        site_sampling=getattr(site, "sampling", None),
+        site_verdict_calls=getattr(site, "verdict_calls", None),
+        **options,
+    )
 
 
 def exit_code(run: SiteRun) -> int:

@@ -186,6 +186,11 @@ class Zone:
     """Direct target reliability index for the zone's members [-] (site reference period)."""
     target_beta_reason: str | None = None
     """Why the target is set directly (required with `target_beta`)."""
+    half_cell_calibration: Mapping[str, Any] | None = None
+    """``[zones.<id>.half_cell_calibration]``: the engineer's own likelihood of a half-cell
+    reading given the steel's state, calibrated on this site (``active_mean``,
+    ``active_sd``, ``passive_mean``, ``passive_sd`` [mV vs CSE] and ``basis``, the text
+    saying what it was calibrated on); None: the published ranges of the zone's condition."""
 
 
 @dataclass(frozen=True)
@@ -317,6 +322,9 @@ class Site:
     """The optional ``[priors]`` table (all fields None when absent)."""
     sampling: Mapping[str, Mapping[str, Any]] = field(default_factory=lambda: MappingProxyType({}))
     """The optional ``[sampling.<fit>]`` tables: MCMC settings per kind of fit."""
+    verdict_calls: int | None = None
+    """``[sampling] verdict_calls``: budget of limit-state calls per member verdict [-]
+    (None when not given; the command line's ``--verdict-calls`` wins)."""
     exclude: Mapping[str, str] = field(default_factory=lambda: MappingProxyType({}))
     """The optional ``[exclude]`` table: test id (core, location...) -> the engineer's reason
     for leaving that test out of the updates (e.g. a flagged outlier found to be a bad core)."""
@@ -658,10 +666,14 @@ def _zones(s: _Schema, table: dict) -> dict[str, Zone]:
         _check_id(s, zone_id, path)
         body = s.table(body, path)
         s.keys(body, path, ("description", "exposure"),
-               ("mean_annual_temperature", "target_beta", "target_beta_reason"))
+               ("mean_annual_temperature", "target_beta", "target_beta_reason",
+                "half_cell_calibration"))
         temperature = body.get("mean_annual_temperature")
         exposure, classes = _exposure(s, body["exposure"], f"{path}.exposure")
         target_beta, reason = _target_override(s, body, path)
+        calibration = (_half_cell_calibration(s, body["half_cell_calibration"],
+                                              f"{path}.half_cell_calibration")
+                       if "half_cell_calibration" in body else None)
         zones[zone_id] = Zone(
             zone_id=zone_id,
             description=s.text(body["description"], f"{path}.description"),
@@ -671,8 +683,39 @@ def _zones(s: _Schema, table: dict) -> dict[str, Zone]:
             exposure_classes=classes,
             target_beta=target_beta,
             target_beta_reason=reason,
+            half_cell_calibration=calibration,
         )
     return zones
+
+
+#: Accepted range of a calibrated mean half-cell potential [mV vs CSE]: steel in concrete
+#: reads from about -1000 mV (water-saturated, no oxygen) to +200 mV (dry) in the RILEM
+#: TC 154-EMC recommendation's table of typical ranges (Elsener et al., Mater. Struct. 36,
+#: 2003, pp. 461-471; values from memory).
+HALF_CELL_MEAN_RANGE_MV = (-1000.0, 300.0)
+#: Accepted range of a calibrated standard deviation of the potentials in one state
+#: [mV]; above 300 mV a reading would tell nothing (judgement).
+HALF_CELL_SD_RANGE_MV = (0.0, 300.0)
+
+
+def _half_cell_calibration(s: _Schema, value: Any, path: str) -> Mapping[str, Any]:
+    """``[zones.<id>.half_cell_calibration]``: means and sds [mV vs CSE] and ``basis``."""
+    body = s.table(value, path)
+    keys = ("active_mean", "active_sd", "passive_mean", "passive_sd", "basis")
+    s.keys(body, path, keys)
+    out: dict[str, Any] = {}
+    for state in ("active", "passive"):
+        out[f"{state}_mean"] = s.number(body[f"{state}_mean"], f"{path}.{state}_mean",
+                                        *HALF_CELL_MEAN_RANGE_MV, "mV vs CSE", True)
+        out[f"{state}_sd"] = s.number(body[f"{state}_sd"], f"{path}.{state}_sd",
+                                      *HALF_CELL_SD_RANGE_MV, "mV")
+    if out["active_mean"] >= out["passive_mean"]:
+        raise s.error(f"{path}.active_mean",
+                      f"expected active_mean below passive_mean (corroding steel reads more "
+                      f"negative than passive steel), got {out['active_mean']:g} >= "
+                      f"{out['passive_mean']:g} mV")
+    out["basis"] = s.text(body["basis"], f"{path}.basis")
+    return MappingProxyType(out)
 
 
 def _exposure(s: _Schema, value: Any, path: str) -> tuple[str, tuple[str, ...]]:
@@ -936,13 +979,27 @@ def _continuity(s: _Schema, body: dict, path: str, *, depth: float, cover: float
 
 SAMPLING_FITS = ("materials", "chloride", "carbonation", "corrosion")
 """Kinds of MCMC fit that a ``[sampling.<fit>]`` table may set."""
+SAMPLING_KEYS = ("verdict_calls",)
+"""Plain keys of the ``[sampling]`` table beside its ``[sampling.<fit>]`` tables."""
+MAX_VERDICT_CALLS = 10**8
+"""Largest budget of limit-state calls per member verdict [-] (the same bound as the
+command line's ``--verdict-calls``)."""
+
+
+def _verdict_calls(s: _Schema, table: dict) -> int | None:
+    """``[sampling] verdict_calls``: a whole number from 0 (one run, never repeated) up."""
+    if "verdict_calls" not in table:
+        return None
+    return s.integer(table["verdict_calls"], "sampling.verdict_calls", 0, MAX_VERDICT_CALLS)
 
 
 def _sampling(s: _Schema, table: dict) -> Mapping[str, Mapping[str, Any]]:
     """``[sampling.<fit>]``: draws, tune, chains (whole numbers), target_accept, sampler."""
-    s.keys(table, "sampling", (), SAMPLING_FITS)
+    s.keys(table, "sampling", (), SAMPLING_FITS + SAMPLING_KEYS)
     out = {}
     for fit, body in table.items():
+        if fit in SAMPLING_KEYS:
+            continue
         path = f"sampling.{fit}"
         body = s.table(body, path)
         s.keys(body, path, (), ("draws", "tune", "chains", "target_accept", "sampler"))
@@ -1015,6 +1072,8 @@ def load_site(path: str | Path) -> Site:
         priors=_priors(s, sections["priors"]) if "priors" in sections else Priors(),
         sampling=_sampling(s, sections["sampling"]) if "sampling" in sections
         else MappingProxyType({}),
+        verdict_calls=_verdict_calls(s, sections["sampling"]) if "sampling" in sections
+        else None,
         exclude=_exclude(s, sections["exclude"]) if "exclude" in sections
         else MappingProxyType({}),
     )

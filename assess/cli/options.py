@@ -38,7 +38,8 @@ VerdictCallsOption = Annotated[Optional[int], typer.Option(
     "--verdict-calls", help="Budget of limit-state calls per member verdict: while the 95 % "
                             "interval of beta straddles the target, the estimate is sampled "
                             "again with new random numbers until decided or this is spent "
-                            "(default 60000; 20000 with --quick; 0 = one run, never repeated).")]
+                            "(default: the site file's [sampling] verdict_calls, else 60000; "
+                            "20000 with --quick; 0 = one run, never repeated).")]
 
 MAX_SUBSET_SAMPLES = 1_000_000
 
@@ -71,6 +72,7 @@ def make_settings(site, *, seed: int = DEFAULT_SEED, quick: bool = False,
     overrides = {"draws": draws, "tune": tune, "target_accept": target_accept, "sampler": sampler}
     per_fit = parse_fit_assignments(sampling)
     return build_settings(site_sampling=getattr(site, "sampling", None), overrides=overrides,
+                          site_verdict_calls=getattr(site, "verdict_calls", None),
                           per_fit=per_fit, seed=seed, quick=quick, **options)
 
 

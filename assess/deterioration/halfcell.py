@@ -15,9 +15,12 @@ References
 .. [2] M. H. Faber and J. D. Sorensen, "Indicators for inspection and maintenance
    planning of concrete structures," *Struct. Saf.*, vol. 24, pp. 377-396, 2002
    (from memory).
-.. [3] B. Elsener et al., "Half-cell potential measurements - potential mapping on
-   reinforced concrete structures," RILEM TC 154-EMC recommendations, *Mater.
-   Struct.*, vol. 36, pp. 461-471, 2003 (from memory).
+.. [3] B. Elsener, with contributions from C. Andrade, J. Gulikers, R. Polder and
+   M. Raupach, "Half-cell potential measurements - Potential mapping on reinforced
+   concrete structures," RILEM TC 154-EMC recommendations, *Materials and Structures*,
+   vol. 36, pp. 461-471, August-September 2003 (title page read; the table of typical
+   potential ranges could not be read in the stored copy: its values here are from
+   memory).
 """
 
 from __future__ import annotations
@@ -77,8 +80,10 @@ EXPOSURE_CONDITION = MappingProxyType({
     "sheltered soffit": "humid, carbonated",
     "internal": "dry",
 })
-"""Condition of `HALF_CELL_CONDITIONS` that matches each exposure class of the site file
-(judgement)."""
+"""Condition of `HALF_CELL_CONDITIONS` that matches each exposure setting of the site file
+(judgement): de-iced decks wet with chloride-laden water, sheltered soffits humid and
+carbonating, internal zones dry. A site file may replace them per zone with its own
+calibration (`assess.site.half_cell_likelihood`)."""
 
 
 def condition_likelihood(condition):

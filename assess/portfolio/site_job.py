@@ -57,6 +57,7 @@ def job_settings(settings: dict | None, site=None):
                          f"{', '.join(SETTING_KEYS)}", column="run")
     draws = settings.pop("draws", None)
     return build_settings(site_sampling=getattr(site, "sampling", None),
+                          site_verdict_calls=getattr(site, "verdict_calls", None),
                           overrides={"draws": draws}, **settings)
 
 

@@ -470,6 +470,19 @@ def update_corrosion(
         )
     if model.spatial_log_sd is not None:
         scatter = {z: model.spatial_log_sd for z in evidence.zones}
+    sources = None
+    if model.half_cell_params is None:
+        # per zone: the site file's calibration, else the published ranges of its condition
+        from assess.site.half_cell_likelihood import zone_half_cell_likelihood
+
+        likelihood = zone_half_cell_likelihood(site, evidence.zones)
+        read = [z for z in evidence.zones if evidence.counts.get(z, {}).get("half_cell")]
+        model = dataclasses.replace(
+            model,
+            half_cell_params={z: dict(p) for z, p in likelihood.params.items()},
+            half_cell_calibrated=likelihood.all_calibrated(read),
+        )
+        sources = likelihood.sources
     fit = settings.fit("corrosion")
 
     def listed(data):
@@ -548,17 +561,20 @@ def update_corrosion(
         what="corrosion initiation and rate",
         fit="corrosion",
     )
-    warn_half_cell(cached.fit)
+    warn_half_cell(cached.fit, sources)
     return cached.fit
 
 
-def warn_half_cell(fit) -> None:
+def warn_half_cell(fit, sources=None) -> None:
     """Warn while the half-cell likelihood is not site-calibrated; say what it moved.
 
     One warning per fit with half-cell readings (the run step shows it in the
-    report): the zones, their readings n and effective number n_eff, and the shift of
+    report): the zones, their readings n and effective number n_eff, the shift of
     the median initiation time due to the readings
-    (`assess.updating.corrosion.CorrosionFit.half_cell_effect`).
+    (`assess.updating.corrosion.CorrosionFit.half_cell_effect`) and, with ``sources``
+    (zone -> text, `assess.site.half_cell_likelihood`), where each zone's likelihood
+    came from. The sentence on default parameters appears only while some zone with
+    readings is not site-calibrated (``fit.half_cell_calibrated`` False).
     """
     if fit is None or fit.half_cell is None:
         return
@@ -568,9 +584,10 @@ def warn_half_cell(fit) -> None:
         if effect is None:
             continue
         trust = "" if effect["reweighting_ess"] >= 100 else " (rough: few draws carry it)"
+        source = f" [{sources[zone]}]" if sources and zone in sources else ""
         moved.append(
-            f"{zone}: {effect['readings']} readings worth {effect['effective_readings']:.1f} "
-            f"independent ones moved the median from "
+            f"{zone}{source}: {effect['readings']} readings worth "
+            f"{effect['effective_readings']:.1f} independent ones moved the median from "
             f"{effect['without_half_cell_years']['median']:.1f} to "
             f"{effect['with_half_cell_years']['median']:.1f} yr{trust}"
         )
@@ -580,10 +597,11 @@ def warn_half_cell(fit) -> None:
         head = "Half-cell evidence (site-calibrated likelihood) on the initiation time: "
     else:
         head = (
-            "Half-cell potentials entered the corrosion update with default likelihood "
-            "parameters (assess.deterioration.defaults.HALF_CELL_LIKELIHOOD or the RILEM TC "
-            "154-EMC ranges), not calibrated on this site's survey; treat their effect with "
-            "care. Initiation time: "
+            "Half-cell potentials entered the corrosion update with likelihood parameters "
+            "that are defaults rather than site-calibrated (the RILEM TC 154-EMC ranges of "
+            "the zone's condition, or assess.deterioration.defaults.HALF_CELL_LIKELIHOOD); "
+            "treat their effect with care, or give the zone a [zones.<id>.half_cell_"
+            "calibration] table in the site file. Initiation time: "
         )
     warnings.warn(head + "; ".join(moved) + ".", UserWarning, stacklevel=2)
 

@@ -208,6 +208,12 @@ def _members(run: SiteRun):
         assessment.drivers = site_drivers(run.site, update, assessment, seed=run.settings.seed)
     except AnalysisError as exc:
         run.add_warning(f"which uncertainty drives the risk: not computed ({exc})")
+    # the posterior family at each member's own tail level (assess.site.member_family)
+    from assess.site.member_family import member_family_checks, member_family_warning
+
+    text = member_family_warning(member_family_checks(run.site, update, assessment.results))
+    if text:
+        warnings.warn(text, UserWarning, stacklevel=2)
     return assessment
 
 

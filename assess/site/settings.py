@@ -257,6 +257,7 @@ def build_settings(
     site_sampling: Mapping[str, Mapping[str, Any]] | None = None,
     overrides: Mapping[str, Any] | None = None,
     per_fit: Mapping[str, Mapping[str, Any]] | None = None,
+    site_verdict_calls: int | None = None,
     **options: Any,
 ) -> RunSettings:
     """`RunSettings` from the site file's ``[sampling]`` tables and the command line.
@@ -270,9 +271,14 @@ def build_settings(
         ``--sampler``); None values are ignored.
     per_fit : mapping, optional
         Fit kind -> {key: value} from ``--sampling FIT.KEY=VALUE``.
+    site_verdict_calls : int, optional
+        ``[sampling] verdict_calls`` of the site file: the budget of limit-state calls per
+        member verdict [-], used when ``verdict_calls`` (``--verdict-calls``) is None.
     **options
         The other `RunSettings` fields (seed, quick, ...).
     """
+    if options.get("verdict_calls") is None and site_verdict_calls is not None:
+        options["verdict_calls"] = site_verdict_calls
     quick = bool(options.get("quick", False))
     base = {"tune": QUICK_TUNE if quick else FULL_TUNE}
     common = {k: v for k, v in (overrides or {}).items() if v is not None}

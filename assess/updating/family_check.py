@@ -18,6 +18,10 @@ precision, integrated analytically). y is the raw predictive quantile at each
 level p of `CHECK_LEVELS`; the check fails when P_family(y) / p lies outside
 [1 / FAMILY_CHECK_FACTOR, FAMILY_CHECK_FACTOR].
 
+A member's own level is checked too (`check_family_at_member`, wired by
+`assess.site.member_family`): p = Phi(-beta sqrt(alpha^2)) with the member's FORM beta
+and importance factor of the quantity.
+
 The levels 1e-2 to 1e-4 span the marginal probabilities at design points of
 members with target betas 3.1-4.7 and importance factors 0.5-0.8
 (Phi(-0.5 x 3.1) = 0.06 ... Phi(-0.8 x 4.7) = 8.5e-5), the range where the
@@ -184,6 +188,48 @@ def family_warning(failures) -> str | None:
             f"differs from the raw posterior draws by more than a factor {factor:g} in the "
             "tail that matters for reliability: " + "; ".join(parts) + ". The member "
             "reliabilities of these zones may be off by that factor in pf.")
+
+
+MEMBER_LEVEL_FLOOR = 1e-7
+"""Smallest member tail level checked [-]: below it a few thousand draws say nothing (the
+CoV allowance of `FamilyCheck.passed` would swallow any ratio)."""
+
+
+def member_tail_level(beta, alpha2):
+    """Marginal tail probability of a quantity at a member's design point [-].
+
+    p = Phi(-|beta| sqrt(alpha^2)), with alpha^2 the member's FORM importance factor of
+    the quantity (its precision, location and physical value together): the probability,
+    under the predictive, of a value at least as adverse as the design point's when the
+    quantity is one standard-normal direction of the design point (first-order reliability,
+    e.g. Madsen, Krenk & Lind, *Methods of Structural Safety*, 1986, ch. 5; from memory).
+    Vectorised over ``beta`` and ``alpha2``; clipped to [`MEMBER_LEVEL_FLOOR`, 0.5].
+    """
+    beta = np.abs(np.asarray(beta, dtype=float))
+    alpha2 = np.clip(np.asarray(alpha2, dtype=float), 0.0, 1.0)
+    return np.clip(special.ndtr(-beta * np.sqrt(alpha2)), MEMBER_LEVEL_FLOOR, 0.5)
+
+
+def check_family_at_member(population, mu_draws, sigma_draws, *, beta, alpha2,
+                           side="lower", factor=FAMILY_CHECK_FACTOR) -> FamilyCheck:
+    """`check_family` at the member's own tail level `member_tail_level(beta, alpha2)`.
+
+    Parameters
+    ----------
+    population : NormalGamma
+        The family the member's model uses.
+    mu_draws, sigma_draws : array_like (D,)
+        The raw posterior draws the family was fitted to [units of Y].
+    beta : float
+        The member's (FORM) reliability index [-].
+    alpha2 : float
+        The member's importance factor of the quantity [-].
+    side : {"lower", "upper"}
+        The tail the design point lies in.
+    """
+    level = float(member_tail_level(beta, alpha2))
+    return check_family(population, mu_draws, sigma_draws, side=side, levels=(level,),
+                        factor=factor)
 
 
 LOGNORMAL_CHECK_LEVELS = (0.05, 0.01)
