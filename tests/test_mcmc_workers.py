@@ -61,3 +61,32 @@ def child_after_killing_its_parent(kind: str, tmp_path) -> bool:
 def test_a_worker_dies_with_its_killed_parent(tmp_path):
     assert child_after_killing_its_parent("plain", tmp_path), "control: a plain child survives"
     assert not child_after_killing_its_parent("dying", tmp_path)
+
+
+@pytest.mark.parametrize("lost", ["compile lock", "worker"])
+def test_a_sampler_run_lost_to_its_surroundings_is_an_analysis_error(monkeypatch, lost):
+    # common practice: a run that failed for a reason outside the model (another process
+    # held PyTensor's compile lock; a chain's worker died) is reported as a failed analysis
+    # with what to try, not as a traceback; any other exception passes unchanged
+    import pymc as pm
+    from filelock import Timeout
+    from pymc.sampling.parallel import ParallelSamplingError
+
+    from assess.errors import AnalysisError
+    from assess.updating import models
+
+    def failing(*args, **kwargs):
+        if lost == "compile lock":
+            raise Timeout("/cache/.lock")
+        raise ParallelSamplingError("Chain 1 failed.", 1)
+
+    monkeypatch.setattr(models, "_sample", failing)
+    with pm.Model() as model:
+        pm.Normal("x")
+    with pytest.raises(AnalysisError, match=models.CORES_VARIABLE) as caught:
+        models.sample_posterior(model, draws=10, tune=10, chains=1, seed=1)
+    assert caught.value.fix and models.CORES_VARIABLE in caught.value.fix
+
+    monkeypatch.setattr(models, "_sample", lambda *a, **k: 1 / 0)
+    with pytest.raises(ZeroDivisionError):
+        models.sample_posterior(model, draws=10, tune=10, chains=1, seed=1)

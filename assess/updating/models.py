@@ -25,7 +25,7 @@ import os
 
 import numpy as np
 
-from assess.errors import InputError
+from assess.errors import AnalysisError, InputError
 from assess.priors.normal_gamma import NormalGamma
 
 POOLING = ("none", "partial", "complete")
@@ -175,8 +175,30 @@ def sample_posterior(model, *, draws: int = 1000, tune: int = 1000, chains: int 
     try:
         return _sample(pm, model, draws, tune, chains, cores, seed, target_accept, sampler,
                        progressbar)
+    except Exception as exc:
+        failure = _sampler_failure(exc)
+        if failure is None:
+            raise
+        raise failure from exc
     finally:
         logger.setLevel(previous)
+
+
+def _sampler_failure(exc: Exception) -> AnalysisError | None:
+    """An `AnalysisError` for a sampler run lost to its surroundings rather than to the
+    model: a chain's worker process died, or PyTensor's compile lock was held too long by
+    another process (a busy shared machine); None for any other exception."""
+    from filelock import Timeout
+    from pymc.sampling.parallel import ParallelSamplingError
+
+    fix = (f"run again; on a busy machine set {CORES_VARIABLE}=1 (chains one after another "
+           "in this process)")
+    if isinstance(exc, Timeout):
+        return AnalysisError("the MCMC model could not be compiled: PyTensor's compile lock "
+                             f"was held by another process too long ({exc}); {fix}", fix=fix)
+    if isinstance(exc, ParallelSamplingError):
+        return AnalysisError(f"an MCMC chain's worker process failed ({exc}); {fix}", fix=fix)
+    return None
 
 
 def _sample(pm, model, draws, tune, chains, cores, seed, target_accept, sampler, progressbar):
