@@ -40,6 +40,10 @@ through 20 and 400 members) and the steps that grow with the members.
         [--campaigns all|latest|...] [--sizes 20,100,400] [--baselines parallel,one-process]
         [--skip speedup|members]
 
+PyTensor's compile cache is copied to a private folder for the run (``--shared-compiledir``
+to use the shared one): its file lock is shared by every process of the user on the machine,
+and on a machine where others compile a process can wait minutes for it.
+
 ``--quick``: quick main-job settings without history and remaining-life steps
 (the two steps that run further MCMC). For a first look in minutes on a busy
 machine: ``--quick --sites 4 --site-members 10 --campaigns latest --sizes 20,40,80
@@ -97,6 +101,29 @@ def _stop_forkserver() -> None:
     stop = getattr(multiprocessing.forkserver._forkserver, "_stop", None)
     if stop is not None:
         stop()
+
+
+def _private_compiledir(work: Path) -> str:
+    """Point PyTensor (here, in the chain processes and in the Dask workers, which inherit the
+    environment) at a copy of this user's compile cache inside ``work``; returns its path.
+
+    PyTensor reads its module cache and compiles under one file lock per compile directory,
+    shared by every process of the user on the machine: on a machine shared with other work
+    that compiles, a process can wait minutes for it. A copy keeps the cache warm and the
+    lock to this benchmark. Must run before PyTensor is imported.
+    """
+    import glob
+
+    base = os.path.expanduser("~/.pytensor")
+    private = work / "pytensor"
+    private.mkdir()
+    for source in glob.glob(os.path.join(base, "compiledir_*")):
+        shutil.copytree(source, private / os.path.basename(source), symlinks=True,
+                        ignore=shutil.ignore_patterns(".lock", "lock_dir", "tmp*"),
+                        ignore_dangling_symlinks=True, dirs_exist_ok=True)
+    flags = os.environ.get("PYTENSOR_FLAGS", "")
+    os.environ["PYTENSOR_FLAGS"] = ",".join(f for f in (flags, f"base_compiledir={private}") if f)
+    return str(private)
 
 
 def _chains(mode: str):
@@ -324,6 +351,9 @@ def main() -> None:
     parser.add_argument("--baselines", default="parallel,one-process",
                         help="one-site-at-a-time runs to time: parallel, one-process or both")
     parser.add_argument("--skip", choices=("speedup", "members"), help="leave one part out")
+    parser.add_argument("--shared-compiledir", action="store_true",
+                        help="use the user's PyTensor compile directory and its lock as it is "
+                             "(default: a private copy, see _private_compiledir)")
     args = parser.parse_args()
     baselines = [b.strip() for b in args.baselines.split(",") if b.strip()]
     if not baselines or set(baselines) - {"parallel", "one-process"}:
@@ -334,6 +364,8 @@ def main() -> None:
           f"{time.strftime('%Y-%m-%d %H:%M:%S', time.gmtime())} UTC; {_load()}")
     with tempfile.TemporaryDirectory(prefix="portfolio-bench-") as tmp:
         work = Path(tmp)
+        if not args.shared_compiledir:
+            print(f"PyTensor compile cache: a private copy ({_private_compiledir(work)})")
         if args.skip != "speedup":
             part_speedup(work, settings, args.sites, args.workers, args.site_members,
                          args.campaigns, baselines)
