@@ -119,7 +119,7 @@ def _private_compiledir(work: Path) -> str:
     private.mkdir()
     for source in glob.glob(os.path.join(base, "compiledir_*")):
         shutil.copytree(source, private / os.path.basename(source), symlinks=True,
-                        ignore=shutil.ignore_patterns(".lock", "lock_dir", "tmp*"),
+                        ignore=shutil.ignore_patterns(".lock", "lock_dir"),
                         ignore_dangling_symlinks=True, dirs_exist_ok=True)
     flags = os.environ.get("PYTENSOR_FLAGS", "")
     os.environ["PYTENSOR_FLAGS"] = ",".join(f for f in (flags, f"base_compiledir={private}") if f)
