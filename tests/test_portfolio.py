@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import json
 import math
+import os
 import shutil
 import sys
 import zlib
@@ -26,7 +27,7 @@ from assess.portfolio import load_portfolio, run_portfolio
 from assess.portfolio.hashing import site_hash
 from assess.portfolio.ranking import rank_sites
 from assess.portfolio.record import Record
-from assess.portfolio.tasks import STEP_TOPIC
+from assess.portfolio.tasks import STEP_TOPIC, WORKER_ENVIRONMENT, one_core_per_task
 
 # The light job below is defined in this test module, which workers cannot import:
 # ship it by value.
@@ -257,6 +258,50 @@ def test_a_rerun_with_nothing_new_does_no_work(portfolio_folder, client):
     # Changed settings: every site runs again.
     fourth = run_portfolio(portfolio, overrides={"seed": 12}, job=light_job, sequential=True)
     assert fourth.ran == ["alder-row", "brook-lane"]
+
+
+def _blas_threads() -> list:
+    from threadpoolctl import threadpool_info
+
+    return sorted({pool["num_threads"] for pool in threadpool_info()})
+
+
+def config_job(folder, settings, step):
+    """The light job, plus what the task's process is configured with while it runs."""
+    import os
+
+    summary = light_job(folder, settings, step)
+    summary["config"] = {"env": {name: os.environ.get(name) for name in WORKER_ENVIRONMENT},
+                         "blas_threads": _blas_threads()}
+    return summary
+
+
+def test_a_task_on_a_worker_uses_one_core_and_in_this_process_runs_as_assess_run(
+        portfolio_folder, client, monkeypatch):
+    # Reference: common practice for one task per core (the environment Dask's nanny sets
+    # before it starts a worker: distributed.nanny.pre-spawn-environ, Dask documentation);
+    # threadpoolctl's threadpool_info / threadpool_limits as the outside reading.
+    run = run_portfolio(load_portfolio(portfolio_folder), job=config_job, client=client)
+    for key in ("alder-row", "brook-lane"):
+        config = run.outcomes[key]["summary"]["config"]
+        assert config["env"] == WORKER_ENVIRONMENT and config["blas_threads"] == [1]
+        assert run.outcomes[key]["cpu_seconds"] > 0.0
+    # One site after another in this process: no limits, the chains as `assess run` has them.
+    before_env = {name: os.environ.get(name) for name in WORKER_ENVIRONMENT}
+    before_threads = _blas_threads()
+    alone = run_portfolio(load_portfolio(portfolio_folder), job=config_job, sequential=True,
+                          force=True)
+    for key in ("alder-row", "brook-lane"):
+        assert alone.outcomes[key]["summary"]["config"] == {"env": before_env,
+                                                            "blas_threads": before_threads}
+    # The limits hold inside the context only; values already set are kept.
+    for name in WORKER_ENVIRONMENT:
+        monkeypatch.delenv(name, raising=False)
+    monkeypatch.setenv("ASSESS_MCMC_CORES", "2")
+    with one_core_per_task():
+        assert _blas_threads() == [1]
+        assert os.environ["ASSESS_MCMC_CORES"] == "2" and os.environ["OMP_NUM_THREADS"] == "1"
+    assert _blas_threads() == before_threads
 
 
 def test_site_hash_covers_inputs_and_settings_only(portfolio_folder):

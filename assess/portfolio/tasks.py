@@ -10,12 +10,13 @@ topic `STEP_TOPIC` (the client subscribes to it), in this process through the
 
 from __future__ import annotations
 
+import contextlib
 import os
 import socket
 import time
 import traceback
 import warnings
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 
 from assess.errors import AnalysisError, InputError
 
@@ -27,6 +28,31 @@ QUIET_WARNINGS = ("could not link to a BLAS",)
 
 #: Lines of traceback kept for an unexpected error.
 TRACEBACK_LINES = 12
+
+#: Environment of a site task on a Dask worker: one task per core, so the MCMC chains run one
+#: after another in the worker (`assess.updating.models.CORES_VARIABLE`; the draws are the same)
+#: and every BLAS / OpenMP pool has one thread (a child process inherits these too).
+WORKER_ENVIRONMENT = {"ASSESS_MCMC_CORES": "1", "OMP_NUM_THREADS": "1", "MKL_NUM_THREADS": "1",
+                      "OPENBLAS_NUM_THREADS": "1"}
+
+
+@contextlib.contextmanager
+def one_core_per_task() -> Iterator[None]:
+    """Limit a task on a Dask worker to one core: `WORKER_ENVIRONMENT` and one BLAS thread.
+
+    Values already set in the worker's environment are kept (a user who starts workers with
+    ``ASSESS_MCMC_CORES=2`` gets two chain processes). The thread pools of the BLAS and
+    OpenMP libraries already loaded are set to one thread for the task (threadpoolctl) and
+    restored after it: Dask's nanny sets the same variables before it starts a worker, but
+    a worker started without a nanny, or a library that read its thread count before, would
+    otherwise run as many threads as cores in every worker at once.
+    """
+    from threadpoolctl import threadpool_limits
+
+    for name, value in WORKER_ENVIRONMENT.items():
+        os.environ.setdefault(name, value)
+    with threadpool_limits(limits=1):
+        yield
 
 
 def _worker_step(key: str) -> Callable[[str], None] | None:
@@ -69,17 +95,19 @@ def site_task(key: str, folder: str, settings: dict, job: Callable | None = None
         ``status`` ("done" or "failed"), ``summary`` (the job's dict, done
         only), ``error_kind`` ("input", "analysis" or "error") and ``message``
         (failed only), ``warnings`` (distinct warning texts), ``seconds`` [s],
-        ``steps`` ([step text, seconds] in order), ``worker`` ("host:pid").
+        ``cpu_seconds`` (CPU time of this process during the task, all its threads,
+        not its child processes) [s], ``steps`` ([step text, seconds] in order),
+        ``worker`` ("host:pid").
     """
     if job is None:
         from assess.portfolio.site_job import run_one_site as job
-    report = step or _worker_step(key) or (lambda _text: None)
-    if _worker_step(key) is not None:
-        # inside a Dask worker, one task per core: its chains run one after another rather
-        # than in more processes than there are cores (the draws are the same; see
-        # assess.updating.models.CORES_VARIABLE)
-        os.environ.setdefault("ASSESS_MCMC_CORES", "1")
+    on_worker = _worker_step(key)
+    report = step or on_worker or (lambda _text: None)
+    # inside a Dask worker, one task per core (see one_core_per_task); in this process the
+    # job runs as `assess run` would, its chains in parallel processes
+    limits = one_core_per_task() if on_worker is not None else contextlib.nullcontext()
     started = time.perf_counter()
+    cpu_started = time.process_time()
     marks: list = []
 
     def step(text: str) -> None:
@@ -87,7 +115,7 @@ def site_task(key: str, folder: str, settings: dict, job: Callable | None = None
         report(text)
 
     outcome: dict = {"status": "failed"}
-    with warnings.catch_warnings(record=True) as caught:
+    with limits, warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         try:
             outcome = {"status": "done", "summary": job(folder, settings, step=step)}
@@ -101,6 +129,7 @@ def site_task(key: str, folder: str, settings: dict, job: Callable | None = None
                        "message": f"{type(exc).__name__}: {exc}",
                        "traceback": "".join(lines[-TRACEBACK_LINES:])}
     ended = time.perf_counter()
+    cpu_seconds = time.process_time() - cpu_started
     texts = []
     for item in caught:
         text = str(item.message)
@@ -109,6 +138,7 @@ def site_task(key: str, folder: str, settings: dict, job: Callable | None = None
             texts.append(text)
     outcome["warnings"] = texts
     outcome["seconds"] = ended - started
+    outcome["cpu_seconds"] = cpu_seconds
     outcome["steps"] = [[text, (marks[i + 1][1] if i + 1 < len(marks) else ended) - at]
                         for i, (text, at) in enumerate(marks)]
     outcome["worker"] = f"{socket.gethostname()}:{os.getpid()}"
