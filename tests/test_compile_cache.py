@@ -39,6 +39,7 @@ def test_a_compile_folder_the_user_chose_is_left_alone(monkeypatch, tmp_path):
 def test_pytensor_compiles_into_the_cache_folder(tmp_path):
     # a fresh interpreter: assess.updating is imported before PyTensor, as in every run
     env = {k: v for k, v in os.environ.items() if k != "PYTENSOR_FLAGS"}
+    env["PYTENSOR_FLAGS"] = "cxx="  # no C compiler: nothing is compiled into the new folder
     env[compile_cache.CACHE_VARIABLE] = str(tmp_path / "cache")
     code = ("import assess.updating, pytensor; "
             "print(pytensor.config.base_compiledir); print(pytensor.config.compiledir)")
