@@ -8,14 +8,15 @@ parameters:
 1. Chloride profiles of every campaign (ledger kind ``chloride``, value in
    % by mass of binder, depth ``depth_mid`` of the grinding increment from the
    record's extra JSON, age at sampling from the site's year of construction)
-   are fitted with `assess.updating.chloride.fit_chloride`, one call per
-   exposure class: zones of one exposure class share the ageing exponent a.
+   are fitted with `assess.updating.chloride.fit_chloride`, one model for all
+   exposure classes with a block per class (`assess.updating.classes`): zones of
+   one exposure class share the ageing exponent a.
    The apparent ageing of D depends on the binder and on the moisture regime
    of the exposure (DuraCrete 2000 tabulates its ageing factor by binder and
    environment, from memory), so zones of different classes get their own a.
 2. Carbonation depths (ledger kind ``carbonation``) are fitted with
-   `assess.updating.carbonation.fit_carbonation`, one call per exposure class
-   (the rate prior depends on the class).
+   `assess.updating.carbonation.fit_carbonation`, likewise one model with a block
+   per exposure class (the rate prior depends on the class).
 3. Per posterior draw, t_i = min(t_i,chloride, t_i,carbonation) at the zone's
    mean cover: depassivation by whichever front reaches the bar first (Tuutti
    1982). t_i,chloride is `ChlorideFit.initiation_time_draws` with the critical
@@ -344,7 +345,11 @@ def update_initiation(
     data=None,
     store=True,
 ) -> InitiationFits:
-    """Chloride and carbonation posteriors of the zones, one fit per exposure class.
+    """Chloride and carbonation posteriors of the zones: one model per kind, a block per class.
+
+    Each exposure class keeps its own priors and class-level parameters (its own fit,
+    `InitiationFits`), but the classes of a kind are blocks of one model, compiled and
+    sampled once (`assess.updating.classes`).
 
     Parameters
     ----------
@@ -375,41 +380,97 @@ def update_initiation(
     folder = site.folder if store else None
     data = data if data is not None else initiation_data(site, until_date, include_flagged)
     zones = list(site.zones) if zones is None else [z for z in site.zones if z in zones]
-    chloride_fits, carbonation_fits = {}, {}
-    for exposure, group in exposure_groups(site, zones).items():
-        present = [z for z in group if (data.chloride["zone"] == z).any()]
-        if present:
-            fit = _group_fit(
-                folder,
-                "chloride",
-                _subset(data.chloride, present),
-                present,
-                chloride_priors(site, present),
-                settings,
-                chloride_update.fit_chloride,
-                chloride_update.ChlorideFit,
-                ("depth_mm", "age_years", "chloride"),
-                chloride_update.PARAMETER_NAMES,
-                "chloride-ingress parameters",
-            )
-            chloride_fits.update({z: fit for z in present})
-        present = [z for z in group if (data.carbonation["zone"] == z).any()]
-        if present:
-            fit = _group_fit(
-                folder,
-                "carbonation",
-                _subset(data.carbonation, present),
-                present,
-                carbonation_update.CarbonationPriors.from_exposure(exposure),
-                settings,
-                carbonation_update.fit_carbonation,
-                carbonation_update.CarbonationFit,
-                ("depth_mm", "age_years"),
-                carbonation_update.PARAMETER_NAMES,
-                "carbonation rates",
-            )
-            carbonation_fits.update({z: fit for z in present})
+    groups = exposure_groups(site, zones)
+    chloride_groups = {
+        exposure: present
+        for exposure, group in groups.items()
+        if (present := [z for z in group if (data.chloride["zone"] == z).any()])
+    }
+    carbonation_groups = {
+        exposure: present
+        for exposure, group in groups.items()
+        if (present := [z for z in group if (data.carbonation["zone"] == z).any()])
+    }
+    chloride_fits = _kind_fit(
+        folder,
+        "chloride",
+        data.chloride,
+        chloride_groups,
+        {e: chloride_priors(site, present) for e, present in chloride_groups.items()},
+        settings,
+        chloride_update.fit_chloride,
+        chloride_update.ChlorideFit,
+        ("depth_mm", "age_years", "chloride"),
+        chloride_update.PARAMETER_NAMES,
+        "chloride-ingress parameters",
+    )
+    carbonation_fits = _kind_fit(
+        folder,
+        "carbonation",
+        data.carbonation,
+        carbonation_groups,
+        {e: carbonation_update.CarbonationPriors.from_exposure(e) for e in carbonation_groups},
+        settings,
+        carbonation_update.fit_carbonation,
+        carbonation_update.CarbonationFit,
+        ("depth_mm", "age_years"),
+        carbonation_update.PARAMETER_NAMES,
+        "carbonation rates",
+    )
     return InitiationFits(chloride_fits, carbonation_fits, {z: data.covers[z] for z in zones})
+
+
+def _kind_fit(
+    folder,
+    kind,
+    columns,
+    groups,
+    priors,
+    settings,
+    fitter,
+    fit_class,
+    names,
+    parameter_names,
+    what,
+) -> dict:
+    """One cached, gated fit of every exposure class of a kind; zone -> its class's fit.
+
+    The classes are independent blocks of one model (`assess.updating.classes`), so the
+    kind compiles and samples once; each class's fit is then taken out of the joint
+    posterior (`split_posterior`) with its own priors and gate report.
+    """
+    from assess.updating.classes import split_posterior
+    from assess.updating.gate import require_convergence
+
+    if not groups:
+        return {}
+    present = [z for group in groups.values() for z in group]
+    zone_class = [e for e, group in groups.items() for _ in group]
+    joint = _group_fit(
+        folder,
+        kind,
+        _subset(columns, present),
+        present,
+        priors,
+        settings,
+        fitter,
+        fit_class,
+        names,
+        parameter_names,
+        what,
+        zone_class=zone_class,
+    )
+    fits = {}
+    for position, (exposure, group) in enumerate(groups.items()):
+        idata = split_posterior(joint.idata, position, group)
+        gate = require_convergence(
+            idata, [n for n in parameter_names if n in idata.posterior], what=what, fit=kind
+        )
+        fit = fit_class(
+            idata=idata, gate=gate, zones=tuple(group), priors=priors[exposure], seed=joint.seed
+        )
+        fits.update({z: fit for z in group})
+    return fits
 
 
 def _group_fit(
@@ -424,6 +485,7 @@ def _group_fit(
     columns,
     parameter_names,
     what,
+    zone_class=None,
 ):
     """One cached, gated fit of a group of zones (`assess.updating.cache.cached_posterior`)."""
     fit = settings.fit(kind)
@@ -431,6 +493,8 @@ def _group_fit(
 
     # optional per-reading arrays the fitter takes by keyword (chloride: censored)
     options = {k: subset[k] for k in ("censored",) if k in subset}
+    if zone_class is not None:
+        options["zone_class"] = zone_class
 
     def sample():
         return fitter(
@@ -449,6 +513,8 @@ def _group_fit(
         )
 
     payload = {"data": subset, "priors": priors, "zones": present, "seed": seed, "fit": fit}
+    if zone_class is not None:
+        payload["zone_class"] = zone_class
     return cached_posterior(
         folder,
         kind,

@@ -25,12 +25,12 @@ References
 from __future__ import annotations
 
 import dataclasses
-import math
 
 import numpy as np
 
 from assess.errors import InputError
 from assess.updating.chloride import check_observation_vector, check_zone_index, sampler_seed
+from assess.updating.classes import ClassBlocks
 from assess.updating.gate import GateReport, require_convergence
 from assess.updating.measurement_error import MEASUREMENT_ERRORS
 from assess.updating.models import sample_posterior
@@ -110,7 +110,7 @@ def _positive(value, name):
                          f"Got {value!r} instead.", column=name)
 
 
-def carbonation_model(depth_mm, age_years, zone_index, zones, *, priors):
+def carbonation_model(depth_mm, age_years, zone_index, zones, *, priors, zone_class=None):
     """PyMC model of carbonation depths of several zones (not sampled).
 
     Parameters
@@ -122,7 +122,12 @@ def carbonation_model(depth_mm, age_years, zone_index, zones, *, priors):
     zone_index : array_like of int (n,)
         Position in ``zones`` of each reading [-].
     zones : sequence of str
-    priors : CarbonationPriors
+    priors : CarbonationPriors or dict of str to CarbonationPriors
+        One prior for all zones; or one per exposure class, with ``zone_class``.
+    zone_class : sequence of str, optional
+        Exposure class of each zone (with a dict of priors): the classes are
+        independent blocks of one model, each with its own scatter (dims
+        ``exposure``), see `assess.updating.classes`.
 
     Returns
     -------
@@ -133,26 +138,34 @@ def carbonation_model(depth_mm, age_years, zone_index, zones, *, priors):
     import pymc as pm
 
     caller = "carbonation_model"
-    if not isinstance(priors, CarbonationPriors):
-        raise InputError(f"The 'priors' parameter of {caller} must be a CarbonationPriors. "
-                         f"Got {type(priors).__name__}.", column="priors")
     x = check_observation_vector(depth_mm, "depth_mm", caller, low=0.0)
     if x.size == 0:
         raise InputError(f"{caller} needs at least one carbonation depth.", column="depth_mm")
     t = check_observation_vector(age_years, "age_years", caller, low=0.0, low_open=True,
                                  size=x.size)
     names, idx = check_zone_index(zone_index, zones, x.size, caller)
-    with pm.Model(coords={"zone": names}) as model:
-        log_k = pm.Normal("log_carbonation_rate", mu=math.log(priors.rate_median),
-                          sigma=priors.rate_log_sd, dims="zone")
+    blocks = ClassBlocks.build(priors, zone_class, names, idx, CarbonationPriors, caller)
+    known = {p.measurement_sd_mm is not None for p in blocks.priors}
+    if len(known) > 1:
+        raise InputError(f"{caller}: 'measurement_sd_mm' must be given for every class or for "
+                         "none.", column="measurement_sd_mm")
+    vec = blocks.vec
+    with pm.Model(coords={"zone": names, **blocks.coords}) as model:
+        log_k = pm.Normal("log_carbonation_rate",
+                          mu=blocks.at_zone(np.log(vec(lambda k, p: p.rate_median))),
+                          sigma=blocks.at_zone(vec(lambda k, p: p.rate_log_sd)), dims="zone")
         k = pm.Deterministic("carbonation_rate", pm.math.exp(log_k), dims="zone")
-        if priors.measurement_sd_mm is None:
-            sigma = pm.HalfNormal("measurement_sd", sigma=priors.measurement_sd_scale_mm)
+        if known.pop():
+            sigma = vec(lambda k, p: p.measurement_sd_mm)
         else:
-            sigma = priors.measurement_sd_mm
+            sigma = pm.HalfNormal("measurement_sd",
+                                  sigma=vec(lambda k, p: p.measurement_sd_scale_mm),
+                                  **blocks.dims)
+        error = vec(lambda k, p: p.reading_error_mm)
         pm.Deterministic("front_scatter", pm.math.sqrt(pm.math.maximum(
-            pm.math.sqr(sigma) - priors.reading_error_mm**2, 0.0)))
-        pm.Censored("carbonation_depth", pm.Normal.dist(mu=k[idx] * np.sqrt(t), sigma=sigma),
+            pm.math.sqr(sigma) - error**2, 0.0)), **blocks.dims)
+        pm.Censored("carbonation_depth",
+                    pm.Normal.dist(mu=k[idx] * np.sqrt(t), sigma=blocks.at_obs(sigma)),
                     lower=0.0, upper=None, observed=x)
     return model
 
@@ -195,13 +208,14 @@ class CarbonationFit:
 
 def fit_carbonation(depth_mm, age_years, zone_index, zones, *, priors, seed, draws=1000,
                     tune=1000, chains=4, target_accept=0.95,
-                    sampler="pymc"):
+                    sampler="pymc", zone_class=None):
     """Sample the carbonation model and pass the convergence gate.
 
     Parameters
     ----------
-    depth_mm, age_years, zone_index, zones, priors
-        See `carbonation_model`.
+    depth_mm, age_years, zone_index, zones, priors, zone_class
+        See `carbonation_model`. With classes (a dict of priors), the fit holds the joint
+        posterior; `assess.updating.classes.split_posterior` gives each class's.
     seed : int or numpy.random.Generator
         Pass an int for reproducible output across calls.
     draws, tune, chains : int
@@ -217,7 +231,8 @@ def fit_carbonation(depth_mm, age_years, zone_index, zones, *, priors, seed, dra
         When the run fails the gate; the message names the variable.
     """
     seed = sampler_seed(seed, "fit_carbonation")
-    model = carbonation_model(depth_mm, age_years, zone_index, zones, priors=priors)
+    model = carbonation_model(depth_mm, age_years, zone_index, zones, priors=priors,
+                              zone_class=zone_class)
     idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
                              target_accept=target_accept, sampler=sampler)
     names = [n for n in PARAMETER_NAMES if n in idata.posterior]

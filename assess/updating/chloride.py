@@ -55,6 +55,7 @@ from assess.deterioration.defaults import (
     DistributionSpec,
 )
 from assess.errors import InputError
+from assess.updating.classes import ClassBlocks
 from assess.updating.gate import GateReport, require_convergence
 from assess.updating.measurement_error import MEASUREMENT_ERRORS
 from assess.updating.models import sample_posterior
@@ -341,7 +342,8 @@ def _beta_shapes(spec):
     return float(dist.args[0]), float(dist.args[1])
 
 
-def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors, censored=None):
+def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors, censored=None,
+                   zone_class=None):
     """PyMC model of chloride profiles of several zones (not sampled).
 
     Parameters
@@ -362,7 +364,16 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors, 
         Position in ``zones`` of each observation [-].
     zones : sequence of str
         Zone names, one concrete (binder) per call.
-    priors : ChloridePriors
+    priors : ChloridePriors or dict of str to ChloridePriors
+        One prior for all zones; or one prior per exposure class (class name ->
+        priors), with ``zone_class`` naming each zone's class.
+    zone_class : sequence of str, optional
+        Exposure class of each zone (with a dict of priors). The classes are
+        independent blocks of one model: each has its own ageing exponent,
+        initial content and scatter (dims ``exposure``), exactly as if each class
+        were a model of its own (the joint posterior is the product of the
+        classes' posteriors), but the site compiles and samples one model per
+        deterioration kind instead of one per class.
 
     Returns
     -------
@@ -371,13 +382,11 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors, 
         (dims zone), ``ageing_exponent``, ``log_initial_chloride`` (unless
         fixed), ``measurement_sd``; derived ``surface_chloride`` [% binder],
         ``diffusion_ref`` [mm2/yr at t_ref] (dims zone), ``initial_chloride``.
+        With classes, the class-level variables have dims ``exposure``.
     """
     import pymc as pm
 
     caller = "chloride_model"
-    if not isinstance(priors, ChloridePriors):
-        raise InputError(f"The 'priors' parameter of {caller} must be a ChloridePriors. Got "
-                         f"{type(priors).__name__}.", column="priors")
     x = check_observation_vector(depth_mm, "depth_mm", caller, low=0.0)
     if x.size == 0:
         raise InputError(f"{caller} needs at least one chloride observation.",
@@ -387,43 +396,60 @@ def chloride_model(depth_mm, age_years, chloride, zone_index, zones, *, priors, 
     c = check_observation_vector(chloride, "chloride", caller, low=0.0, low_open=True,
                                  size=x.size)
     names, idx = check_zone_index(zone_index, zones, x.size, caller)
+    blocks = ClassBlocks.build(priors, zone_class, names, idx, ChloridePriors, caller)
     if censored is not None:
         censored = np.asarray(censored, dtype=bool)
         if censored.shape != c.shape:
             raise InputError(f"{caller}: 'censored' must have one entry per observation "
                              f"({c.size}), got shape {censored.shape}.", column="censored")
 
-    age_data = float(np.exp(np.mean(np.log(t))))
-    log_shift = math.log(priors.age_ref_years / age_data)
-    alpha, beta = _beta_shapes(priors.ageing_exponent)
-    with pm.Model(coords={"zone": names}) as model:
-        a = pm.Beta("ageing_exponent", alpha=alpha, beta=beta)
-        log_cs = pm.Normal("log_surface_chloride", mu=math.log(priors.surface_chloride_median),
-                           sigma=priors.surface_chloride_log_sd, dims="zone")
-        log_d_data = pm.Normal("log_diffusion_data_age",
-                               mu=math.log(priors.diffusion_ref_median) + a * log_shift,
-                               sigma=priors.diffusion_log_sd, dims="zone")
-        if priors.initial_chloride_log_sd > 0:
+    vec, at_zone, at_obs = blocks.vec, blocks.at_zone, blocks.at_obs
+    # geometric-mean age of each class's data (see the module notes)
+    age_data = vec(lambda k, p: float(np.exp(np.mean(np.log(t[blocks.obs_class == k])))))
+    log_shift = np.log(vec(lambda k, p: p.age_ref_years)) - np.log(age_data)
+    shapes = [_beta_shapes(p.ageing_exponent) for p in blocks.priors]
+    fixed_c0 = {p.initial_chloride_log_sd == 0 for p in blocks.priors}
+    if len(fixed_c0) > 1:
+        raise InputError(f"{caller}: 'initial_chloride_log_sd' must be 0 for every class or "
+                         "for none.", column="initial_chloride_log_sd")
+    cdims = blocks.dims
+    with pm.Model(coords={"zone": names, **blocks.coords}) as model:
+        a = pm.Beta("ageing_exponent", alpha=vec(lambda k, p: shapes[k][0]),
+                    beta=vec(lambda k, p: shapes[k][1]), **cdims)
+        log_cs = pm.Normal(
+            "log_surface_chloride",
+            mu=at_zone(np.log(vec(lambda k, p: p.surface_chloride_median))),
+            sigma=at_zone(vec(lambda k, p: p.surface_chloride_log_sd)), dims="zone")
+        log_d_data = pm.Normal(
+            "log_diffusion_data_age",
+            mu=at_zone(np.log(vec(lambda k, p: p.diffusion_ref_median)) + a * log_shift),
+            sigma=at_zone(vec(lambda k, p: p.diffusion_log_sd)), dims="zone")
+        if not fixed_c0.pop():
             log_c0 = pm.Normal("log_initial_chloride",
-                               mu=math.log(priors.initial_chloride_median),
-                               sigma=priors.initial_chloride_log_sd)
+                               mu=np.log(vec(lambda k, p: p.initial_chloride_median)),
+                               sigma=vec(lambda k, p: p.initial_chloride_log_sd), **cdims)
         else:
-            log_c0 = math.log(priors.initial_chloride_median)
-        sigma = pm.HalfNormal("measurement_sd", sigma=priors.measurement_sd_scale)
+            log_c0 = np.log(vec(lambda k, p: p.initial_chloride_median))
+        sigma = pm.HalfNormal("measurement_sd",
+                              sigma=vec(lambda k, p: p.measurement_sd_scale), **cdims)
         c_s = pm.Deterministic("surface_chloride", pm.math.exp(log_cs), dims="zone")
-        pm.Deterministic("diffusion_ref", pm.math.exp(log_d_data - a * log_shift), dims="zone")
-        c_0 = pm.Deterministic("initial_chloride", pm.math.exp(log_c0))
+        pm.Deterministic("diffusion_ref", pm.math.exp(log_d_data - at_zone(a * log_shift)),
+                         dims="zone")
+        c_0 = pm.Deterministic("initial_chloride", pm.math.exp(log_c0), **cdims)
         predicted = chloride_content_tensor(x, t, c_s[idx], pm.math.exp(log_d_data)[idx],
-                                            age_data, a, c_0, priors.delta_x_mm)
+                                            at_obs(age_data), at_obs(a), at_obs(c_0),
+                                            at_obs(vec(lambda k, p: p.delta_x_mm)))
+        error = vec(lambda k, p: p.reading_error_log)
         pm.Deterministic("chloride_scatter", pm.math.sqrt(pm.math.maximum(
-            sigma**2 - priors.reading_error_log**2, 0.0)))
+            sigma**2 - error**2, 0.0)), **cdims)
         mu = pm.math.log(predicted)
+        sigma_obs = at_obs(sigma)
         if censored is not None and np.any(censored):
             lower = np.where(censored, np.log(c), -np.inf)
-            pm.Censored("log_chloride", pm.Normal.dist(mu=mu, sigma=sigma), lower=lower,
+            pm.Censored("log_chloride", pm.Normal.dist(mu=mu, sigma=sigma_obs), lower=lower,
                         upper=None, observed=np.log(c))
         else:
-            pm.Normal("log_chloride", mu=mu, sigma=sigma, observed=np.log(c))
+            pm.Normal("log_chloride", mu=mu, sigma=sigma_obs, observed=np.log(c))
     return model
 
 
@@ -518,13 +544,14 @@ class ChlorideFit:
 
 def fit_chloride(depth_mm, age_years, chloride, zone_index, zones, *, priors, seed,
                  draws=1000, tune=1000, chains=4, target_accept=0.95, sampler="pymc",
-                 censored=None):
+                 censored=None, zone_class=None):
     """Sample the chloride model and pass the convergence gate.
 
     Parameters
     ----------
-    depth_mm, age_years, chloride, zone_index, zones, priors, censored
-        See `chloride_model`.
+    depth_mm, age_years, chloride, zone_index, zones, priors, censored, zone_class
+        See `chloride_model`. With classes (a dict of priors), the fit holds the joint
+        posterior; `assess.updating.classes.split_posterior` gives each class's.
     seed : int or numpy.random.Generator
         Pass an int for reproducible output across calls.
     draws, tune, chains : int
@@ -544,7 +571,7 @@ def fit_chloride(depth_mm, age_years, chloride, zone_index, zones, *, priors, se
     """
     seed = sampler_seed(seed, "fit_chloride")
     model = chloride_model(depth_mm, age_years, chloride, zone_index, zones, priors=priors,
-                           censored=censored)
+                           censored=censored, zone_class=zone_class)
     idata = sample_posterior(model, draws=draws, tune=tune, chains=chains, seed=seed,
                              target_accept=target_accept, sampler=sampler)
     names = [n for n in PARAMETER_NAMES if n in idata.posterior]
