@@ -39,7 +39,7 @@ def _curve(p0=2e-5, growth=0.15, years=50):
 
 def test_keep_follows_the_life_curve_year_by_year_and_its_sum():
     pf_now, curve = _pf_now(), _curve()
-    yearly, note, follows = time_dependent_annual_pf(pf_now, KINDS, curve, 15)
+    yearly, note, follows, _ = time_dependent_annual_pf(pf_now, KINDS, curve, 15)
     assert follows and "remaining-life curve" in note
     keep = yearly[:, 0, :]
     # mean over draws of year t = life curve pf(t), t = 0..14
@@ -56,7 +56,7 @@ def test_keep_follows_the_life_curve_year_by_year_and_its_sum():
 
 def test_other_alternatives_grow_relatively_or_stay_constant():
     pf_now, curve = _pf_now(), _curve()
-    yearly, _, _ = time_dependent_annual_pf(pf_now, KINDS, curve, 15)
+    yearly, _, _, _ = time_dependent_annual_pf(pf_now, KINDS, curve, 15)
     growth = curve.pf[:15] / curve.pf[0]
     for a in (2, 3):  # strengthen, restrict load: bars keep corroding
         np.testing.assert_allclose(yearly[:, a, :], pf_now[:, a, None] * growth[None, :])
@@ -66,13 +66,13 @@ def test_other_alternatives_grow_relatively_or_stay_constant():
 
 def test_horizon_beyond_the_curve_holds_its_last_value():
     curve = _curve(years=10)
-    yearly, _, _ = time_dependent_annual_pf(_pf_now(), KINDS, curve, 15)
+    yearly, _, _, _ = time_dependent_annual_pf(_pf_now(), KINDS, curve, 15)
     np.testing.assert_allclose(yearly[:, 0, 10:].mean(axis=0), curve.pf[10], rtol=1e-12)
 
 
 def test_without_a_curve_the_annual_pf_is_constant_and_said_so():
     pf_now = _pf_now()
-    yearly, note, follows = time_dependent_annual_pf(pf_now, KINDS, None, 15)
+    yearly, note, follows, _ = time_dependent_annual_pf(pf_now, KINDS, None, 15)
     assert not follows and "held constant" in note
     np.testing.assert_array_equal(yearly, np.repeat(pf_now[:, :, None], 15, axis=2))
 
@@ -94,7 +94,7 @@ def test_increments_with_varying_pf_closed_form():
 
 def test_keep_cost_in_the_decision_problem_uses_the_curve():
     pf_now, curve = _pf_now(), _curve()
-    yearly, _, _ = time_dependent_annual_pf(pf_now, KINDS, curve, 15)
+    yearly, _, _, _ = time_dependent_annual_pf(pf_now, KINDS, curve, 15)
     problem = DecisionProblem(
         alternatives=[Alternative(k, 0.0 if k == "keep" else 1.0) for k in KINDS],
         failure_cost=1e7, theta=np.arange(pf_now.shape[0], dtype=float)[:, None],
@@ -102,3 +102,15 @@ def test_keep_cost_in_the_decision_problem_uses_the_curve():
         keep="keep")
     expected = 1e7 * (failure_increments(yearly)[:, 0, :] @ discount_factors(0.02, 15)).mean()
     assert problem.expected_costs()[0] == pytest.approx(expected, rel=1e-12)
+
+
+def test_the_cap_at_one_removes_exactly_the_mass_it_reports():
+    # closed form: keep-as-is draws 0.2 and 1.0 (mean 0.6) follow a flat curve at 0.9, so
+    # each is scaled by 1.5 -> 0.3 and 1.5; the cap takes 1.5 to 1, removing 0.5 / 2 = 0.25
+    pf_now = np.array([[0.2, 1e-7, 0.01, 0.05, 1e-6], [1.0, 1e-7, 0.05, 0.2, 1e-6]])
+    curve = Curve(np.arange(6, dtype=float), np.full(6, 0.9))
+    yearly, note, _, lost = time_dependent_annual_pf(pf_now, KINDS, curve, 3)
+    np.testing.assert_allclose(yearly[:, 0, :], [[0.3] * 3, [1.0] * 3])
+    np.testing.assert_allclose(lost, [0.25] * 3)
+    np.testing.assert_allclose(yearly[:, 0, :].mean(axis=0) + lost, curve.pf[:3])
+    assert "taken as 1" in note

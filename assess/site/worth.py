@@ -103,6 +103,11 @@ class SiteWorth:
                 if decision.annual_pf_by_year is None
                 else decision.annual_pf_by_year[:, problem.keep_index, :].mean(axis=0).tolist()
             ),
+            "keep_annual_pf_cap_loss_by_year": (
+                None
+                if decision.keep_cap_loss_by_year is None
+                else decision.keep_cap_loss_by_year.tolist()
+            ),
             "keep_horizon_pf": float(problem.horizon_pf[:, problem.keep_index].mean()),
             "prior_decision": first.prior_decision,
             "evpi": first.evpi,

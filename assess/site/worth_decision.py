@@ -657,6 +657,9 @@ class SiteDecision:
         survival of earlier years is applied) [-].
     uses_life_curve : bool
         True when the annual pf follows the member's remaining-life curve.
+    keep_cap_loss_by_year : ndarray of shape (T,)
+        Mean over the draws of the part of "keep as is"'s annual pf above 1, which the
+        cap at 1 removes [-]: the life curve's pf of year t minus the mean capped pf.
     """
 
     member: str
@@ -675,6 +678,7 @@ class SiteDecision:
     notes: list
     annual_pf_by_year: np.ndarray | None = None
     uses_life_curve: bool = False
+    keep_cap_loss_by_year: np.ndarray | None = None
     member_errors: dict = dataclasses.field(default_factory=dict)
     """Alternative -> mode -> leave-one-out error of the member's beta owed to that mode's
     surrogate (`member_loo_errors`) [-]: the figure the surrogate is judged by."""
@@ -723,7 +727,7 @@ DETERIORATING = ("keep", "strengthen", "restrict_load")
 
 def time_dependent_annual_pf(
     pf_now: np.ndarray, kinds: Sequence[str], curve, horizon_years: int
-) -> tuple[np.ndarray, str, bool]:
+) -> tuple[np.ndarray, str, bool, np.ndarray]:
     """Annual pf of every draw, alternative and year of the horizon, from the life curve.
 
     The surrogate gives the annual pf of each draw theta_k at the assessment date,
@@ -760,6 +764,8 @@ def time_dependent_annual_pf(
         One sentence on what was done, for the report.
     follows_curve : bool
         True when at least one alternative follows the life curve.
+    cap_loss : ndarray of shape (T,)
+        "keep as is": mean over the draws of the annual pf above 1 that the cap removes [-].
     """
     pf_now = np.asarray(pf_now, dtype=float)
     years = np.arange(int(horizon_years), dtype=float)
@@ -773,6 +779,7 @@ def time_dependent_annual_pf(
                 "not counted"
             ),
             False,
+            np.zeros(years.size),
         )
     life_pf = np.interp(
         years,
@@ -780,6 +787,7 @@ def time_dependent_annual_pf(
         np.asarray(curve.pf, dtype=float),
     )
     used = []
+    cap_loss = np.zeros(years.size)
     for a, kind in enumerate(kinds):
         if kind not in DETERIORATING:
             continue
@@ -792,7 +800,10 @@ def time_dependent_annual_pf(
             if life_pf[0] <= 0.0:
                 continue
             factor = life_pf / life_pf[0]
-        yearly[:, a, :] = np.clip(pf_now[:, a, None] * factor[None, :], 0.0, 1.0)
+        unclipped = pf_now[:, a, None] * factor[None, :]
+        yearly[:, a, :] = np.clip(unclipped, 0.0, 1.0)
+        if kind == "keep":
+            cap_loss = np.maximum(unclipped - 1.0, 0.0).mean(axis=0)
         used.append(ALTERNATIVE_NAMES[kind])
     if not used:
         return (
@@ -802,18 +813,22 @@ def time_dependent_annual_pf(
                 "annual failure probability is held constant over the horizon"
             ),
             False,
+            cap_loss,
         )
     total = float(life_pf.sum())
-    return (
-        yearly,
-        (
-            f"the annual failure probability follows the member's remaining-life curve year "
-            f"by year ({', '.join(used)}; repair and replace stay constant): summed over the "
-            f"{int(horizon_years)} years it is {total:.3g} for 'keep as is', the same as the "
-            f"remaining-life section"
-        ),
-        True,
+    note = (
+        f"the annual failure probability follows the member's remaining-life curve year "
+        f"by year ({', '.join(used)}; repair and replace stay constant): summed over the "
+        f"{int(horizon_years)} years it is {total:.3g} for 'keep as is', the same as the "
+        f"remaining-life section"
     )
+    lost = float(cap_loss.sum())
+    if lost > 0.0:
+        note += (
+            f"; in the posterior draws where it would exceed 1 in a year it is taken as 1, "
+            f"which lowers that sum to {total - lost:.3g}"
+        )
+    return yearly, note, True, cap_loss
 
 
 def failure_increments(yearly: np.ndarray) -> np.ndarray:
@@ -1025,7 +1040,9 @@ def build_site_decision(
     pf = np.column_stack(annual_pf)
     kinds = [spec.kind for spec in setup.alternatives]
     curve = (life_curves or {}).get(member_id)
-    yearly, life_note, follows = time_dependent_annual_pf(pf, kinds, curve, setup.horizon_years)
+    yearly, life_note, follows, cap_loss = time_dependent_annual_pf(
+        pf, kinds, curve, setup.horizon_years
+    )
     notes.append(life_note)
     increments = failure_increments(yearly)
 
@@ -1077,6 +1094,7 @@ def build_site_decision(
         notes=notes,
         annual_pf_by_year=yearly,
         uses_life_curve=follows,
+        keep_cap_loss_by_year=cap_loss,
         member_errors=member_errors,
     )
 
