@@ -89,19 +89,31 @@ def _shared_demo_caches(tmp_path_factory, items):
             shutil.rmtree(shared, ignore_errors=True)
             shutil.copytree(DEMO, folder)
             import_site(folder)
-            with warnings.catch_warnings():
-                warnings.simplefilter("ignore")
-                if what == "job":
-                    from assess.report.job import run_and_report
-
-                    run_and_report(folder, _quick_settings())
-                else:
-                    from assess.site.materials import update_site
-                    from inspection_io.site import load_site
-
-                    update_site(load_site(folder), settings=_quick_settings())
+            # the other workers wait for this run (or soon will): its chains may use the
+            # cores in worker processes, as `assess run` does by default
+            cores = os.environ.pop("ASSESS_MCMC_CORES", None)
+            try:
+                _seed_run(folder, what)
+            finally:
+                if cores is not None:
+                    os.environ["ASSESS_MCMC_CORES"] = cores
             (shared / "done").write_text("ok")
     return folder
+
+
+def _seed_run(folder, what):
+    """The main job ("job") or the materials update ("update") on ``folder``."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        if what == "job":
+            from assess.report.job import run_and_report
+
+            run_and_report(folder, _quick_settings())
+        else:
+            from assess.site.materials import update_site
+            from inspection_io.site import load_site
+
+            update_site(load_site(folder), settings=_quick_settings())
 
 
 @pytest.fixture(scope="session")
