@@ -189,7 +189,7 @@ def site_subfolder(folder: str | os.PathLike, *parts: str) -> Path:
     return path
 
 
-def replace_atomically(path: str | os.PathLike, write: Callable[[str], None], *,
+def replace_atomically(path: str | os.PathLike, write: Callable[[str], object], *,
                        suffix: str) -> None:
     """Write a file all at once: ``write(tmp)`` fills a temporary file beside ``path``,
     which then replaces ``path`` (`os.replace`); a killed run leaves ``.<stem>-*<suffix>``,
