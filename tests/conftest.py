@@ -36,22 +36,13 @@ def suite_seed():
 
 
 @pytest.fixture(scope="session")
-def demo_site(tmp_path_factory, request):
-    """Path of an imported copy of the demo site (shared; do not modify its files).
-
-    Under pytest-xdist its posterior and reliability caches come from one seed run shared
-    by the workers (`_shared_demo_caches`), so the demo's MCMC runs once in the suite.
-    """
+def demo_site(tmp_path_factory):
+    """Path of an imported copy of the demo site (shared; do not modify its files)."""
     from inspection_io.importing import import_site
 
     folder = tmp_path_factory.mktemp("demo") / "tanners-yard"
     shutil.copytree(DEMO, folder)
     import_site(folder)
-    seeded = _shared_demo_caches(tmp_path_factory, request.session.items)
-    if seeded is not None:
-        for part in CACHE_FOLDERS:
-            if (seeded / part).is_dir():
-                shutil.copytree(seeded / part, folder / part, dirs_exist_ok=True)
     return folder
 
 
@@ -60,27 +51,30 @@ CACHE_FOLDERS = (Path("results") / "posteriors", Path("results") / "reliability"
 `assess.site.result_cache`): a file there is found only by the hash of its inputs."""
 
 
-def _shared_demo_caches(tmp_path_factory, items):
-    """Folder of a demo site whose caches hold what this session's demo tests need, made
-    once for all xdist workers (file lock, the pytest-xdist recipe for session fixtures);
-    None when not under xdist or when no test needs a demo fit.
+def _copy_caches(source, folder) -> None:
+    if source is None:
+        return
+    for part in CACHE_FOLDERS:
+        if (source / part).is_dir():
+            shutil.copytree(source / part, folder / part, dirs_exist_ok=True)
 
-    Each worker keeps its own site folder and ledger; only the content-addressed caches are
-    copied, so every demo test sees the same numbers as with its own cold run (the warm
-    run's identity is tested in tests/test_result_cache.py).
+
+def _shared_demo_caches(tmp_path_factory, what):
+    """Folder of a demo site whose caches hold the materials update (``what="update"``) or
+    the whole main job (``"job"``), made once for all xdist workers (a file lock, the
+    pytest-xdist recipe for session fixtures); None when not under xdist.
+
+    Session fixtures exist once per worker: without this each worker would sample the
+    demo's MCMC itself. Each worker keeps its own site folder and ledger; only the
+    content-addressed caches are copied, so every demo test sees the numbers of its own
+    cold run (the warm run's identity is tested in tests/test_result_cache.py).
     """
     if int(os.environ.get("PYTEST_XDIST_WORKER_COUNT", "1")) < 2:
         return None
-    used = set().union(*(getattr(item, "fixturenames", ()) for item in items))
-    if "demo_job" in used:
-        what = "job"
-    elif "demo_update" in used:
-        what = "update"
-    else:
-        return None
     from filelock import FileLock
 
-    shared = tmp_path_factory.getbasetemp().parent / f"demo-seed-{what}"
+    root = tmp_path_factory.getbasetemp().parent
+    shared = root / f"demo-seed-{what}"
     folder = shared / "tanners-yard"
     with FileLock(str(shared) + ".lock"):
         if not (shared / "done").exists():
@@ -89,6 +83,8 @@ def _shared_demo_caches(tmp_path_factory, items):
             shutil.rmtree(shared, ignore_errors=True)
             shutil.copytree(DEMO, folder)
             import_site(folder)
+            if what == "job" and (root / "demo-seed-update" / "done").exists():
+                _copy_caches(root / "demo-seed-update" / "tanners-yard", folder)
             # the other workers wait for this run (or soon will): its chains may use the
             # cores in worker processes, as `assess run` does by default
             cores = os.environ.pop("ASSESS_MCMC_CORES", None)
@@ -130,11 +126,12 @@ def _quick_settings():
 
 
 @pytest.fixture(scope="session")
-def demo_update(demo_site, quick_settings):
+def demo_update(demo_site, quick_settings, tmp_path_factory):
     """The demo site and its materials update with `quick_settings` (shared, not recorded)."""
     from assess.site.materials import update_site
     from inspection_io.site import load_site
 
+    _copy_caches(_shared_demo_caches(tmp_path_factory, "update"), demo_site)
     site = load_site(demo_site)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
@@ -143,13 +140,14 @@ def demo_update(demo_site, quick_settings):
 
 
 @pytest.fixture(scope="session")
-def demo_job(demo_site, quick_settings):
+def demo_job(demo_site, quick_settings, tmp_path_factory):
     """The main job with its report on the shared demo site, run once per session:
     (run, html_path, json_path, numbers of the JSON)."""
     import json
 
     from assess.report.job import run_and_report
 
+    _copy_caches(_shared_demo_caches(tmp_path_factory, "job"), demo_site)
     run, html_path, json_path = run_and_report(demo_site, quick_settings)
     return run, html_path, json_path, json.loads(json_path.read_text())
 
