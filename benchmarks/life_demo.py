@@ -53,16 +53,17 @@ def main() -> None:
     warnings.filterwarnings("ignore")
 
     from assess.site.corrosion import update_corrosion, zone_corrosion_inputs
-    from assess.site.materials import UpdateSettings, update_site
+    from assess.site.materials import update_site
     from assess.site.projection import governing_curves, project_member, project_site
+    from assess.site.settings import RunSettings
     from inspection_io.site import load_site
 
     folder = prepare(args.site)
     site = load_site(folder)
     start = time.perf_counter()
-    update = update_site(site, settings=UpdateSettings(draws=500, tune=500, seed=args.seed),
-                         record=False)
-    fit = update_corrosion(site, seed=args.seed, draws=1000, tune=500)
+    settings = RunSettings(seed=args.seed, quick=True)
+    update = update_site(site, settings=settings)
+    fit = update_corrosion(site, settings=settings)
     corrosion = zone_corrosion_inputs(site, fit, seed=args.seed)
     mcmc_time = time.perf_counter() - start
     print(f"site: {folder}")
