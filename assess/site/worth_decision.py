@@ -969,28 +969,9 @@ def build_site_decision(
             pf = np.full(theta.shape[0], annual_target.pf)
             surrogates[name] = {}
         else:
-            rows = design
-            betas, converged = reliability.betas(member_theta[rows], spec)
-            fitted = _fit_modes(
-                reliability.modes,
-                member_theta,
-                rows,
-                betas,
-                converged,
-                center,
-                scale,
-                name,
-                member_id,
-            )
-            worst = max(fitted[2].values())
-            more = further_design(theta.shape[0], design, n_design)
-            if worst > SURROGATE_REFINE_RMSE and more.size:
-                # more design points from the bulk of the posterior, then fit again
-                more_betas, more_converged = reliability.betas(member_theta[more], spec)
-                rows = np.concatenate([design, more])
-                betas = np.vstack([betas, more_betas])
-                converged = np.vstack([converged, more_converged])
-                fitted = _fit_modes(
+
+            def fit_on(rows, betas, converged, name=name):
+                return _fit_modes(
                     reliability.modes,
                     member_theta,
                     rows,
@@ -1001,6 +982,19 @@ def build_site_decision(
                     name,
                     member_id,
                 )
+
+            rows = design
+            betas, converged = reliability.betas(member_theta[rows], spec)
+            fitted = fit_on(rows, betas, converged)
+            worst = max(fitted[2].values())
+            more = further_design(theta.shape[0], design, n_design)
+            if worst > SURROGATE_REFINE_RMSE and more.size:
+                # more design points from the bulk of the posterior, then fit again
+                more_betas, more_converged = reliability.betas(member_theta[more], spec)
+                rows = np.concatenate([design, more])
+                betas = np.vstack([betas, more_betas])
+                converged = np.vstack([converged, more_converged])
+                fitted = fit_on(rows, betas, converged)
                 used_rows.update(more.tolist())
                 notes.append(
                     f"'{name}': {more.size} more design points from the bulk of the posterior "
