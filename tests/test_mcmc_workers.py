@@ -90,3 +90,34 @@ def test_a_sampler_run_lost_to_its_surroundings_is_an_analysis_error(monkeypatch
     monkeypatch.setattr(models, "_sample", lambda *a, **k: 1 / 0)
     with pytest.raises(ZeroDivisionError):
         models.sample_posterior(model, draws=10, tune=10, chains=1, seed=1)
+
+
+PRELOAD_SCRIPT = textwrap.dedent("""
+    import sys
+    from assess.updating.workers import dying_context
+
+    def report(queue):
+        queue.put("pymc" in sys.modules)
+
+    if __name__ == "__main__":
+        context = dying_context()
+        queue = context.Queue()
+        child = context.Process(target=report, args=(queue,))
+        child.start()
+        print(queue.get(timeout=120), "pymc" in sys.modules, flush=True)
+        child.join()
+""")
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="POSIX fork server")
+def test_a_chain_worker_starts_with_pymc_already_loaded(tmp_path):
+    # common practice (multiprocessing's fork server, Python docs): modules preloaded by the
+    # server are inherited by every worker it forks, so no worker imports PyMC itself; the
+    # parent never imported it, so the module can only come from the preload
+    script = tmp_path / "parent.py"
+    script.write_text(PRELOAD_SCRIPT)
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(sys.path)}
+    done = subprocess.run([sys.executable, str(script)], capture_output=True, text=True,
+                          env=env, timeout=300)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.split() == ["True", "False"]
