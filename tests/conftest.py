@@ -59,10 +59,10 @@ def _copy_caches(source, folder) -> None:
             shutil.copytree(source / part, folder / part, dirs_exist_ok=True)
 
 
-def _shared_demo_caches(tmp_path_factory, what):
-    """Folder of a demo site whose caches hold the materials update (``what="update"``) or
-    the whole main job (``"job"``), made once for all xdist workers (a file lock, the
-    pytest-xdist recipe for session fixtures); None when not under xdist.
+def _shared_demo_caches(tmp_path_factory):
+    """Folder of a demo site whose caches hold the whole main job (every fit and every
+    reliability result of ``assess run --quick``), made once for all xdist workers (a file
+    lock, the pytest-xdist recipe for session fixtures); None when not under xdist.
 
     Session fixtures exist once per worker: without this each worker would sample the
     demo's MCMC itself. Each worker keeps its own site folder and ledger; only the
@@ -73,8 +73,7 @@ def _shared_demo_caches(tmp_path_factory, what):
         return None
     from filelock import FileLock
 
-    root = tmp_path_factory.getbasetemp().parent
-    shared = root / f"demo-seed-{what}"
+    shared = tmp_path_factory.getbasetemp().parent / "demo-seed-job"
     folder = shared / "tanners-yard"
     with FileLock(str(shared) + ".lock"):
         if not (shared / "done").exists():
@@ -83,13 +82,16 @@ def _shared_demo_caches(tmp_path_factory, what):
             shutil.rmtree(shared, ignore_errors=True)
             shutil.copytree(DEMO, folder)
             import_site(folder)
-            if what == "job" and (root / "demo-seed-update" / "done").exists():
-                _copy_caches(root / "demo-seed-update" / "tanners-yard", folder)
-            # the other workers wait for this run (or soon will): its chains may use the
-            # cores in worker processes, as `assess run` does by default
+            # the other workers run tests without the demo meanwhile (`SEEDED` tests come
+            # first in the collection, so one worker starts here at once): the chains use
+            # the cores in worker processes, as `assess run` does by default
             cores = os.environ.pop("ASSESS_MCMC_CORES", None)
             try:
-                _seed_run(folder, what)
+                with warnings.catch_warnings():
+                    warnings.simplefilter("ignore")
+                    from assess.report.job import run_and_report
+
+                    run_and_report(folder, _quick_settings())
             finally:
                 if cores is not None:
                     os.environ["ASSESS_MCMC_CORES"] = cores
@@ -97,19 +99,22 @@ def _shared_demo_caches(tmp_path_factory, what):
     return folder
 
 
-def _seed_run(folder, what):
-    """The main job ("job") or the materials update ("update") on ``folder``."""
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        if what == "job":
-            from assess.report.job import run_and_report
+SEEDED = "demo_fits"
+"""The fixture of every test that needs the demo's fits: under xdist these tests are put
+first in the collection, so that the worker that takes the first half starts the shared
+seed run at once and the other works through tests without the demo meanwhile."""
 
-            run_and_report(folder, _quick_settings())
-        else:
-            from assess.site.materials import update_site
-            from inspection_io.site import load_site
 
-            update_site(load_site(folder), settings=_quick_settings())
+def pytest_collection_modifyitems(config, items):
+    items.sort(key=lambda item: SEEDED not in getattr(item, "fixturenames", ()))
+
+
+@pytest.fixture(scope="session")
+def demo_fits(demo_site, tmp_path_factory):
+    """The demo site with the stored fits and reliability results of the main job with
+    `quick_settings` (shared under xdist; otherwise made by the first test that needs them)."""
+    _copy_caches(_shared_demo_caches(tmp_path_factory), demo_site)
+    return demo_site
 
 
 @pytest.fixture(scope="session")
@@ -126,13 +131,12 @@ def _quick_settings():
 
 
 @pytest.fixture(scope="session")
-def demo_update(demo_site, quick_settings, tmp_path_factory):
+def demo_update(demo_fits, quick_settings):
     """The demo site and its materials update with `quick_settings` (shared, not recorded)."""
     from assess.site.materials import update_site
     from inspection_io.site import load_site
 
-    _copy_caches(_shared_demo_caches(tmp_path_factory, "update"), demo_site)
-    site = load_site(demo_site)
+    site = load_site(demo_fits)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         update = update_site(site, settings=quick_settings)
@@ -140,14 +144,13 @@ def demo_update(demo_site, quick_settings, tmp_path_factory):
 
 
 @pytest.fixture(scope="session")
-def demo_job(demo_site, quick_settings, tmp_path_factory):
+def demo_job(demo_fits, quick_settings):
     """The main job with its report on the shared demo site, run once per session:
     (run, html_path, json_path, numbers of the JSON)."""
     import json
 
     from assess.report.job import run_and_report
 
-    _copy_caches(_shared_demo_caches(tmp_path_factory, "job"), demo_site)
-    run, html_path, json_path = run_and_report(demo_site, quick_settings)
+    run, html_path, json_path = run_and_report(demo_fits, quick_settings)
     return run, html_path, json_path, json.loads(json_path.read_text())
 

@@ -30,7 +30,8 @@ def ledger_rows(folder):
         return ledger.results(kind="remaining_life")
 
 
-def test_life_json_curves_plot_and_ledger_rows(demo_site):
+def test_life_json_curves_plot_and_ledger_rows(demo_fits):
+    demo_site = demo_fits
     before = len(ledger_rows(demo_site))
     result = run("life", demo_site, "--quick", "--seed", SEED, "--member", "S3-02",
                  "--member", "C2-B3", "--horizon", "30", "--json")
@@ -60,7 +61,8 @@ def test_life_json_curves_plot_and_ledger_rows(demo_site):
     assert {z["origin"] for z in payload["corrosion"].values()} == {"posterior"}
 
 
-def test_life_table_says_annual(demo_site):
+def test_life_table_says_annual(demo_fits):
+    demo_site = demo_fits
     result = run("life", demo_site, "--quick", "--seed", SEED, "--member", "S4-01",
                  "--horizon", "20", "--no-plots")
     assert result.exit_code == 0, result.stderr

@@ -39,10 +39,10 @@ from assess.updating.corrosion import SPATIAL_LOG_SD
 
 
 @pytest.fixture(scope="module")
-def site(demo_site):
+def site(demo_fits):
     from inspection_io.site import load_site
 
-    return load_site(demo_site)
+    return load_site(demo_fits)
 
 
 @pytest.fixture(scope="module")
