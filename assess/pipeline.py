@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Callable
 
 from assess.errors import AnalysisError, InputError
+from assess.site.history_prefetch import start_cutoff_prefetch
 from assess.site.paths import has_ledger, ledger_path
 from assess.site.run import STEP_TITLES, SiteRun, run_step
 from assess.site.settings import RunSettings, build_settings
@@ -81,11 +82,18 @@ def run_site(
     import_site(folder)
     run = SiteRun(site, settings, say=say)
     run.data_summaries, run.flagged = data_summaries(folder)
-    for name in main_job_steps(settings):
-        try:
-            run_step(run, name)
-        except (AnalysisError, InputError):
-            continue  # recorded in run.records; the report shows it as not available
+    steps = main_job_steps(settings)
+    if "history" in steps:
+        run.cutoff_prefetch = start_cutoff_prefetch(site, settings)
+    try:
+        for name in steps:
+            try:
+                run_step(run, name)
+            except (AnalysisError, InputError):
+                continue  # recorded in run.records; the report shows it as not available
+    finally:
+        if run.cutoff_prefetch is not None:
+            run.cutoff_prefetch.stop()
     return run
 
 

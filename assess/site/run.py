@@ -154,6 +154,9 @@ class SiteRun:
         self.warnings: list[str] = []
         self.data_summaries: dict = {}
         self.flagged: list = []
+        self.cutoff_prefetch: Any = None
+        """`assess.site.history_prefetch.CutoffPrefetch` of the history's cut-off fits, if
+        the main job started one."""
 
     def step(self, name: str) -> Any:
         """The result of step ``name`` (run now if not yet run)."""
@@ -295,6 +298,9 @@ def _worth(run: SiteRun):
 def _history(run: SiteRun):
     from assess.site.history import reassess_history
 
+    if run.cutoff_prefetch is not None:
+        run.say("Waiting for the campaign cut-off fits sampled in the background")
+        run.cutoff_prefetch.wait()
     members = run.result("members")
     if members is not None and run.members is not None:
         members = None  # a partial members table cannot stand for the whole site
