@@ -46,7 +46,7 @@ class _Conditional:
     params: Callable[[dict], dict]
 
 
-_ROOT, _CONSTANT, _CHILD, _GROUPED = "root", "constant", "child", "grouped"
+_ROOT, _CONSTANT, _GROUPED = "root", "constant", "grouped"
 _GROUPED_KINDS = {
     "normal": ("mu", "sigma"),
     "lognormal": ("mu_ln", "sigma_ln"),
@@ -81,17 +81,81 @@ def _grouped_roots(groups: list, z: np.ndarray) -> dict[str, np.ndarray]:
     return out
 
 
+_BATCHED_KINDS = ("normal", "lognormal")
+"""Conditional kinds mapped together, one numpy call per kind and parameter form for all
+children whose parents are known (the same arithmetic as `conditional_x_from_u`)."""
+
+
+def _batch_form(kind: str, values) -> str | None:
+    """"moments" (mean, std) or "native" parameters of a batched kind, else None."""
+    if not isinstance(values, dict) or len(values) != 2:
+        return None
+    if "mean" in values and "std" in values:
+        return "moments"
+    native = _GROUPED_KINDS[kind]
+    if native[0] in values and native[1] in values:
+        return "native"
+    return None
+
+
+def _batched_children(kind: str, form: str, entries: list, u: np.ndarray,
+                      n_points: int) -> np.ndarray | None:
+    """Values (k, n) of k conditional children of one kind and parameter form.
+
+    Element by element the arithmetic of `assess.distributions.conditional_x_from_u`
+    (normal: location + spread u; lognormal: exp(location + spread u), with the
+    lognormal's (mu_ln, sigma_ln) from mean and std as `make_distribution` computes them).
+    Returns None when a parameter is not a number of the right shape or fails a check:
+    the caller then maps each child on its own, which raises the usual message.
+    """
+    keys = ("mean", "std") if form == "moments" else _GROUPED_KINDS[kind]
+    first = np.empty((len(entries), n_points))
+    second = np.empty((len(entries), n_points))
+    try:
+        for row, (_, _, values) in enumerate(entries):
+            first[row] = values[keys[0]]
+            second[row] = values[keys[1]]
+    except (TypeError, ValueError):
+        return None
+    # NaN fails "> 0" and an infinite term makes the sum infinite (as in conditional_x_from_u)
+    if not ((second > 0).all() and np.isfinite(first + second).all()):
+        return None
+    if form == "moments" and kind == "lognormal":
+        if not (first > 0).all():
+            return None
+        spread = np.sqrt(np.log1p((second / first) ** 2))
+        location = np.log(first) - 0.5 * spread**2
+    else:
+        location, spread = first, second
+    coordinates = u[:, [column for _, column, _ in entries]].T
+    if kind == "normal":
+        return location + spread * coordinates
+    return np.exp(location + spread * coordinates)
+
+
+def _as_points(value, n_points: int) -> np.ndarray:
+    """``value`` as a float array of shape (n_points,)."""
+    value = np.asarray(value, dtype=float)
+    if value.shape != (n_points,):
+        value = np.broadcast_to(value, (n_points,)).astype(float)
+    return value
+
+
 @dataclass(frozen=True)
 class _Plan:
     """What `ProbabilisticModel.u_to_x` does, worked out once: the u columns of the roots,
-    whether they are correlated, and one step per variable in Rosenblatt order."""
+    whether they are correlated, one step per root or constant in the order added, and
+    the conditional children in layers (a child's parents all lie in earlier layers or
+    are roots), each layer a list of (name, variable, u column)."""
 
+    names: list
     random_names: list
     dim: int
     root_columns: list
     identity: bool
     steps: list
     groups: list
+    layers: list
 
 
 class ProbabilisticModel:
@@ -268,6 +332,8 @@ class ProbabilisticModel:
         column = {n: k for k, n in enumerate(random_names)}
         steps: list[tuple] = []
         members: dict[str, list] = {}
+        depth: dict[str, int] = {}
+        layers: list[list] = []
         for name, variable in self._variables.items():
             if isinstance(variable, _Root):
                 dist = variable.distribution
@@ -279,7 +345,10 @@ class ProbabilisticModel:
                 else:
                     steps.append((name, _CONSTANT, float(dist.params["value"]), None))
             else:
-                steps.append((name, _CHILD, variable, column.get(name)))
+                depth[name] = 1 + max(depth.get(p, -1) for p in variable.parents)
+                if depth[name] == len(layers):
+                    layers.append([])
+                layers[depth[name]].append((name, variable, column.get(name)))
         root_columns = [column[n] for n in roots]
         identity = not self._correlations or root_columns == []
         groups = []
@@ -287,7 +356,8 @@ class ProbabilisticModel:
             keys = _GROUPED_KINDS[kind]
             params = {k: np.array([[float(d.params[k])] for _, d, _ in entries]) for k in keys}
             groups.append((kind, [n for n, _, _ in entries], [i for _, _, i in entries], params))
-        return _Plan(random_names, len(random_names), root_columns, identity, steps, groups)
+        return _Plan(list(self._variables), random_names, len(random_names), root_columns,
+                     identity, steps, groups, layers)
 
     def _conditional_distribution(self, name: str, x: dict) -> Distribution:
         variable = self._variables[name]
@@ -322,28 +392,36 @@ class ProbabilisticModel:
         else:
             z = u[:, plan.root_columns] @ L.T
         grouped = _grouped_roots(plan.groups, z)
-        x: dict[str, np.ndarray] = {}
+        x: dict[str, np.ndarray] = dict.fromkeys(plan.names)  # the order of `names`
         for name, step, data, where in plan.steps:
             if step is _GROUPED:
                 x[name] = grouped[name]
-                continue
-            if step is _ROOT:
-                value = data(z[:, where])
-            elif step is _CONSTANT:
-                x[name] = np.full(n_points, data)
-                continue
+            elif step is _ROOT:
+                x[name] = _as_points(data(z[:, where]), n_points)
             else:
-                value = self._child_values(name, data, x, u, where, n_points)
-            value = np.asarray(value, dtype=float)
-            if value.shape != (n_points,):
-                value = np.broadcast_to(value, (n_points,)).astype(float)
-            x[name] = value
+                x[name] = np.full(n_points, data)
+        for layer in plan.layers:
+            batches: dict[tuple, list] = {}
+            for name, variable, column in layer:
+                values = variable.params({p: x[p] for p in variable.parents})
+                form = _batch_form(variable.kind, values) if variable.kind in _BATCHED_KINDS \
+                    else None
+                if form is None:
+                    x[name] = _as_points(
+                        self._child_values(name, variable, values, u, column, n_points), n_points)
+                else:
+                    batches.setdefault((variable.kind, form), []).append((name, column, values))
+            for (kind, form), entries in batches.items():
+                rows = _batched_children(kind, form, entries, u, n_points)
+                for k, (name, column, values) in enumerate(entries):
+                    x[name] = rows[k] if rows is not None else _as_points(self._child_values(
+                        name, self._variables[name], values, u, column, n_points), n_points)
         return x
 
-    def _child_values(self, name: str, variable: _Conditional, x: dict, u: np.ndarray,
+    def _child_values(self, name: str, variable: _Conditional, values, u: np.ndarray,
                       column: int | None, n_points: int) -> np.ndarray:
-        """Values of a conditional variable given its parents' values in ``x``."""
-        values = variable.params({p: x[p] for p in variable.parents})
+        """Values of a conditional variable from its parameters ``values`` (what its
+        ``params`` returned for the parents' values)."""
         if not isinstance(values, dict):
             raise InputError(f"variable '{name}': params must return a dict of distribution "
                              f"parameters, got {type(values).__name__}")
