@@ -28,7 +28,13 @@ from typing import Callable, Sequence
 import numpy as np
 from scipy import linalg, special
 
-from assess.distributions import KINDS, Distribution, conditional_x_from_u, make_distribution
+from assess.distributions import (
+    KINDS,
+    Distribution,
+    conditional_x_from_u,
+    make_distribution,
+    weibull_x_from_u,
+)
 from assess.errors import InputError
 from assess.nataf import corrected_correlation_matrix
 from assess.reliability.problem import StandardNormalProblem
@@ -51,6 +57,7 @@ _GROUPED_KINDS = {
     "normal": ("mu", "sigma"),
     "lognormal": ("mu_ln", "sigma_ln"),
     "gumbel": ("loc", "scale"),
+    "weibull": ("shape", "scale"),
     "gamma": ("shape", "scale"),
 }
 """Root kinds mapped together, one numpy call for all roots of a kind (the same closed forms
@@ -68,6 +75,8 @@ def _grouped_roots(groups: list, z: np.ndarray) -> dict[str, np.ndarray]:
             values = np.exp(p["mu_ln"] + p["sigma_ln"] * zt)
         elif kind == "gumbel":
             values = p["loc"] - p["scale"] * np.log(-special.log_ndtr(zt))
+        elif kind == "weibull":
+            values = weibull_x_from_u(p["shape"], p["scale"], zt)
         else:  # gamma: the lower and upper tails through their own inverses
             values = np.empty(zt.shape)
             shape = np.broadcast_to(p["shape"], zt.shape)
