@@ -158,3 +158,22 @@ def test_bad_parameter_in_a_batch_names_its_variable(params, message):
     with pytest.raises(InputError, match=message) as raised:
         model.u_to_x(u)
     assert "'bad'" in str(raised.value)
+
+
+def test_finite_difference_batch_same_values_as_one_point_at_a_time():
+    # FORM's gradient batch: the base point, then one step per coordinate; the gamma
+    # roots are inverted once for the points that repeat the base point's gamma values
+    model = children_model()
+    model.add("q2", make_distribution("gamma", shape=0.8, scale=3.0))
+    base = np.array([-7.5, 0.3, 1.1, -0.4, 2.0, -1.7, 0.9, 7.5, 6.0])[: model.dim]
+    points = np.vstack([base, base + np.diag(np.full(model.dim, 1e-4))])
+    batch = model.u_to_x(points)
+    for k, point in enumerate(points):
+        alone = model.u_to_x(point[None, :])
+        for name in model.names:
+            assert batch[name][k] == alone[name][0], (name, k)
+    col = {n: k for k, n in enumerate(model.random_names)}
+    for name, frozen in (("q", stats.gamma(a=4.0, scale=0.5)),
+                         ("q2", stats.gamma(a=0.8, scale=3.0))):
+        np.testing.assert_allclose(batch[name], scipy_x(frozen, points[:, col[name]]),
+                                   rtol=1e-10, atol=0, err_msg=name)
