@@ -76,12 +76,14 @@ def _gamma_inverse(shape: np.ndarray, zt: np.ndarray) -> np.ndarray:
     return values
 
 
-def _standard_gamma_values(shape: np.ndarray, zt: np.ndarray) -> np.ndarray:
-    """`_gamma_inverse`, inverted once for the points whose gamma coordinates all equal
-    those of the first point (a finite-difference batch: the base point first, then one
-    step per coordinate), which take the first point's values (the incomplete-gamma
-    inverses iterate and cost about 0.5 us a value)."""
-    if zt.shape[1] < 3:
+def _standard_gamma_values(shape: np.ndarray, zt: np.ndarray, look_for_repeats: bool
+                           ) -> np.ndarray:
+    """`_gamma_inverse`; with ``look_for_repeats`` (a batch of dim + 1 points, the size of
+    a finite-difference gradient batch: the base point first, then one step per
+    coordinate) the points whose gamma coordinates all equal those of the first point take
+    the first point's values instead of new inversions (the incomplete-gamma inverses
+    iterate and cost about 0.5-1 us a value)."""
+    if not look_for_repeats or zt.shape[1] < 3:
         return _gamma_inverse(shape, zt)
     repeat = (zt[:, 1:] == zt[:, :1]).all(axis=0)
     if not repeat.any():
@@ -93,8 +95,10 @@ def _standard_gamma_values(shape: np.ndarray, zt: np.ndarray) -> np.ndarray:
     return values
 
 
-def _grouped_roots(groups: list, z: np.ndarray) -> dict[str, np.ndarray]:
-    """Physical values of the grouped roots from their normal-space values z [units]."""
+def _grouped_roots(groups: list, z: np.ndarray, gradient_sized: bool = False
+                   ) -> dict[str, np.ndarray]:
+    """Physical values of the grouped roots from their normal-space values z [units]
+    (``gradient_sized``: the batch has dim + 1 points, see `_standard_gamma_values`)."""
     out: dict[str, np.ndarray] = {}
     for kind, names, indices, p in groups:
         zt = np.ascontiguousarray(z[:, indices].T)  # one row per variable
@@ -107,7 +111,7 @@ def _grouped_roots(groups: list, z: np.ndarray) -> dict[str, np.ndarray]:
         elif kind == "weibull":
             values = weibull_x_from_u(p["shape"], p["scale"], zt)
         else:
-            values = p["scale"] * _standard_gamma_values(p["shape"], zt)
+            values = p["scale"] * _standard_gamma_values(p["shape"], zt, gradient_sized)
         for row, name in enumerate(names):
             out[name] = values[row]
     return out
@@ -423,7 +427,7 @@ class ProbabilisticModel:
             z = u[:, plan.root_columns]
         else:
             z = u[:, plan.root_columns] @ L.T
-        grouped = _grouped_roots(plan.groups, z)
+        grouped = _grouped_roots(plan.groups, z, n_points == plan.dim + 1)
         x: dict[str, np.ndarray] = dict.fromkeys(plan.names)  # the order of `names`
         for name, step, data, where in plan.steps:
             if step is _GROUPED:
