@@ -504,7 +504,8 @@ def _fast_x_from_u(kind, p, u):
 
     normal: mu + sigma u; lognormal: exp(mu_ln + sigma_ln u); Gumbel (max):
     loc - scale ln(-ln Phi(u)) with ln Phi(u) from ``log_ndtr`` (accurate in both
-    tails); gamma: regularised incomplete-gamma inverses on the lower/upper side.
+    tails); Weibull (min): `weibull_x_from_u`; gamma: regularised incomplete-gamma
+    inverses on the lower/upper side.
     """
     if kind == "normal":
         return p["mu"] + p["sigma"] * u
@@ -512,6 +513,8 @@ def _fast_x_from_u(kind, p, u):
         return np.exp(p["mu_ln"] + p["sigma_ln"] * u)
     if kind == "gumbel":
         return p["loc"] - p["scale"] * np.log(-special.log_ndtr(u))
+    if kind == "weibull":
+        return weibull_x_from_u(p["shape"], p["scale"], u)
     if kind == "gamma":
         if np.ndim(p["shape"]) == 0 and np.ndim(p["scale"]) == 0:
             # fixed parameters (a root variable): no broadcasting, one inverse per point
@@ -533,8 +536,29 @@ def _fast_x_from_u(kind, p, u):
     return None
 
 
+def weibull_x_from_u(shape, scale, u) -> np.ndarray:
+    """x = F^-1(Phi(u)) of the 2-parameter Weibull (smallest values) [units of scale].
+
+    F(x) = 1 - exp(-(x/scale)^shape), so x = scale t^(1/shape) with t = -ln(1 - Phi(u))
+    = -log1p(-Phi(u)) in the lower half and t = -ln Phi(-u) in the upper half (the
+    probability of the nearer tail in both; Johnson, Kotz & Balakrishnan 1994, Vol. 1,
+    ch. 21). The same expressions as scipy.stats.weibull_min's ppf and isf.
+    """
+    u = np.asarray(u, dtype=float)
+    with np.errstate(divide="ignore"):  # u = +inf: t = inf
+        t = np.where(u < 0.0, -np.log1p(-special.ndtr(np.minimum(u, 0.0))),
+                     -np.log(special.ndtr(-np.maximum(u, 0.0))))
+    return scale * t ** (1.0 / np.asarray(shape, dtype=float))
+
+
 def _fast_u_from_x(kind, p, x):
     """Closed-form u = Phi^-1(F(x)) for the kinds of `_fast_x_from_u`, else None."""
+    if kind == "weibull":
+        # cdf = -expm1(-t) and sf = exp(-t) with t = (x/scale)^shape (x < 0: cdf 0)
+        t = (np.maximum(x, 0.0) / p["scale"]) ** p["shape"]
+        cdf = -np.expm1(-t)
+        with np.errstate(divide="ignore"):  # cdf 0 or sf 0: u = -inf or +inf
+            return np.where(cdf <= 0.5, special.ndtri(cdf), -special.ndtri(np.exp(-t)))
     if kind == "normal":
         return (x - p["mu"]) / p["sigma"]
     if kind == "lognormal":
@@ -676,5 +700,6 @@ def _freeze(kind, p, name, check_only=False):
 
 __all__ = [
     "Distribution", "make_distribution", "conditional_x_from_u", "weibull_shape_from_cov",
+    "weibull_x_from_u",
     "KINDS", "EULER_GAMMA",
 ]

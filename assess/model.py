@@ -28,7 +28,13 @@ from typing import Callable, Sequence
 import numpy as np
 from scipy import linalg, special
 
-from assess.distributions import KINDS, Distribution, conditional_x_from_u, make_distribution
+from assess.distributions import (
+    KINDS,
+    Distribution,
+    conditional_x_from_u,
+    make_distribution,
+    weibull_x_from_u,
+)
 from assess.errors import InputError
 from assess.nataf import corrected_correlation_matrix
 from assess.reliability.problem import StandardNormalProblem
@@ -46,19 +52,53 @@ class _Conditional:
     params: Callable[[dict], dict]
 
 
-_ROOT, _CONSTANT, _CHILD, _GROUPED = "root", "constant", "child", "grouped"
+_ROOT, _CONSTANT, _GROUPED = "root", "constant", "grouped"
 _GROUPED_KINDS = {
     "normal": ("mu", "sigma"),
     "lognormal": ("mu_ln", "sigma_ln"),
     "gumbel": ("loc", "scale"),
+    "weibull": ("shape", "scale"),
     "gamma": ("shape", "scale"),
 }
 """Root kinds mapped together, one numpy call for all roots of a kind (the same closed forms
 as `assess.distributions.Distribution.x_from_u`, element by element)."""
 
 
-def _grouped_roots(groups: list, z: np.ndarray) -> dict[str, np.ndarray]:
-    """Physical values of the grouped roots from their normal-space values z [units]."""
+def _gamma_inverse(shape: np.ndarray, zt: np.ndarray) -> np.ndarray:
+    """Standard gamma quantiles at Phi(zt) [-], shape (k, 1) against zt (k, n): the lower
+    and upper tails through their own inverses (the nearer tail probability)."""
+    values = np.empty(zt.shape)
+    shape = np.broadcast_to(shape, zt.shape)
+    low = zt < 0.0
+    high = ~low
+    values[low] = special.gammaincinv(shape[low], special.ndtr(zt[low]))
+    values[high] = special.gammainccinv(shape[high], special.ndtr(-zt[high]))
+    return values
+
+
+def _standard_gamma_values(shape: np.ndarray, zt: np.ndarray, look_for_repeats: bool
+                           ) -> np.ndarray:
+    """`_gamma_inverse`; with ``look_for_repeats`` (a batch of dim + 1 points, the size of
+    a finite-difference gradient batch: the base point first, then one step per
+    coordinate) the points whose gamma coordinates all equal those of the first point take
+    the first point's values instead of new inversions (the incomplete-gamma inverses
+    iterate and cost about 0.5-1 us a value)."""
+    if not look_for_repeats or zt.shape[1] < 3:
+        return _gamma_inverse(shape, zt)
+    repeat = (zt[:, 1:] == zt[:, :1]).all(axis=0)
+    if not repeat.any():
+        return _gamma_inverse(shape, zt)
+    own = np.concatenate(([True], ~repeat))
+    values = np.empty(zt.shape)
+    values[:, own] = _gamma_inverse(shape, zt[:, own])
+    values[:, 1:][:, repeat] = values[:, :1]
+    return values
+
+
+def _grouped_roots(groups: list, z: np.ndarray, gradient_sized: bool = False
+                   ) -> dict[str, np.ndarray]:
+    """Physical values of the grouped roots from their normal-space values z [units]
+    (``gradient_sized``: the batch has dim + 1 points, see `_standard_gamma_values`)."""
     out: dict[str, np.ndarray] = {}
     for kind, names, indices, p in groups:
         zt = np.ascontiguousarray(z[:, indices].T)  # one row per variable
@@ -68,30 +108,90 @@ def _grouped_roots(groups: list, z: np.ndarray) -> dict[str, np.ndarray]:
             values = np.exp(p["mu_ln"] + p["sigma_ln"] * zt)
         elif kind == "gumbel":
             values = p["loc"] - p["scale"] * np.log(-special.log_ndtr(zt))
-        else:  # gamma: the lower and upper tails through their own inverses
-            values = np.empty(zt.shape)
-            shape = np.broadcast_to(p["shape"], zt.shape)
-            low = zt < 0.0
-            high = ~low
-            values[low] = special.gammaincinv(shape[low], special.ndtr(zt[low]))
-            values[high] = special.gammainccinv(shape[high], special.ndtr(-zt[high]))
-            values = p["scale"] * values
+        elif kind == "weibull":
+            values = weibull_x_from_u(p["shape"], p["scale"], zt)
+        else:
+            values = p["scale"] * _standard_gamma_values(p["shape"], zt, gradient_sized)
         for row, name in enumerate(names):
             out[name] = values[row]
     return out
 
 
+_BATCHED_KINDS = ("normal", "lognormal")
+"""Conditional kinds mapped together, one numpy call per kind and parameter form for all
+children whose parents are known (the same arithmetic as `conditional_x_from_u`)."""
+
+
+def _batch_form(kind: str, values) -> str | None:
+    """"moments" (mean, std) or "native" parameters of a batched kind, else None."""
+    if not isinstance(values, dict) or len(values) != 2:
+        return None
+    if "mean" in values and "std" in values:
+        return "moments"
+    native = _GROUPED_KINDS[kind]
+    if native[0] in values and native[1] in values:
+        return "native"
+    return None
+
+
+def _batched_children(kind: str, form: str, entries: list, u: np.ndarray,
+                      n_points: int) -> np.ndarray | None:
+    """Values (k, n) of k conditional children of one kind and parameter form.
+
+    Element by element the arithmetic of `assess.distributions.conditional_x_from_u`
+    (normal: location + spread u; lognormal: exp(location + spread u), with the
+    lognormal's (mu_ln, sigma_ln) from mean and std as `make_distribution` computes them).
+    Returns None when a parameter is not a number of the right shape or fails a check:
+    the caller then maps each child on its own, which raises the usual message.
+    """
+    keys = ("mean", "std") if form == "moments" else _GROUPED_KINDS[kind]
+    first = np.empty((len(entries), n_points))
+    second = np.empty((len(entries), n_points))
+    try:
+        for row, (_, _, values) in enumerate(entries):
+            first[row] = values[keys[0]]
+            second[row] = values[keys[1]]
+    except (TypeError, ValueError):
+        return None
+    # NaN fails "> 0" and an infinite term makes the sum infinite (as in conditional_x_from_u)
+    if not ((second > 0).all() and np.isfinite(first + second).all()):
+        return None
+    if form == "moments" and kind == "lognormal":
+        if not (first > 0).all():
+            return None
+        spread = np.sqrt(np.log1p((second / first) ** 2))
+        location = np.log(first) - 0.5 * spread**2
+    else:
+        location, spread = first, second
+    coordinates = u[:, [column for _, column, _ in entries]].T
+    if kind == "normal":
+        return location + spread * coordinates
+    return np.exp(location + spread * coordinates)
+
+
+def _as_points(value, n_points: int) -> np.ndarray:
+    """``value`` as a float array of shape (n_points,)."""
+    value = np.asarray(value, dtype=float)
+    if value.shape != (n_points,):
+        value = np.broadcast_to(value, (n_points,)).astype(float)
+    return value
+
+
 @dataclass(frozen=True)
 class _Plan:
     """What `ProbabilisticModel.u_to_x` does, worked out once: the u columns of the roots,
-    whether they are correlated, and one step per variable in Rosenblatt order."""
+    whether they are correlated, one step per root or constant in the order added, and
+    the conditional children in layers (a child's parents all lie in earlier layers or
+    are roots), each layer a list of (name, variable, u column)."""
 
+    names: list
     random_names: list
     dim: int
     root_columns: list
     identity: bool
     steps: list
     groups: list
+    layers: list
 
 
 class ProbabilisticModel:
@@ -268,6 +368,8 @@ class ProbabilisticModel:
         column = {n: k for k, n in enumerate(random_names)}
         steps: list[tuple] = []
         members: dict[str, list] = {}
+        depth: dict[str, int] = {}
+        layers: list[list] = []
         for name, variable in self._variables.items():
             if isinstance(variable, _Root):
                 dist = variable.distribution
@@ -279,7 +381,10 @@ class ProbabilisticModel:
                 else:
                     steps.append((name, _CONSTANT, float(dist.params["value"]), None))
             else:
-                steps.append((name, _CHILD, variable, column.get(name)))
+                depth[name] = 1 + max(depth.get(p, -1) for p in variable.parents)
+                if depth[name] == len(layers):
+                    layers.append([])
+                layers[depth[name]].append((name, variable, column.get(name)))
         root_columns = [column[n] for n in roots]
         identity = not self._correlations or root_columns == []
         groups = []
@@ -287,7 +392,8 @@ class ProbabilisticModel:
             keys = _GROUPED_KINDS[kind]
             params = {k: np.array([[float(d.params[k])] for _, d, _ in entries]) for k in keys}
             groups.append((kind, [n for n, _, _ in entries], [i for _, _, i in entries], params))
-        return _Plan(random_names, len(random_names), root_columns, identity, steps, groups)
+        return _Plan(list(self._variables), random_names, len(random_names), root_columns,
+                     identity, steps, groups, layers)
 
     def _conditional_distribution(self, name: str, x: dict) -> Distribution:
         variable = self._variables[name]
@@ -321,29 +427,37 @@ class ProbabilisticModel:
             z = u[:, plan.root_columns]
         else:
             z = u[:, plan.root_columns] @ L.T
-        grouped = _grouped_roots(plan.groups, z)
-        x: dict[str, np.ndarray] = {}
+        grouped = _grouped_roots(plan.groups, z, n_points == plan.dim + 1)
+        x: dict[str, np.ndarray] = dict.fromkeys(plan.names)  # the order of `names`
         for name, step, data, where in plan.steps:
             if step is _GROUPED:
                 x[name] = grouped[name]
-                continue
-            if step is _ROOT:
-                value = data(z[:, where])
-            elif step is _CONSTANT:
-                x[name] = np.full(n_points, data)
-                continue
+            elif step is _ROOT:
+                x[name] = _as_points(data(z[:, where]), n_points)
             else:
-                value = self._child_values(name, data, x, u, where, n_points)
-            value = np.asarray(value, dtype=float)
-            if value.shape != (n_points,):
-                value = np.broadcast_to(value, (n_points,)).astype(float)
-            x[name] = value
+                x[name] = np.full(n_points, data)
+        for layer in plan.layers:
+            batches: dict[tuple, list] = {}
+            for name, variable, column in layer:
+                values = variable.params({p: x[p] for p in variable.parents})
+                form = _batch_form(variable.kind, values) if variable.kind in _BATCHED_KINDS \
+                    else None
+                if form is None:
+                    x[name] = _as_points(
+                        self._child_values(name, variable, values, u, column, n_points), n_points)
+                else:
+                    batches.setdefault((variable.kind, form), []).append((name, column, values))
+            for (kind, form), entries in batches.items():
+                rows = _batched_children(kind, form, entries, u, n_points)
+                for k, (name, column, values) in enumerate(entries):
+                    x[name] = rows[k] if rows is not None else _as_points(self._child_values(
+                        name, self._variables[name], values, u, column, n_points), n_points)
         return x
 
-    def _child_values(self, name: str, variable: _Conditional, x: dict, u: np.ndarray,
+    def _child_values(self, name: str, variable: _Conditional, values, u: np.ndarray,
                       column: int | None, n_points: int) -> np.ndarray:
-        """Values of a conditional variable given its parents' values in ``x``."""
-        values = variable.params({p: x[p] for p in variable.parents})
+        """Values of a conditional variable from its parameters ``values`` (what its
+        ``params`` returned for the parents' values)."""
         if not isinstance(values, dict):
             raise InputError(f"variable '{name}': params must return a dict of distribution "
                              f"parameters, got {type(values).__name__}")
