@@ -8,6 +8,9 @@ References
 .. [2] I. Papaioannou, W. Betz, K. Zwirglmaier and D. Straub, "MCMC algorithms for
    subset simulation," *Probabilistic Engineering Mechanics*, 41:89-103, 2015,
    doi:10.1016/j.probengmech.2015.06.006.
+.. [4] L. Tierney, "Markov chains for exploring posterior distributions," *Annals of
+   Statistics*, 22(4):1701-1728, 1994, doi:10.1214/aos/1176325750 (independence proposals;
+   cycles of kernels that each keep the target invariant).
 .. [3] H. P. Chan and T. L. Lai, "A general theory of particle filters in hidden Markov
    models and some applications," *Annals of Statistics*, 41(6):2877-2904, 2013,
    doi:10.1214/13-AOS1172 (variance estimate from the ancestral origins of the particles).
@@ -18,6 +21,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+from scipy import special
 
 from assess.errors import InputError
 from assess.reliability.crude import check_int, check_real, resolve_seed
@@ -40,6 +44,13 @@ MAX_LEVEL_VALUES = 2 * 10**7
 """Upper bound on ``n_per_level`` x number of variables: one level's points in memory
 (8 bytes each, about 160 MB) [-]."""
 MAX_REPEAT_CALLS = 10**7
+DIRECTIONAL_SEEDS_PER_VARIABLE = 10
+"""Directional steps are used only with at least this many seeds per variable in each half
+of a level's seeds (direction and lower bound fitted on the other half) [-]."""
+DIRECTIONAL_MIN_CONCENTRATION = 0.6
+"""... and only if the seeds lie about one direction: |mean of u| / rms |u| at least this [-]
+(about 0.8 for a linear limit state at the first level, about 0 for failure regions
+spread symmetrically round the origin)."""
 """Default budget of limit-state evaluations when running until a requested CoV [-]."""
 
 
@@ -72,11 +83,37 @@ def _chain_gamma(indicator: np.ndarray, lengths: np.ndarray, n_total: int) -> fl
 class _ChainSampler:
     """Advances all Markov chains of a level together, one limit-state call per step."""
 
-    def __init__(self, kind: str, rng: np.random.Generator):
+    def __init__(self, kind: str, rng: np.random.Generator, directional: bool | None = None):
         self.kind = kind
         self.rng = rng
         self.log_lambda = math.log(LAMBDA_START)
         self.n_adaptations = 0
+        self.directional = directional
+        self.n_directional_levels = 0
+
+    def _directions(self, seeds_u: np.ndarray):
+        """Per chain: unit direction e and lower bound t_lo of t = e.u for directional steps,
+        each fitted on the other half of the seeds (cross-fitted, so that the kernel of a
+        chain does not depend on its own seed); None where not used."""
+        n_chains, dim = seeds_u.shape
+        if self.kind != "acs" or self.directional is False:
+            return None
+        half = np.arange(n_chains) % 2
+        if self.directional is None and n_chains // 2 < DIRECTIONAL_SEEDS_PER_VARIABLE * dim:
+            return None
+        directions = np.empty((n_chains, dim))
+        lower = np.empty(n_chains)
+        for k in (0, 1):
+            other = seeds_u[half != k]
+            mean = other.mean(axis=0)
+            length = float(np.linalg.norm(mean))
+            rms = math.sqrt(float(np.mean(np.sum(other**2, axis=1))))
+            if length == 0.0 or (self.directional is None
+                                 and length < DIRECTIONAL_MIN_CONCENTRATION * rms):
+                return None
+            directions[half == k] = mean / length
+            lower[half == k] = (other @ (mean / length)).min()
+        return directions, lower
 
     def run(self, problem: StandardNormalProblem, seeds_u: np.ndarray, seeds_g: np.ndarray,
             threshold: float, lengths: np.ndarray) -> dict:
@@ -87,10 +124,15 @@ class _ChainSampler:
         chain_u[0], chain_g[0] = seeds_u, seeds_g
         current_u, current_g = seeds_u.copy(), seeds_g.copy()
         sigma_hat = seeds_u.std(axis=0, ddof=1) if n_chains > 1 else np.ones(dim)
+        directions = self._directions(seeds_u) if n_chains >= 4 else None
+        self.n_directional_levels += directions is not None
         accepted = proposed = 0
         for step in range(1, max_len):
             active = np.flatnonzero(lengths > step)
-            if self.kind == "acs":
+            if directions is not None and step % 2 == 0:
+                accept = self._directional_step(problem, current_u, current_g, active,
+                                                threshold, *directions)
+            elif self.kind == "acs":
                 accept = self._acs_step(problem, current_u, current_g, active, threshold,
                                         sigma_hat)
             else:
@@ -115,6 +157,30 @@ class _ChainSampler:
         # Robbins-Monro update of ln(lambda) towards the target acceptance rate [2].
         self.n_adaptations += 1
         self.log_lambda += (accept.mean() - TARGET_ACCEPTANCE) / math.sqrt(self.n_adaptations)
+        return accept
+
+    def _directional_step(self, problem, current_u, current_g, active, threshold,
+                          directions, lower):
+        """Independence proposal along e: t' drawn from the standard normal restricted to
+        [t_lo, inf), the rest of u kept; accepted if inside the subset [4]_.
+
+        With u = t e + w, the target phi(t) phi(w) 1_F and the proposal density
+        q(t') = phi(t') / Phi(-t_lo) give the Metropolis-Hastings ratio 1_F(u') for t >= t_lo;
+        a chain below t_lo cannot make this move (q(t) = 0) and stays, which keeps detailed
+        balance. The aCS steps in between move w and reach t < t_lo."""
+        e, t_lo = directions[active], lower[active]
+        t = np.einsum("ij,ij->i", current_u[active], e)
+        able = np.flatnonzero(t >= t_lo)
+        accept = np.zeros(active.size, dtype=bool)
+        if able.size:
+            tail = special.ndtr(-t_lo[able])
+            t_new = -special.ndtri(self.rng.random(able.size) * tail)
+            candidate = current_u[active[able]] + (t_new - t[able])[:, None] * e[able]
+            g_candidate = problem.g(candidate)
+            inside = g_candidate <= threshold
+            accept[able[inside]] = True
+            current_u[active[able[inside]]] = candidate[inside]
+            current_g[active[able[inside]]] = g_candidate[inside]
         return accept
 
     def _mma_step(self, problem, current_u, current_g, active, threshold):
@@ -156,10 +222,11 @@ def _lineage_cov(records: list, n_per_level: int) -> float:
 
 
 def _one_run(problem: StandardNormalProblem, n_per_level: int, p0: float,
-             rng: np.random.Generator, sampler: str, max_levels: int) -> dict:
+             rng: np.random.Generator, sampler: str, max_levels: int,
+             directional: bool | None = None) -> dict:
     """One subset-simulation run: pf, its CoV, the levels and warnings."""
     n_seeds_target = round(n_per_level * p0)
-    chains = _ChainSampler(sampler, rng)
+    chains = _ChainSampler(sampler, rng, directional)
     u = rng.standard_normal((n_per_level, problem.dim))
     g = problem.g(u)
     roots = np.arange(n_per_level)
@@ -227,6 +294,7 @@ def _one_run(problem: StandardNormalProblem, n_per_level: int, p0: float,
     if pf == 0 and not warnings:
         warnings.append("no failed sample: pf = 0 is not an estimate")
     return {"pf": pf, "cov": cov, "cov_au_beck": cov_au_beck, "levels": levels,
+            "directional_levels": chains.n_directional_levels,
             "warnings": warnings, "converged": converged, "n_failures_last_level": n_fail,
             "last_u": u, "last_g": g}
 
@@ -234,7 +302,8 @@ def _one_run(problem: StandardNormalProblem, n_per_level: int, p0: float,
 def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000,
                       p0: float = DEFAULT_P0, seed=None, sampler: str = "acs",
                       max_levels: int = DEFAULT_MAX_LEVELS, target_cov: float | None = None,
-                      max_calls: int | None = None) -> ReliabilityResult:
+                      max_calls: int | None = None,
+                      directional: bool | None = None) -> ReliabilityResult:
     """Probability of failure by subset simulation.
 
     Parameters
@@ -263,6 +332,12 @@ def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000
     max_calls : int, optional
         Budget of limit-state evaluations for ``target_cov`` [-]; default
         `MAX_REPEAT_CALLS` (10**7).
+    directional : bool or None, default None
+        With aCS, make every second chain step a directional step (see Notes). None: only
+        where it suits - at least `DIRECTIONAL_SEEDS_PER_VARIABLE` (10) seeds per variable
+        in each half of the level's seeds (so in low dimension: up to 10 variables with
+        the default N p0 = 200) and seeds lying about one direction
+        (`DIRECTIONAL_MIN_CONCENTRATION`); True: at every level; False: plain aCS.
 
     Returns
     -------
@@ -321,10 +396,12 @@ def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000
     last level (rule of three).
     """
     return _subset(problem, n_per_level=n_per_level, p0=p0, seed=seed, sampler=sampler,
-                   max_levels=max_levels, target_cov=target_cov, max_calls=max_calls)[0]
+                   max_levels=max_levels, target_cov=target_cov, max_calls=max_calls,
+                   directional=directional)[0]
 
 
-def _subset(problem, *, n_per_level, p0, seed, sampler, max_levels, target_cov, max_calls):
+def _subset(problem, *, n_per_level, p0, seed, sampler, max_levels, target_cov, max_calls,
+            directional=None):
     """`subset_simulation` and the samples of the last level of its first run (u, g)."""
     caller = "subset_simulation"
     n_per_level = check_int(n_per_level, "n_per_level", caller, 10, MAX_SAMPLES_PER_LEVEL,
@@ -349,9 +426,12 @@ def _subset(problem, *, n_per_level, p0, seed, sampler, max_levels, target_cov, 
     calls_before = problem.n_calls
     counters = problem.counters()
     settings = {"n_per_level": n_per_level, "p0": p0, "sampler": sampler,
-                "max_levels": max_levels}
+                "max_levels": max_levels, "directional": directional}
 
-    runs = [_one_run(problem, n_per_level, p0, rng, sampler, max_levels)]
+    if directional not in (None, True, False):
+        raise InputError(f"The 'directional' parameter of {caller} must be None, True or "
+                         f"False. Got {directional!r} instead.")
+    runs = [_one_run(problem, n_per_level, p0, rng, sampler, max_levels, directional)]
     if target_cov is not None:
         settings.update({"target_cov": target_cov, "max_calls": max_calls})
         per_run = problem.n_calls - calls_before
@@ -361,12 +441,14 @@ def _subset(problem, *, n_per_level, p0, seed, sampler, max_levels, target_cov, 
                 break
             if problem.n_calls - calls_before + per_run > max_calls:
                 break
-            runs.append(_one_run(problem, n_per_level, p0, rng, sampler, max_levels))
+            runs.append(_one_run(problem, n_per_level, p0, rng, sampler, max_levels,
+                                 directional))
 
     first = runs[0]
     warnings = list(first["warnings"])
     details = {"levels": first["levels"], "n_levels": len(first["levels"]),
-               "cov_au_beck": first["cov_au_beck"], "cov_method": "ancestral origins"}
+               "cov_au_beck": first["cov_au_beck"], "cov_method": "ancestral origins",
+               "directional_levels": first["directional_levels"]}
     if len(runs) == 1:
         pf, cov, converged = first["pf"], first["cov"], first["converged"]
     else:
