@@ -47,10 +47,6 @@ MAX_REPEAT_CALLS = 10**7
 DIRECTIONAL_SEEDS_PER_VARIABLE = 10
 """Directional steps are used only with at least this many seeds per variable in each half
 of a level's seeds (direction and lower bound fitted on the other half) [-]."""
-DIRECTIONAL_MIN_CONCENTRATION = 0.6
-"""... and only if the seeds lie about one direction: |mean of u| / rms |u| at least this [-]
-(about 0.8 for a linear limit state at the first level, about 0 for failure regions
-spread symmetrically round the origin)."""
 """Default budget of limit-state evaluations when running until a requested CoV [-]."""
 
 
@@ -107,12 +103,12 @@ class _ChainSampler:
             other = seeds_u[half != k]
             mean = other.mean(axis=0)
             length = float(np.linalg.norm(mean))
-            rms = math.sqrt(float(np.mean(np.sum(other**2, axis=1))))
-            if length == 0.0 or (self.directional is None
-                                 and length < DIRECTIONAL_MIN_CONCENTRATION * rms):
+            if length == 0.0:
                 return None
             directions[half == k] = mean / length
             lower[half == k] = (other @ (mean / length)).min()
+        if self.directional is None and lower.min() <= 0.0:
+            return None   # the seeds do not lie on one side of a plane through the origin
         return directions, lower
 
     def run(self, problem: StandardNormalProblem, seeds_u: np.ndarray, seeds_g: np.ndarray,
@@ -336,8 +332,9 @@ def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000
         With aCS, make every second chain step a directional step (see Notes). None: only
         where it suits - at least `DIRECTIONAL_SEEDS_PER_VARIABLE` (10) seeds per variable
         in each half of the level's seeds (so in low dimension: up to 10 variables with
-        the default N p0 = 200) and seeds lying about one direction
-        (`DIRECTIONAL_MIN_CONCENTRATION`); True: at every level; False: plain aCS.
+        the default N p0 = 200) and all seeds of each half on the far side of the plane
+        through the origin normal to the direction fitted on them (t_lo > 0: one failure
+        region, not several round the origin); True: at every level; False: plain aCS.
 
     Returns
     -------
