@@ -8,12 +8,12 @@ References
 .. [2] I. Papaioannou, W. Betz, K. Zwirglmaier and D. Straub, "MCMC algorithms for
    subset simulation," *Probabilistic Engineering Mechanics*, 41:89-103, 2015,
    doi:10.1016/j.probengmech.2015.06.006.
-.. [4] L. Tierney, "Markov chains for exploring posterior distributions," *Annals of
-   Statistics*, 22(4):1701-1728, 1994, doi:10.1214/aos/1176325750 (independence proposals;
-   cycles of kernels that each keep the target invariant).
 .. [3] H. P. Chan and T. L. Lai, "A general theory of particle filters in hidden Markov
    models and some applications," *Annals of Statistics*, 41(6):2877-2904, 2013,
    doi:10.1214/13-AOS1172 (variance estimate from the ancestral origins of the particles).
+.. [4] L. Tierney, "Markov chains for exploring posterior distributions," *Annals of
+   Statistics*, 22(4):1701-1728, 1994, doi:10.1214/aos/1176325750 (independence proposals;
+   cycles of kernels that each keep the target invariant).
 """
 
 from __future__ import annotations
@@ -33,9 +33,8 @@ TARGET_ACCEPTANCE = 0.44   # a* of adaptive conditional sampling [2]
 LAMBDA_START = 0.6         # lambda_0 of adaptive conditional sampling [2]
 MMA_PROPOSAL_STD = 1.0     # component proposal spread of the modified Metropolis algorithm [1]
 DEFAULT_P0 = 0.2
-"""Default level probability [-]: over 200 runs at pf 1e-4 and 1e-6 in 2 and 100
-dimensions its reported CoV is within 5 % of the observed spread and its CoV per
-evaluation slightly better than with 0.1 (benchmarks/reliability_methods.py)."""
+"""Default level probability [-] (kept in issue 14; p0 = 0.15 with N = 1400 did best in 2-D,
+see the Notes of `subset_simulation` and benchmarks/reliability_methods.py)."""
 DEFAULT_MAX_LEVELS = 30
 """Default deepest level: pf down to about 0.2**30 = 1e-21 (beta about 9.5) [-]."""
 MAX_SAMPLES_PER_LEVEL = 10**6
@@ -356,9 +355,9 @@ def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000
     Beck [1]_, delta_i^2 = (1 - P_i) / (N P_i) (1 + gamma_i) summed over levels,
     leaves the last two out; it is kept as ``details["cov_au_beck"]``.
     Measured over 200 runs of linear limit states at pf = 1e-4 and 1e-6 in 2 and 100
-    dimensions (benchmarks/reliability_methods.py), the mean reported CoV is 0.95-1.05
-    of the observed spread of pf with p0 = 0.2 and N = 1250 (0.81-0.98 with p0 = 0.1;
-    the per-level formula of Au & Beck: 0.77-0.92).
+    dimensions (benchmarks/reliability_methods.py, section 2), the mean reported CoV is
+    0.85-1.08 of the observed spread of pf for the settings below (default N = 1000,
+    p0 = 0.2: 0.85-1.06; the per-level formula of Au & Beck: 0.78-1.0).
 
     The N P_i seeds of a level are shuffled and each grows a chain; all chains
     advance together, so each step costs one vectorised limit-state call. With
@@ -370,21 +369,45 @@ def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000
     proposals per update, which equals the p_a N proposals per update of [2]_
     for p_a = p0 (= 0.1 by default).
 
-    Cost and accuracy at pf = 1e-6 (linear limit state, 200 runs, issue 14): N = 1250,
-    p0 = 0.2 costs about 9300 evaluations for a CoV of 0.32-0.33 in 2 and 100
-    dimensions; N = 1800, p0 = 0.1 about 10 800 for 0.28 (0.29 scaled to 10 000
-    evaluations as 1/sqrt(evaluations)), the best of the settings tried: p0 from 0.05
-    to 0.3, the target acceptance a* (0.30 and 0.55 against 0.44), the adaptation
-    restarted at each level, half the seeds with chains twice as long, one burn-in step,
-    the last level accepted from N p0 / 2 failures (0.28-0.29) and the modified
-    Metropolis algorithm gave 0.28-0.55 at 10 000 evaluations
-    (benchmarks/reliability_methods.py, section 2). The chain-correlation factor gamma
-    of a level (N = 1800, p0 = 0.1, a* = 0.44, 20 runs) has median 1.8 (10-90 %:
-    1.3-2.5 in 2-D, 1.3-3.6 in 100-D), so each level's variance is about 2.3-3.5
-    times that of independent samples. The CoV of 0.25 at pf = 1e-6 asked in issue 14 is not
-    reached within 10 000 evaluations: N = 2300, p0 = 0.1 gave 0.26-0.27 for about
-    13 800 evaluations, so 0.25 needs about 15 000-16 000 (or ``target_cov=0.25``, which
-    pools independent runs until it is reached).
+    Directional steps (issue 14; ``directional``). For a linear limit state only the
+    component t = a.u along the design direction matters, and aCS moves it as a local
+    random walk: each level's variance is 2.3-3.5 times that of independent samples
+    (chain-correlation factor gamma, median 1.8), whatever the dimension. Where they
+    suit, every second step of a chain is therefore an independence proposal along a
+    direction e: t' = e.u' is drawn from the standard normal restricted to
+    [t_lo, inf) and the rest of u kept, accepted if inside the subset (Metropolis-Hastings
+    with an independence proposal; a cycle of two kernels that each keep the conditional
+    law invariant keeps it too, Tierney [4]_). e is the normalised mean of the seeds and
+    t_lo the smallest e.u of the seeds, both fitted on the other half of the seeds than
+    the chain's own (cross-fitted; fitted on all seeds, the kernel depends on the chain's
+    own start and the estimate was biased, 0.8 in 100-D). The combination is ours, not
+    from a paper. It is used when each half has at least 10 seeds per variable (with
+    N p0 = 200: up to 10 variables) and all its seeds lie beyond the plane through the
+    origin normal to e (one failure region; not for regions all round the origin such
+    as the four-branch system). In 100-D it stays off: forced on, the direction fitted
+    from 100 seeds is too rough and the runs were biased (pf 0.81-0.89 of the exact one).
+
+    Cost and accuracy (linear limit states, 200 runs, issue 14; CoV observed over the
+    runs, scaled to 10 000 evaluations as 1/sqrt(evaluations) in brackets):
+    2-D, pf = 1e-6: default N = 1000, p0 = 0.2: 7400 evaluations, CoV 0.30 (0.255);
+    N = 1250, p0 = 0.2: 9200, 0.26 (0.25); N = 1400, p0 = 0.15: 9700, 0.22 (0.21), the
+    best setting found, meeting the 0.25 within 10 000 evaluations of issue 14; plain aCS
+    (directional=False) needed about 16 000 for 0.25. 2-D, pf = 1e-4: default 5000, 0.22;
+    N = 1400, p0 = 0.15: 6200, 0.17. 5-D and 10-D, pf = 1e-6, N = 1000 (scratch runs):
+    CoV at 10 000 0.28 and 0.30 against 0.32 and 0.33 with plain aCS.
+    100-D (plain aCS), pf = 1e-6: N = 1250, p0 = 0.2: 9300 evaluations for 0.33 (0.32);
+    N = 1800, p0 = 0.1: 10 800 for 0.28 (0.29), the best of the settings tried; 0.25 is
+    not reached within 10 000 evaluations (N = 2300, p0 = 0.1: 0.26 at 13 800; about
+    15 000-16 000 are needed, or ``target_cov=0.25``, which pools independent runs).
+    Tried without gain (plain aCS, 2-D and 100-D, pf = 1e-6; CoV at 10 000): p0 from 0.05
+    to 0.5 (0.29-0.42), the target acceptance a* 0.30 and 0.55 (0.33-0.39 against
+    0.29-0.31 at 0.44), lambda_0 0.3 and 1.0, the adaptation restarted at each level,
+    half the seeds with chains twice as long, one burn-in step, the last level accepted
+    from N p0 / 2 failures (0.28-0.32), the modified Metropolis algorithm (0.55), a random
+    spread exp(0.5 Z) of lambda per chain and step (0.44), and the generalised
+    preconditioned Crank-Nicolson proposal (Rudolf & Sprungk 2018, Found. Comput. Math.
+    18:309-343) reversible for a normal law fitted to the seeds (0.32, unstable with
+    narrower fits). All in benchmarks/reliability_methods.py, section 2.
 
     If no failure is reached within ``max_levels`` levels, or a level does not
     lower the threshold (a flat limit state), the run stops with
