@@ -403,11 +403,11 @@ def subset_simulation(problem: StandardNormalProblem, *, n_per_level: int = 1000
     to 0.5 (0.29-0.42), the target acceptance a* 0.30 and 0.55 (0.33-0.39 against
     0.29-0.31 at 0.44), lambda_0 0.3 and 1.0, the adaptation restarted at each level,
     half the seeds with chains twice as long, one burn-in step, the last level accepted
-    from N p0 / 2 failures (0.28-0.32), the modified Metropolis algorithm (0.55), a random
-    spread exp(0.5 Z) of lambda per chain and step (0.44), and the generalised
+    from N p0 / 2 failures (0.28-0.29), the modified Metropolis algorithm (0.42-0.55), a
+    random spread exp(0.5 Z) of lambda per chain and step (0.40-0.44), and the generalised
     preconditioned Crank-Nicolson proposal (Rudolf & Sprungk 2018, Found. Comput. Math.
-    18:309-343) reversible for a normal law fitted to the seeds (0.32, unstable with
-    narrower fits). All in benchmarks/reliability_methods.py, section 2.
+    18:309-343) reversible for a normal law fitted to the seeds (2-D: 0.32; 100-D: broke
+    down, mean pf 2.6 times the exact one). All in benchmarks/reliability_methods.py, section 2.
 
     If no failure is reached within ``max_levels`` levels, or a level does not
     lower the threshold (a flat limit state), the run stops with
