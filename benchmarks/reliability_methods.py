@@ -10,8 +10,10 @@ Prints, in one run:
    evaluations, and the crude Monte Carlo sample size for the same CoV,
    N = (1 - pf) / (pf CoV^2), with the gain N / evaluations;
 2. the subset-simulation study of issue 14 (linear limit states, 2 and 100 dimensions,
-   pf 1e-4 and 1e-6, ``--study-repeats`` independent runs): mean reported CoV against the
-   observed spread, and the CoV reached within 10 000 evaluations, for the settings tried;
+   pf 1e-4 and 1e-6, ``--study-repeats`` independent runs): evaluations, bias, mean reported
+   CoV against the observed spread, the CoV reached within 10 000 evaluations and the crude
+   Monte Carlo sample size for the same CoV, for the settings tried (only this section:
+   ``--skip methods overhead ce``; only some settings: ``--only TEXT``);
 3. engine overhead: wall time of each method per limit-state evaluation against the same
    number of points evaluated by the bare numpy function in one call;
 4. cross-entropy importance sampling (issue 14): bias, reported vs observed CoV over
@@ -157,43 +159,161 @@ def _subset_variant(name: str):
                        "        final = (n_fail >= max(2, n_seeds_target // 2)\n"
                        "                 or level == max_levels - 1)\n"),
     }
-    old, replacement = changes[name]
-    assert old in source, name
-    source = source.replace(old, replacement)
+    if name in changes:
+        old, replacement = changes[name]
+        assert old in source, name
+        source = source.replace(old, replacement)
     if name == "last level":
         old = "            converged = n_fail > 0 and n_fail >= n_seeds_target\n"
         assert old in source
         source = source.replace(old, "            converged = n_fail >= max(2, n_seeds_target // 2)\n")
     module = types.ModuleType(f"subset_{name.replace(' ', '_')}")
     exec(compile(source, module.__name__, "exec"), module.__dict__)  # noqa: S102 - benchmark only
+    if name == "gpCN":
+        module._ChainSampler.run = _gpcn_run(module, inflation=2.0)
+    elif name == "mixed scale":
+        module._ChainSampler._acs_step = _mixed_scale_step(module, spread=0.5)
+    else:
+        assert name in changes, name
     return module
+
+
+def _gpcn_run(module, inflation: float):
+    """Chains of the generalised preconditioned Crank-Nicolson algorithm (Rudolf & Sprungk
+    2018, Foundations of Computational Mathematics 18:309-343): the proposal
+    v = m + rho (u - m) + sqrt(1 - rho^2) L xi is reversible for N(m, L L^T) fitted to the
+    seeds (full covariance if there are 10 seeds per variable or more, else diagonal; L
+    inflated by ``inflation``), accepted with min(1, phi(v) q(u) / (phi(u) q(v))) before the
+    limit state is called (a rejection there costs no call), then if inside the subset.
+    sqrt(1 - rho^2) = min(1, lambda), lambda adapted as in aCS. Tried in issue 14, not kept."""
+
+    def run(self, problem, seeds_u, seeds_g, threshold, lengths):
+        max_len = int(lengths.max())
+        n_chains, dim = seeds_u.shape
+        chain_u = np.empty((max_len, n_chains, dim))
+        chain_g = np.empty((max_len, n_chains))
+        chain_u[0], chain_g[0] = seeds_u, seeds_g
+        current_u, current_g = seeds_u.copy(), seeds_g.copy()
+        mean = seeds_u.mean(axis=0)
+        if n_chains >= 10 * dim:
+            factor = np.linalg.cholesky(np.cov(seeds_u, rowvar=False) * inflation**2
+                                        + 1e-12 * np.eye(dim))
+        else:
+            factor = np.diag(seeds_u.std(axis=0, ddof=1) * inflation)
+        inverse = np.linalg.inv(factor)
+
+        def log_q(x):
+            z = (x - mean) @ inverse.T
+            return -0.5 * (z * z).sum(axis=1)
+
+        accepted = proposed = 0
+        for step in range(1, max_len):
+            active = np.flatnonzero(lengths > step)
+            u = current_u[active]
+            sigma = min(1.0, math.exp(self.log_lambda))
+            candidate = (mean + math.sqrt(1.0 - sigma**2) * (u - mean)
+                         + sigma * self.rng.standard_normal(u.shape) @ factor.T)
+            log_ratio = (0.5 * (u**2).sum(axis=1) - 0.5 * (candidate**2).sum(axis=1)
+                         + log_q(u) - log_q(candidate))
+            passed = np.flatnonzero(np.log(self.rng.random(active.size)) < log_ratio)
+            accept = np.zeros(active.size, dtype=bool)
+            if passed.size:
+                g_candidate = problem.g(candidate[passed])
+                inside = g_candidate <= threshold
+                accept[passed[inside]] = True
+                current_u[active[passed[inside]]] = candidate[passed[inside]]
+                current_g[active[passed[inside]]] = g_candidate[inside]
+            self.n_adaptations += 1
+            self.log_lambda = min(0.0, self.log_lambda + (accept.mean()
+                                                          - module.TARGET_ACCEPTANCE)
+                                  / math.sqrt(self.n_adaptations))
+            accepted += int(accept.sum())
+            proposed += active.size
+            chain_u[step], chain_g[step] = current_u, current_g
+        return {"chain_u": chain_u, "chain_g": chain_g,
+                "acceptance_rate": accepted / proposed if proposed else math.nan,
+                "lambda": math.exp(self.log_lambda)}
+
+    return run
+
+
+def _mixed_scale_step(module, spread: float):
+    """aCS step whose scaling lambda is multiplied, per chain and step, by exp(spread Z)
+    with Z standard normal (a mixture of conditional-normal kernels, each reversible for
+    the standard normal, so the mixture is too). Tried in issue 14, not kept."""
+
+    def step(self, problem, current_u, current_g, active, threshold, sigma_hat):
+        scale = math.exp(self.log_lambda) * np.exp(
+            spread * self.rng.standard_normal((active.size, 1)))
+        sigma = np.minimum(1.0, scale * sigma_hat)
+        rho = np.sqrt(1.0 - sigma**2)
+        candidate = (rho * current_u[active]
+                     + sigma * self.rng.standard_normal((active.size, current_u.shape[1])))
+        g_candidate = problem.g(candidate)
+        accept = g_candidate <= threshold
+        current_u[active[accept]] = candidate[accept]
+        current_g[active[accept]] = g_candidate[accept]
+        self.n_adaptations += 1
+        self.log_lambda += ((accept.mean() - module.TARGET_ACCEPTANCE)
+                            / math.sqrt(self.n_adaptations))
+        return accept
+
+    return step
 
 
 def subset_study(repeats: int, only: str = "") -> None:
     """Issue 14: reported vs observed CoV over many runs, and the CoV at 10 000 evaluations.
 
-    The settings tried: level probability p0 0.05-0.3 with N chosen for about 10 000
+    The settings tried: level probability p0 0.05-0.5 with N chosen for about 10 000
     evaluations at pf 1e-6, the target acceptance a* of adaptive conditional sampling
-    (Papaioannou et al. 2015: 0.44), the adaptation restarted at each level, half the seeds
-    with chains twice as long, one step of burn-in, the last level accepted from N p0 / 2
-    failed samples, and the modified Metropolis algorithm. ``only``: run the settings whose
-    label contains this text.
+    (Papaioannou et al. 2015: 0.44) and its initial scaling lambda_0 (0.6), the adaptation
+    restarted at each level, half the seeds with chains twice as long, one step of burn-in,
+    the last level accepted from N p0 / 2 failed samples, the modified Metropolis algorithm,
+    a random spread of the aCS scaling, the generalised pCN proposal fitted to the seeds,
+    and the directional steps now in the engine (every second step, where they suit).
+    ``only``: run the settings whose label contains this text.
     """
-    settings = [("N=1250 p0=0.2 (default p0)", {"n_per_level": 1250, "p0": 0.2}, None),
-                ("N=1800 p0=0.1", {"n_per_level": 1800, "p0": 0.1}, None),
-                ("N=2300 p0=0.1", {"n_per_level": 2300, "p0": 0.1}, None),
-                ("N=2400 p0=0.05", {"n_per_level": 2400, "p0": 0.05}, None),
-                ("N=1500 p0=0.15", {"n_per_level": 1500, "p0": 0.15}, None),
-                ("N=1000 p0=0.3", {"n_per_level": 1000, "p0": 0.3}, None),
-                ("N=1800 p0=0.1 a*=0.30", {"n_per_level": 1800, "p0": 0.1, "a*": 0.30}, None),
-                ("N=1800 p0=0.1 a*=0.55", {"n_per_level": 1800, "p0": 0.1, "a*": 0.55}, None),
-                ("N=1800 p0=0.1 reset", {"n_per_level": 1800, "p0": 0.1}, "reset"),
-                ("N=1800 p0=0.1 half seeds", {"n_per_level": 1800, "p0": 0.1}, "half seeds"),
-                ("N=1650 p0=0.1 burn-in", {"n_per_level": 1650, "p0": 0.1}, "burn-in"),
-                ("N=1800 p0=0.1 last level", {"n_per_level": 1800, "p0": 0.1}, "last level"),
-                ("N=1800 p0=0.1 MMA", {"n_per_level": 1800, "p0": 0.1, "sampler": "mma"},
-                 None)]
-    header = (f"{'case':15s} {'setting':27s} {'bias':>6s} {'obs CoV':>7s} {'rep CoV':>7s} "
+    plain = {"directional": False}
+    settings = [
+        # the engine (directional steps in low dimension, where they suit; never in 100-D)
+        ("default (N=1000 p0=0.2)", {}, None),
+        ("N=1250 p0=0.2", {"n_per_level": 1250, "p0": 0.2}, None),
+        ("N=1400 p0=0.15", {"n_per_level": 1400, "p0": 0.15}, None),
+        ("N=1800 p0=0.1", {"n_per_level": 1800, "p0": 0.1}, None),
+        ("N=1000 p0=0.3", {"n_per_level": 1000, "p0": 0.3}, None),
+        # plain aCS (directional=False): the settings tried before the directional steps
+        ("plain N=1000 p0=0.2", {**plain}, None),
+        ("plain N=1250 p0=0.2", {"n_per_level": 1250, "p0": 0.2, **plain}, None),
+        ("plain N=1800 p0=0.1", {"n_per_level": 1800, "p0": 0.1, **plain}, None),
+        ("plain N=2300 p0=0.1", {"n_per_level": 2300, "p0": 0.1, **plain}, None),
+        ("plain N=2400 p0=0.05", {"n_per_level": 2400, "p0": 0.05, **plain}, None),
+        ("plain N=1500 p0=0.15", {"n_per_level": 1500, "p0": 0.15, **plain}, None),
+        ("plain N=1000 p0=0.3", {"n_per_level": 1000, "p0": 0.3, **plain}, None),
+        ("plain N=900 p0=0.4", {"n_per_level": 900, "p0": 0.4, **plain}, None),
+        ("plain N=800 p0=0.5", {"n_per_level": 800, "p0": 0.5, **plain}, None),
+        ("plain N=1800 p0=0.1 l0=0.3", {"n_per_level": 1800, "p0": 0.1, "l0": 0.3, **plain},
+         None),
+        ("plain N=1800 p0=0.1 l0=1.0", {"n_per_level": 1800, "p0": 0.1, "l0": 1.0, **plain},
+         None),
+        ("plain N=1800 p0=0.1 a*=0.30", {"n_per_level": 1800, "p0": 0.1, "a*": 0.30, **plain},
+         None),
+        ("plain N=1800 p0=0.1 a*=0.55", {"n_per_level": 1800, "p0": 0.1, "a*": 0.55, **plain},
+         None),
+        ("plain N=1800 p0=0.1 reset", {"n_per_level": 1800, "p0": 0.1, **plain}, "reset"),
+        ("plain N=1800 p0=0.1 half seeds", {"n_per_level": 1800, "p0": 0.1, **plain},
+         "half seeds"),
+        ("plain N=1650 p0=0.1 burn-in", {"n_per_level": 1650, "p0": 0.1, **plain}, "burn-in"),
+        ("plain N=1800 p0=0.1 last level", {"n_per_level": 1800, "p0": 0.1, **plain},
+         "last level"),
+        ("N=1800 p0=0.1 MMA", {"n_per_level": 1800, "p0": 0.1, "sampler": "mma"}, None),
+        ("plain N=1800 p0=0.1 mixed scale", {"n_per_level": 1800, "p0": 0.1, **plain},
+         "mixed scale"),
+        ("N=2600 p0=0.1 gpCN a*=0.30", {"n_per_level": 2600, "p0": 0.1, "a*": 0.30}, "gpCN"),
+        ("directional=True N=1250 p0=0.2", {"n_per_level": 1250, "p0": 0.2,
+                                            "directional": True}, None)]
+    at_1e4 = ("default (N=1000 p0=0.2)", "N=1250 p0=0.2", "N=1400 p0=0.15",
+              "plain N=1000 p0=0.2", "plain N=1250 p0=0.2", "plain N=1800 p0=0.1")
+    header = (f"{'case':15s} {'setting':31s} {'bias':>6s} {'obs CoV':>7s} {'rep CoV':>7s} "
               f"{'rep/obs':>7s} {'+/-':>5s} {'AuBeck/obs':>10s} {'evals':>7s} "
               f"{'CoV@10k':>7s} {'MC evals':>9s} {'gain':>6s}")
     print(header)
@@ -204,9 +324,7 @@ def subset_study(repeats: int, only: str = "") -> None:
             for label, options, variant in settings:
                 if only not in label:
                     continue
-                if pf > 1e-5 and not label.startswith(("N=1250 p0=0.2", "N=1800 p0=0.1")):
-                    continue
-                if pf > 1e-5 and (variant or "a*" in options or "sampler" in options):
+                if pf > 1e-5 and label not in at_1e4:
                     continue
                 module = _subset_variant(variant) if variant else subset
                 pfs, covs, au_beck, calls = [], [], [], []
@@ -214,6 +332,9 @@ def subset_study(repeats: int, only: str = "") -> None:
                 acceptance = options.pop("a*", subset.TARGET_ACCEPTANCE)
                 default_acceptance = module.TARGET_ACCEPTANCE
                 module.TARGET_ACCEPTANCE = acceptance
+                lambda_start = options.pop("l0", subset.LAMBDA_START)
+                default_lambda_start = module.LAMBDA_START
+                module.LAMBDA_START = lambda_start
                 for seed in range(repeats):
                     case = ref.linear_standard_normal(dim, beta)
                     result = module.subset_simulation(case.problem, seed=10_000 + seed,
@@ -223,6 +344,7 @@ def subset_study(repeats: int, only: str = "") -> None:
                     au_beck.append(result.details["cov_au_beck"])
                     calls.append(result.n_calls)
                 module.TARGET_ACCEPTANCE = default_acceptance
+                module.LAMBDA_START = default_lambda_start
                 pfs = np.array(pfs)
                 observed = float(pfs.std(ddof=1) / pfs.mean())
                 ratio = float(np.mean(covs)) / observed
@@ -233,7 +355,7 @@ def subset_study(repeats: int, only: str = "") -> None:
                 error = ratio * math.sqrt(max(kurtosis - 1.0, 0.0) / (4.0 * repeats))
                 at_10k = observed * math.sqrt(float(np.mean(calls)) / 10_000)
                 mc = crude_equivalent(pf, observed)
-                print(f"{dim:3d}-D pf={pf:.0e}{'':3s} {label:27s} {pfs.mean() / pf:6.3f} "
+                print(f"{dim:3d}-D pf={pf:.0e}{'':3s} {label:31s} {pfs.mean() / pf:6.3f} "
                       f"{observed:7.3f} {np.mean(covs):7.3f} {ratio:7.2f} {error:5.2f} "
                       f"{np.mean(au_beck) / observed:10.2f} {np.mean(calls):7.0f} "
                       f"{at_10k:7.3f} {mc:9.3g} {mc / np.mean(calls):6.0f}")
@@ -242,8 +364,10 @@ def subset_study(repeats: int, only: str = "") -> None:
           "(2001), kept in details['cov_au_beck'];\nCoV@10k: observed CoV scaled to 10 000 "
           "evaluations as 1/sqrt(evaluations) (target <= 0.25 at pf = 1e-6);\nMC evals: "
           "crude Monte Carlo samples for the observed CoV, (1 - pf)/(pf CoV^2); gain: MC "
-          "evals / evals.\nreset, half seeds, burn-in, last level: variants tried in issue 14, not in the "
-          "engine (a copy of the module with one change, see _subset_variant).")
+          "evals / evals.\nplain: directional=False (aCS only); the engine's default uses "
+          "directional steps in 2-D (not in 100-D: fewer than 10 seeds per variable).\n"
+          "reset, half seeds, burn-in, last level, mixed scale, gpCN: variants tried in issue "
+          "14, not in the engine (a copy of the module with one change, see _subset_variant).")
 
 
 def overhead(repeats: int) -> None:
