@@ -18,8 +18,8 @@ touched). Measures:
 4. in-process, warm: `update_site` loading the stored posterior and `assess_members`
    (the before/after table) with the command's default settings.
 
-Settings: `UpdateSettings()` defaults (4 chains x 1000 tuning + 1000 draws,
-target_accept 0.95, seed 20261202).
+Settings: the materials fit of `RunSettings()` (a full run: 4 chains x 1000 tuning + 1000
+draws, its target_accept and the default seed).
 """
 
 from __future__ import annotations
@@ -54,19 +54,33 @@ def gate_figures(idata, names) -> dict:
             "divergences": gate.divergences}
 
 
-def bench_pymc(site, data, before, settings) -> dict:
+def joint_inputs(site, data):
+    """Priors and cover layout exactly as `assess.site.materials.update_site` builds them."""
+    from assess.site.cover_layers import cover_layout
+    from assess.site.knowledge import design_knowledge, update_priors
+
+    layout = cover_layout(site, data["cover"])
+    before = design_knowledge(site)
+    for zone in site.zones:
+        before[zone]["cover"] = layout.before_local[zone][(None, layout.main_face(zone))]["cover"]
+    return update_priors(before), layout
+
+
+def bench_pymc(site, data, settings) -> dict:
     from assess.site.materials import _build_joint_model
     from assess.updating.models import free_parameter_names, sample_posterior
 
     start = time.perf_counter()
-    joint = _build_joint_model(site, data, before)
+    priors, layout = joint_inputs(site, data)
+    joint = _build_joint_model(site, data, priors, layout)
     built = time.perf_counter()
     joint.compile_logp()
     joint.compile_dlogp()
     compiled = time.perf_counter()
-    idata = sample_posterior(joint, draws=settings.draws, tune=settings.tune,
-                             chains=settings.chains, seed=settings.seed,
-                             target_accept=settings.target_accept, sampler="pymc")
+    fit = settings.fit("materials")
+    idata = sample_posterior(joint, draws=fit.draws, tune=fit.tune, chains=fit.chains,
+                             seed=settings.seed, target_accept=fit.target_accept,
+                             sampler="pymc")
     done = time.perf_counter()
     sampling = float(idata.posterior.attrs["sampling_time"])
     row = {"build": built - start, "compile": compiled - built, "sample_call": done - compiled,
@@ -80,13 +94,13 @@ def bench_nutpie(joint, settings) -> dict:
 
     from assess.updating.models import free_parameter_names
 
+    fit = settings.fit("materials")
     start = time.perf_counter()
     compiled_model = nutpie.compile_pymc_model(joint, backend="numba")
     compiled = time.perf_counter()
-    idata = nutpie.sample(compiled_model, draws=settings.draws, tune=settings.tune,
-                          chains=settings.chains, cores=min(settings.chains, os.cpu_count() or 1),
-                          seed=settings.seed, target_accept=settings.target_accept,
-                          progress_bar=False)
+    idata = nutpie.sample(compiled_model, draws=fit.draws, tune=fit.tune, chains=fit.chains,
+                          cores=min(fit.chains, os.cpu_count() or 1), seed=settings.seed,
+                          target_accept=fit.target_accept, progress_bar=False)
     done = time.perf_counter()
     row = {"build": float("nan"), "compile": compiled - start, "sample_call": done - compiled,
            "sampling": done - compiled, "overhead": 0.0}
@@ -112,21 +126,22 @@ def main() -> None:
         logging.getLogger(name).setLevel(logging.ERROR)
 
     from assess.site.before_after import assess_members
-    from assess.site.knowledge import design_knowledge
-    from assess.site.materials import UpdateSettings, collect_data, update_site
+    from assess.site.materials import apply_exclusions, collect_data, update_site
+    from assess.site.settings import RunSettings
     from inspection_io.ledger import Ledger
     from inspection_io.site import load_site
 
-    settings = UpdateSettings()
+    settings = RunSettings()
+    fit = settings.fit("materials")
     with tempfile.TemporaryDirectory(prefix="bench-update-") as tmp:
         root = Path(tmp)
         site = load_site(fresh_copy(root, "sampler"))
-        before = design_knowledge(site)
         with Ledger(site.folder / "ledger.sqlite") as ledger:
-            data = collect_data(ledger, None, settings.include_flagged)
+            data = collect_data(ledger, None, ())
+        data, _ = apply_exclusions(data, getattr(site, "exclude", None))
         n_obs = sum(len(df) for df in data.values())
 
-        pymc_row, joint = bench_pymc(site, data, before, settings)
+        pymc_row, joint = bench_pymc(site, data, settings)
         nutpie_row = bench_nutpie(joint, settings)
 
         cli_folder = fresh_copy(root, "cli")
@@ -135,14 +150,15 @@ def main() -> None:
 
         cli_site = load_site(cli_folder)
         start = time.perf_counter()
-        update = update_site(cli_site, settings=settings, record=False)
+        update = update_site(cli_site, settings=settings)
         loaded = time.perf_counter()
-        assess_members(cli_site, update, options={"n_per_level": 1000})
+        assess_members(cli_site, update, method=settings.method, seed=settings.seed,
+                       options=settings.reliability_options)
         table_done = time.perf_counter()
 
     print(f"Demo site: {len(site.zones)} zones, {n_obs} observations, "
-          f"{len(joint.free_RVs)} free variables; {settings.chains} chains x "
-          f"({settings.tune} tune + {settings.draws} draws); os.cpu_count() = {os.cpu_count()}")
+          f"{len(joint.free_RVs)} free variables; {fit.chains} chains x "
+          f"({fit.tune} tune + {fit.draws} draws); os.cpu_count() = {os.cpu_count()}")
     print()
     header = (f"{'sampler':<8} {'build s':>8} {'compile s':>10} {'sample() s':>11} "
               f"{'of which sampling s':>20} {'min bulk ESS':>13} {'ESS/s':>7} {'gate':>6} "
