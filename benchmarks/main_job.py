@@ -29,6 +29,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 import assess.reliability.subset as subset  # noqa: E402
+import assess.report.figure_cache as figure_cache  # noqa: E402
 import assess.site.result_cache as result_cache  # noqa: E402
 import assess.updating.cache as posterior_cache  # noqa: E402
 from assess.report.job import run_and_report  # noqa: E402
@@ -40,6 +41,7 @@ COUNTS = {
     "posteriors read": 0,
     "subset-simulation runs": 0,
     "reliability results read": 0,
+    "report figures drawn (not read from results/figures)": 0,
 }
 
 
@@ -49,6 +51,7 @@ def counting() -> None:
     read = posterior_cache.read_posterior
     run_subset = subset._subset
     decode = result_cache.decode_result
+    render = figure_cache.render_png
 
     def sample_counted(*args, **kwargs):
         COUNTS["fits sampled (compilations)"] += 1
@@ -66,10 +69,15 @@ def counting() -> None:
         COUNTS["reliability results read"] += 1
         return decode(*args, **kwargs)
 
+    def render_counted(*args, **kwargs):
+        COUNTS["report figures drawn (not read from results/figures)"] += 1
+        return render(*args, **kwargs)
+
     posterior_cache._sample_naming_the_fit = sample_counted
     posterior_cache.read_posterior = read_counted
     subset._subset = subset_counted
     result_cache.decode_result = decode_counted
+    figure_cache.render_png = render_counted
 
 
 def timed_run(folder: Path, settings: RunSettings) -> tuple[float, dict, dict]:
@@ -121,7 +129,7 @@ def main() -> None:
     print(f"{'total':50s} {cold:8.1f} {warm:8.1f}")
     print()
     for key in COUNTS:
-        print(f"{key:50s} {cold_counts[key]:8d} {warm_counts[key]:8d}")
+        print(f"{key[:50]:50s} {cold_counts[key]:8d} {warm_counts[key]:8d}")
 
 
 if __name__ == "__main__":
