@@ -3,8 +3,8 @@
 Cold: a fresh copy of the demo site (no stored posterior or reliability result: every
 MCMC fit is compiled and sampled, every reliability run made). Warm: the same folder
 again (posteriors, reliability results and the report's figures read from ``results/``;
-the report is written again). PyTensor's compile cache on disk is not cleared, as on an engineer's machine
-after the first use.
+the report is written again). PyTensor's compile cache on disk is not cleared, as on an
+engineer's machine after the first use.
 
     python benchmarks/main_job.py [--quick] [--method subset_simulation]
 
