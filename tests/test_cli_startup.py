@@ -47,3 +47,19 @@ def test_beta_and_pf_conversions_equal_scipy_norm():
         assert beta_from_pf(pf) == stats.norm.isf(pf)
     for beta in [-np.inf, -3.0, 0.0, 1.5, 4.2, 9.0, 38.0, np.inf]:
         assert pf_from_beta(beta) == stats.norm.sf(beta)
+
+
+def test_help_of_the_command_line_and_of_solve_loads_no_heavy_library():
+    # the --help paths run typer's parser and help formatter; neither may pull the heavy
+    # libraries (issue 17: these paths are the ones an engineer starts with)
+    for argv in (["--help"], ["solve", "--help"], ["site", "--help"]):
+        code = (
+            "import json, sys; from assess.cli import main; sys.argv = ['assess', *"
+            f"{argv!r}]\ntry:\n    main()\nexcept SystemExit:\n    pass\n"
+            f"print(json.dumps(sorted(m for m in {list(HEAVY)!r} if m in sys.modules)))"
+        )
+        out = subprocess.run(
+            [sys.executable, "-c", code], cwd=ROOT, capture_output=True, text=True, check=True
+        )
+        assert "Usage" in out.stdout, argv
+        assert json.loads(out.stdout.strip().splitlines()[-1]) == [], argv

@@ -13,12 +13,13 @@ import assess
 from assess.beta_text import interval_text
 from assess.reliability.result import format_beta
 from assess.report.document import ReportDocument, Tag
+from assess.report.figure_cache import Drawing, png_of
 from assess.report.figures import (
-    before_after_figure,
-    drivers_figure,
-    life_figure,
-    prior_posterior_figures,
-    worth_figure,
+    before_after_drawing,
+    drivers_drawing,
+    life_drawing,
+    prior_posterior_drawings,
+    worth_drawing,
 )
 from assess.report.summary import (
     VERDICT_TONES,
@@ -33,6 +34,19 @@ KIND_TITLES = {"cores": "Cores (in-situ strength)", "tensile": "Rebar tensile te
                "cover": "Cover survey", "carbonation": "Carbonation depths",
                "chloride": "Chloride profiles", "halfcell": "Half-cell potentials",
                "section_loss": "Section loss at break-outs"}
+
+#: Quantities whose prior and posterior densities are drawn in the report.
+REPORT_DENSITIES = ("concrete", "area_ratio")
+#: Resolution of the report's figures [dots per inch].
+FIGURE_DPI = 110
+
+
+def _add_drawing(sec, run, drawing: Drawing, *, caption: str) -> None:
+    """Embed a figure, read from the site's figure store when it was drawn before with the
+    same inputs (`assess.report.figure_cache`)."""
+    folder = getattr(run.site, "folder", None)
+    sec.add_png(png_of(drawing, dpi=FIGURE_DPI, site_folder=folder), caption=caption)
+
 
 NO_TEST_DATA = ("No test data has been used yet: every result in this report rests on the design "
                 "information and the published priors alone ('before' and 'after' are the same). "
@@ -254,14 +268,11 @@ def _section_knowledge(doc, run) -> dict:
     notes = update.notes() if hasattr(update, "notes") else []
     if notes:
         sec.add_notice(notes, title="Flagged tests used and tests excluded by the engineer")
-    for (name, zone), fig in prior_posterior_figures(update).items():
-        if name in ("concrete", "area_ratio"):
-            sec.add_figure(fig, caption=f"{LABELS[name][0]}, zone {zone}: design prior and "
-                                        "posterior predictive, with the test results as ticks")
-        else:
-            import matplotlib.pyplot as plt
-
-            plt.close(fig)
+    # Only these quantities are drawn in the report (the others are in the table above).
+    for (name, zone), drawing in prior_posterior_drawings(update, REPORT_DENSITIES).items():
+        _add_drawing(sec, run, drawing,
+                     caption=f"{LABELS[name][0]}, zone {zone}: design prior and posterior "
+                             "predictive, with the test results as ticks")
     from assess.updating.measurement_error import measurement_table
 
     errors = measurement_table()
@@ -307,8 +318,9 @@ def _section_members(doc, run) -> list:
                                 f"{period} reference period",
                   formats={"Coefficient of variation of the pf estimate after [-]": ".2f"},
                   marked=[r.verdict == "below target" for r in a.results])
-    sec.add_figure(before_after_figure(a), caption=f"Beta before and after updating, with the "
-                                                   f"target ({period} reference period)")
+    _add_drawing(sec, run, before_after_drawing(a),
+                 caption=f"Beta before and after updating, with the target ({period} "
+                         "reference period)")
     if a.notes:
         sec.add_notice(a.notes, title="Modes not covered and assumptions")
     return [r.to_dict() for r in a.results]
@@ -331,9 +343,10 @@ def _section_life(doc, run) -> object:
                                     "below the annual target)",
                       marked=[c.remaining_life.status == "already below target"
                               for c in life.main])
-        sec.add_figure(life_figure(life), caption="Annual beta per year against the annual "
-                       "target (1-year reference period); shaded: the parameter band (5-95 % "
-                       "over the posterior parameters); dashed: the sampling band of the estimate")
+        _add_drawing(sec, run, life_drawing(life),
+                     caption="Annual beta per year against the annual target (1-year reference "
+                             "period); shaded: the parameter band (5-95 % over the posterior "
+                             "parameters); dashed: the sampling band of the estimate")
     _half_cell_effect_table(sec, life)
     return life.to_dict()
 
@@ -388,9 +401,9 @@ def _section_worth(doc, run) -> object:
     if rows:
         sec.add_table(rows, caption="Candidate test programmes ranked by net value",
                       formats={k: ",.0f" for k in rows[0] if k.endswith(f"[{currency}]")})
-        sec.add_figure(worth_figure(worth),
-                       caption=f"Beta over the {horizon}-year horizon each programme could "
-                               f"lead to, against the {horizon}-year target")
+        _add_drawing(sec, run, worth_drawing(worth),
+                     caption=f"Beta over the {horizon}-year horizon each programme could "
+                             f"lead to, against the {horizon}-year target")
     if worth.recommendation:
         sec.add_paragraph(worth.recommendation)
     _population_shares(sec, getattr(worth, "population_shares", None))
@@ -463,9 +476,9 @@ def _section_drivers(doc, run):
                                 "simulation), Sobol indices of the safety margin from a "
                                 "polynomial-chaos expansion",
                   formats={k: ".2f" for k in rows[0] if k.endswith("[-]")} if rows else None)
-    sec.add_figure(drivers_figure(drivers, variable_words, top=top),
-                   caption="Importance factor and total Sobol index of the largest "
-                           "shares, per member (governing mode)")
+    _add_drawing(sec, run, drivers_drawing(drivers, variable_words, top=top),
+                 caption="Importance factor and total Sobol index of the largest "
+                         "shares, per member (governing mode)")
     notes = [f"{d.member} {d.mode}: {d.note}" for d in drivers if d.note]
     notes += [f"{d.member} {d.mode}: importance factors from the {d.importance_source}"
               for d in drivers if d.importance_source
@@ -497,8 +510,9 @@ def _section_history(doc, run) -> list:
     period = f"{history[-1].assessment.reference_period_years:g}-year"
     sec.add_table(rows, caption=f"Beta after updating per campaign ({period} reference period)")
     target = history[-1].assessment.target.beta
-    sec.add_figure(plot_beta_history([h.date for h in history], series, target, period=period),
-                   caption=f"Beta per member at each campaign, with the target ({period})")
+    _add_drawing(sec, run, Drawing(plot_beta_history, ([h.date for h in history], series,
+                                                        target), dict(period=period)),
+                 caption=f"Beta per member at each campaign, with the target ({period})")
     return [row for h in history for row in h.rows()]
 
 

@@ -18,7 +18,6 @@ import base64
 import dataclasses
 import datetime as _dt
 import html
-import io
 import math
 import numbers
 import re
@@ -347,14 +346,26 @@ class Section:
         if not hasattr(figure, "savefig"):
             raise InputError(f"add_figure expects a matplotlib Figure, got {type(figure).__name__}.",
                              column="figure")
-        buffer = io.BytesIO()
-        figure.savefig(buffer, format="png", dpi=dpi, facecolor="white")
-        png = buffer.getvalue()
+        from assess.report.figure_cache import render_png
+
+        png = render_png(figure, dpi)
         width_px = int(round(figure.get_figwidth() * dpi))
         pyplot = sys.modules.get("matplotlib.pyplot")  # only pyplot-made figures need closing
         if close and pyplot is not None:
             pyplot.close(figure)
         self.blocks.append(_Figure(png, str(caption), width_px))
+        return self
+
+    def add_png(self, png: bytes, *, caption: str) -> Section:
+        """Embed a PNG image (e.g. `assess.report.figure_cache.png_of`) with a numbered
+        caption, shown at most at its own width [px]."""
+        from assess.report.figure_cache import png_width
+
+        try:
+            width_px = png_width(bytes(png))
+        except ValueError:
+            raise InputError("add_png expects the bytes of a PNG image.", column="png") from None
+        self.blocks.append(_Figure(bytes(png), str(caption), width_px))
         return self
 
     def add_notice(self, messages: str | Sequence[str], *, title: str = "Note",

@@ -12,6 +12,7 @@ from pathlib import Path
 from typing import Callable
 
 from assess.pipeline import run_site
+from assess.report import figure_cache
 from assess.report.assemble import build_report
 from assess.report.writer import recover_unfinished_reports, write_report
 from assess.site import result_cache
@@ -44,6 +45,7 @@ def run_and_report(folder: Path, settings: RunSettings | None = None, *,
         recover_unfinished_reports([reports_folder(folder)], older_than=0)
         clean_stale_temporaries(folder)
         result_cache.clean_stale_temporaries(folder)
+        figure_cache.clean_stale_temporaries(folder)
         run = run_site(folder, settings, say=say)
         if say:
             say("Writing the report")
