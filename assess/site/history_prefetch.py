@@ -79,7 +79,9 @@ def start_cutoff_prefetch(site, settings: RunSettings) -> CutoffPrefetch | None:
     if not dates:
         return None
     process = dying_context().Process(
-        target=fit_cutoffs, args=(str(site.folder), settings, dates), daemon=True,
+        target=fit_cutoffs,
+        args=(str(site.folder), settings, dates),
+        daemon=True,
         name="assess-history-fits",
     )
     process.start()
@@ -104,5 +106,4 @@ def fit_cutoffs(folder: str, settings: RunSettings, until_dates: list[dt.date]) 
             continue  # the history step meets the same failure itself and reports it
 
 
-__all__ = ["CutoffPrefetch", "WAIT_SECONDS", "cutoff_dates", "fit_cutoffs",
-           "start_cutoff_prefetch"]
+__all__ = ["CutoffPrefetch", "WAIT_SECONDS", "cutoff_dates", "fit_cutoffs", "start_cutoff_prefetch"]
