@@ -46,9 +46,10 @@ def demo_site(tmp_path_factory):
     return folder
 
 
-CACHE_FOLDERS = (Path("results") / "posteriors", Path("results") / "reliability")
+CACHE_FOLDERS = tuple(Path("results") / part for part in ("posteriors", "reliability", "figures"))
 """Content-addressed caches of a site folder (`assess.updating.cache`,
-`assess.site.result_cache`): a file there is found only by the hash of its inputs."""
+`assess.site.result_cache`, `assess.report.figure_cache`): a file there is found only by the
+hash of its inputs."""
 
 
 def _copy_caches(source, folder) -> None:
