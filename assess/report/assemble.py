@@ -44,7 +44,7 @@ FIGURE_DPI = 110
 def _add_drawing(sec, run, drawing: Drawing, *, caption: str) -> None:
     """Embed a figure, read from the site's figure store when it was drawn before with the
     same inputs (`assess.report.figure_cache`)."""
-    folder = getattr(run.site, "folder", None)
+    folder = getattr(getattr(run, "site", None), "folder", None)
     sec.add_png(png_of(drawing, dpi=FIGURE_DPI, site_folder=folder), caption=caption)
 
 
